@@ -1,1 +1,35 @@
-//! placeholder
+//! # kzero-bethe: hydrogenic Bethe logarithms
+//!
+//! ln k0(n, l) for any hydrogenic state with n <= 200, by two independent
+//! methods:
+//!
+//! * [`green`]: the integral over the virtual-photon energy with the Coulomb
+//!   Green's function in its Sturmian representation (the default);
+//! * [`spectral`]: the explicit sum over the bound and continuum spectrum, in
+//!   the velocity, length and acceleration forms.
+//!
+//! ## Definition and units
+//! ln k0(n,l) = S / D0 with S = sum_m |<n l|p|m>|^2 (E_m - E_n) ln(|E_m - E_n| / (Z^2 Ry))
+//! and D0 = 2 Z^4 / n^3 for every l. The result does not depend on Z; all
+//! computations run at Z = 1 (atomic units, infinite nuclear mass).
+//!
+//! ## Accuracy contract
+//! [`Settings::digits`] = D asks for an absolute error below 10^-D. Each
+//! result carries `abs_err`, an *estimate* of the actual error obtained by
+//! refinement: the computation is repeated with more quadrature nodes, more
+//! series terms and more working bits, and the difference (times a safety
+//! factor) is the estimate. A result whose estimate does not meet the goal is
+//! returned as [`BetheError::NoConvergence`], never as a number. Working
+//! precision is chosen from D plus guard bits that the methods measure at the
+//! given (n, l) (cancellation grows with n).
+#![deny(missing_docs)]
+
+pub mod error;
+pub mod green;
+pub mod settings;
+pub mod spectral;
+pub mod value;
+
+pub use error::BetheError;
+pub use settings::Settings;
+pub use value::{BetheValue, Gauge, Method};

@@ -1,0 +1,67 @@
+//! Typed errors of the Bethe-logarithm crate.
+
+use kzero_basis::BasisError;
+use thiserror::Error;
+
+/// Everything that can go wrong when computing a Bethe logarithm.
+#[derive(Debug, Clone, PartialEq, Error)]
+#[non_exhaustive]
+pub enum BetheError {
+    /// (n, l) is not a bound state: needs n >= 1 and 0 <= l < n.
+    #[error("invalid state (n={n}, l={l}): need n >= 1 and 0 <= l < n")]
+    InvalidState {
+        /// n as given.
+        n: i64,
+        /// l as given.
+        l: i64,
+    },
+    /// n beyond the range this method supports.
+    #[error("n = {n} is outside the supported range 1 <= n <= {max} of the {method} method")]
+    OutOfRange {
+        /// n as given.
+        n: u32,
+        /// Largest supported n.
+        max: u32,
+        /// Method name.
+        method: &'static str,
+    },
+    /// Requested digits outside the accepted range.
+    #[error("--digits {digits} is outside the accepted range {min}..={max}")]
+    DigitsOutOfRange {
+        /// Digits as given.
+        digits: u32,
+        /// Smallest accepted.
+        min: u32,
+        /// Largest accepted.
+        max: u32,
+    },
+    /// Refinement did not reach the requested accuracy.
+    #[error("{method} method did not converge for (n={n}, l={l}): estimated error {achieved:.1e} > goal {goal:.1e}")]
+    NoConvergence {
+        /// Method name.
+        method: &'static str,
+        /// State.
+        n: u32,
+        /// State.
+        l: u32,
+        /// Best error estimate reached.
+        achieved: f64,
+        /// Requested absolute error.
+        goal: f64,
+    },
+    /// A gauge that is not available for this class of states.
+    #[error("the {gauge} form is not available for (n={n}, l={l}): {reason}")]
+    GaugeUnsupported {
+        /// Gauge name.
+        gauge: &'static str,
+        /// State.
+        n: u32,
+        /// State.
+        l: u32,
+        /// Why.
+        reason: String,
+    },
+    /// An error from the basis crate.
+    #[error(transparent)]
+    Basis(#[from] BasisError),
+}

@@ -1,0 +1,1 @@
+//! Green (in progress).

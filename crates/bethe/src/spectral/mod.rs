@@ -1,0 +1,1 @@
+//! Explicit sum over the spectrum (in progress).
