@@ -25,9 +25,13 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod constants;
+pub mod dipole;
 pub mod error;
 pub mod exact;
+pub mod gordon;
 pub mod gradient;
+pub mod oscillator;
 pub mod radial;
 pub mod state;
 pub mod sturmian;
