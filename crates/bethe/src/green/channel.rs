@@ -1,0 +1,100 @@
+//! One intermediate partial wave L = l +- 1 of p|n l>: its Sturmian
+//! expansion, its angular weight and the lower bound states that put poles on
+//! the photon-energy path.
+
+use kzero_basis::gradient::{gradient_function, Channel as Dir};
+use kzero_basis::radial::radial_integral;
+use kzero_basis::sturmian::matched_expansion;
+use kzero_basis::BoundState;
+use rug::{Float, Rational};
+
+use crate::BetheError;
+
+/// A lower bound state |n' L> (E_n' < E_n): its term c D / (D + w) is
+/// subtracted from the integrand and its contribution c D ln|D| added exactly.
+#[derive(Debug, Clone)]
+pub struct Pole {
+    /// Principal quantum number n' < n.
+    pub nprime: u32,
+    /// c = weight * |<n' L| p |n l>|^2 (exact).
+    pub c: Rational,
+    /// D = E_n' - E_n < 0 (hartree, exact).
+    pub d: Rational,
+}
+
+/// Exact data of one channel (independent of the photon energy).
+#[derive(Debug, Clone)]
+pub struct ChannelData {
+    /// Intermediate angular momentum L.
+    pub big_l: u32,
+    /// Meixner parameter beta = 2L + 2.
+    pub beta: u32,
+    /// Angular weight (l+1)/(2l+1) or l/(2l+1).
+    pub weight: Rational,
+    /// Expansion coefficients coef_i of g_L in matched Sturmians (see
+    /// `kzero_basis::sturmian::MatchedExpansion`).
+    pub coef: Vec<Rational>,
+    /// S2 = radicand / (2L+1)!: J_L = nu * S2 * T(nu).
+    pub s2: Rational,
+    /// Lower states of this channel.
+    pub poles: Vec<Pole>,
+}
+
+/// Builds the exact data for every open channel of |n l> (Z = 1).
+///
+/// # Errors
+/// Propagates basis-crate errors (none for valid states).
+pub fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
+    let st = BoundState::hydrogen(i64::from(n), i64::from(l))?;
+    let mut out = Vec::new();
+    for dir in Dir::open(l) {
+        let big_l = dir.big_l(l);
+        let g = gradient_function(&st, dir)?;
+        let exp = matched_expansion(&g, big_l)?;
+        let alpha = 2 * big_l + 1;
+        let s2 = Rational::from(&exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha)));
+        let mut poles = Vec::new();
+        for np in (big_l + 1)..n {
+            let lower = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
+            let r = radial_integral(&lower, &st, 1)?;
+            let d = Rational::from(lower.energy() - st.energy());
+            // |p|^2 = D^2 |r|^2 (radial), times the angular weight
+            let c = Rational::from(&d * &d) * r.square() * dir.weight(l);
+            poles.push(Pole { nprime: np, c, d });
+        }
+        out.push(ChannelData {
+            big_l,
+            beta: 2 * big_l + 2,
+            weight: dir.weight(l),
+            coef: exp.coef,
+            s2,
+            poles,
+        });
+    }
+    Ok(out)
+}
+
+/// The channel data rounded to a working precision.
+#[derive(Debug, Clone)]
+pub struct ChannelFloat {
+    /// L.
+    pub big_l: u32,
+    /// beta = 2L+2.
+    pub beta: u32,
+    /// weight * S2.
+    pub ws2: Float,
+    /// coef_i.
+    pub coef: Vec<Float>,
+}
+
+impl ChannelFloat {
+    /// Rounds `c` to `prec` bits.
+    pub fn new(c: &ChannelData, prec: u32) -> Self {
+        ChannelFloat {
+            big_l: c.big_l,
+            beta: c.beta,
+            ws2: Float::with_val(prec, Rational::from(&c.weight * &c.s2)),
+            coef: c.coef.iter().map(|q| Float::with_val(prec, q)).collect(),
+        }
+    }
+}

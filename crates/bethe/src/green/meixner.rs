@@ -1,0 +1,250 @@
+//! The Sturmian sum of one channel at one photon energy, in closed form.
+//!
+//! At E = E_n - w = -1/(2 nu^2) (Z = 1), with tau = (nu - n)/(nu + n),
+//! z = tau^2, beta = 2L+2 and a = L + 1 - nu, the overlaps of g_L with the
+//! Sturmians of scale nu are O_k = sqrt(S2 (1-z)^beta (beta)_k/k!) tau^k P(k)
+//! with P(k) = sum_i coef_i (-tau)^i M_i(k; beta, z) (Meixner polynomials), so
+//!
+//! ```text
+//! J_L(nu) = nu * S2 * T,   T = sum_k w_k P(k)^2 / (k + a),   w_k = (1-z)^beta z^k (beta)_k / k!
+//! ```
+//!
+//! By orthogonality, sum_k w_k M_i M_j / (k+a) = M_i(-a) rho_j for i <= j, with
+//! rho_j = sum_k w_k M_j(k) / (k+a) the functions of the second kind, so T
+//! costs O(M) once rho_0 = m(a) is known ([`super::stieltjes`]). Both M_i(-a)
+//! and rho_i obey the Meixner three-term recurrence; rho is computed forward
+//! when z is close to 1 and by backward (Miller) recurrence otherwise.
+
+use super::channel::ChannelFloat;
+use super::meter::Meter;
+use super::stieltjes::{meixner_stieltjes, ZPoint};
+use rug::Float;
+
+/// Photon-energy point data for the node nu (shared by both channels).
+#[derive(Debug, Clone)]
+pub struct NuPoint {
+    /// nu (bohr-like scale of the Sturmians), 0 < nu < n.
+    pub nu: Float,
+    /// tau = (nu - n)/(nu + n).
+    pub tau: Float,
+    /// z, 1 - z and mu = -ln z.
+    pub zp: ZPoint,
+}
+
+impl NuPoint {
+    /// Builds the point for state principal number `n` without cancellation:
+    /// 1 - z = 4 n nu / (n + nu)^2, mu = 2 ln((n + nu)/(n - nu)).
+    pub fn new(n: u32, nu: &Float) -> Self {
+        let prec = nu.prec();
+        let np = Float::with_val(prec, nu + n);
+        let nm = Float::with_val(prec, nu - n);
+        let tau = Float::with_val(prec, &nm / &np);
+        let z = Float::with_val(prec, &tau * &tau);
+        let one_minus_z = Float::with_val(prec, nu * 4u32) * n / Float::with_val(prec, &np * &np);
+        let mu = Float::with_val(prec, (Float::with_val(prec, &np / -nm)).ln()) * 2u32;
+        NuPoint {
+            nu: nu.clone(),
+            tau,
+            zp: ZPoint {
+                z,
+                one_minus_z,
+                mu,
+            },
+        }
+    }
+}
+
+/// J_L at one node, with the coefficient of -ln(mu) separated:
+/// J = regular - log_coef * ln(mu) (log_coef is 0 when z < Z_SERIES).
+#[derive(Debug, Clone)]
+pub struct JValue {
+    /// weight * J_L(nu).
+    pub j: Float,
+    /// weight * (coefficient of -ln mu in J_L).
+    pub log_coef: Float,
+}
+
+/// Recurrence coefficient b_i = i + (i+beta) z + (1-z) a.
+fn rec_b(i: usize, beta: u32, a: &Float, pt: &ZPoint) -> Float {
+    let prec = a.prec();
+    let mut b = Float::with_val(prec, &pt.z * (i as u32 + beta));
+    b += i as u32;
+    b += Float::with_val(prec, &pt.one_minus_z * a);
+    b
+}
+
+/// weight * J_L(nu) for one channel.
+///
+/// # Accuracy
+/// Cancellation (in m(a), in the forward recurrence and in the final sum) is
+/// recorded in `meter`; the result carries about prec - meter.loss_bits bits.
+pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
+    let prec = p.nu.prec();
+    let beta = ch.beta;
+    let zp = &p.zp;
+    let a = Float::with_val(prec, (ch.big_l + 1) as u32 - Float::with_val(prec, &p.nu));
+    let m = ch.coef.len();
+    if m == 0 {
+        return JValue {
+            j: Float::with_val(prec, 0),
+            log_coef: Float::with_val(prec, 0),
+        };
+    }
+    // eta_i = coef_i (-tau)^i
+    let mtau = Float::with_val(prec, -&p.tau);
+    let mut eta = Vec::with_capacity(m);
+    let mut pw = Float::with_val(prec, 1);
+    for c in &ch.coef {
+        eta.push(Float::with_val(prec, c * &pw));
+        pw *= &mtau;
+    }
+    // M_i(-a): M_0 = 1, M_1 = 1 + a (1-z)/(z beta)
+    let zb = Float::with_val(prec, &zp.z * beta);
+    let mut mm = Vec::with_capacity(m);
+    mm.push(Float::with_val(prec, 1));
+    if m > 1 {
+        let m1 = Float::with_val(prec, Float::with_val(prec, &a * &zp.one_minus_z) / &zb) + 1u32;
+        mm.push(m1);
+    }
+    for i in 1..m.saturating_sub(1) {
+        let b = rec_b(i, beta, &a, zp);
+        let num = Float::with_val(prec, &b * &mm[i]) - Float::with_val(prec, &mm[i - 1] * i as u32);
+        let den = Float::with_val(prec, &zp.z * (i as u32 + beta));
+        mm.push(num / den);
+    }
+    // rho_0 = m(a)
+    let st = meixner_stieltjes(beta, &a, zp, meter);
+    let rho = second_kind(beta, &a, zp, &st.value, m, meter);
+    // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i
+    let mut s_prev = Float::with_val(prec, 0);
+    let mut t = Float::with_val(prec, 0);
+    for j in 0..m {
+        let em = Float::with_val(prec, &eta[j] * &mm[j]);
+        let inner = Float::with_val(prec, &em + Float::with_val(prec, &s_prev * 2u32));
+        let term = Float::with_val(prec, &eta[j] * &rho[j]) * inner;
+        meter.term(&term);
+        t += term;
+        s_prev += em;
+    }
+    meter.result(&t);
+    // P(-a) = S_{M}; log part of T = P(-a)^2 * log_coef(m)
+    let p2 = Float::with_val(prec, &s_prev * &s_prev);
+    let scale = Float::with_val(prec, &ch.ws2 * &p.nu);
+    JValue {
+        j: Float::with_val(prec, &t * &scale),
+        log_coef: Float::with_val(prec, p2 * &st.log_coef) * scale,
+    }
+}
+
+/// rho_i, i = 0..m, from rho_0 = m(a): forward recurrence when it is stable
+/// enough (z near 1), backward (Miller) recurrence normalized to rho_0 otherwise.
+fn second_kind(
+    beta: u32,
+    a: &Float,
+    zp: &ZPoint,
+    rho0: &Float,
+    m: usize,
+    meter: &mut Meter,
+) -> Vec<Float> {
+    let prec = a.prec();
+    let lz = -zp.z.to_f64().log2();
+    let forward_loss = lz * m as f64;
+    let mut rho = Vec::with_capacity(m);
+    rho.push(rho0.clone());
+    if m == 1 {
+        return rho;
+    }
+    let zb = Float::with_val(prec, &zp.z * beta);
+    if forward_loss <= 24.0 {
+        // rho_1 = rho_0 - (1-z)(1 - a rho_0)/(z beta)
+        let one_m_arho = Float::with_val(prec, 1u32 - Float::with_val(prec, a * rho0));
+        let r1 = Float::with_val(prec, rho0 - Float::with_val(prec, &zp.one_minus_z * &one_m_arho) / &zb);
+        meter.term(rho0);
+        meter.result(&r1);
+        rho.push(r1);
+        for i in 1..m - 1 {
+            let b = rec_b(i, beta, a, zp);
+            let x = Float::with_val(prec, &b * &rho[i]);
+            let y = Float::with_val(prec, &rho[i - 1] * i as u32);
+            meter.term(&x);
+            let num = Float::with_val(prec, &x - &y);
+            meter.result(&num);
+            rho.push(num / Float::with_val(prec, &zp.z * (i as u32 + beta)));
+        }
+        return rho;
+    }
+    // Miller: start far above m, recur down, normalize to rho_0.
+    let extra = ((prec as f64 + 40.0) / lz.max(1e-6)).ceil() as usize + 16;
+    let top = m + extra;
+    let mut y_hi = Float::with_val(prec, 0); // y_{i+1}
+    let mut y = Float::with_val(prec, 1); // y_i, starting at i = top
+    let mut store: Vec<Float> = vec![Float::with_val(prec, 0); m];
+    for i in (1..=top).rev() {
+        if i < m {
+            store[i] = y.clone();
+        }
+        // y_{i-1} = (b_i y_i - z (i+beta) y_{i+1}) / i
+        let b = rec_b(i, beta, a, zp);
+        let prev = (Float::with_val(prec, &b * &y)
+            - Float::with_val(prec, &y_hi * &zp.z) * (i as u32 + beta))
+            / i as u32;
+        y_hi = y;
+        y = prev;
+    }
+    let norm = Float::with_val(prec, rho0 / &y);
+    for v in store.iter().skip(1) {
+        rho.push(Float::with_val(prec, v * &norm));
+    }
+    rho
+}
+
+/// Reference evaluation by direct summation over k of the overlaps (no
+/// closed form, no recurrence); cost O(K M). Used to test [`channel_j`].
+pub fn channel_j_direct(ch: &ChannelFloat, p: &NuPoint, kmax: usize) -> Float {
+    let prec = p.nu.prec();
+    let beta = ch.beta;
+    let zp = &p.zp;
+    let m = ch.coef.len();
+    let a = Float::with_val(prec, (ch.big_l + 1) as u32 - Float::with_val(prec, &p.nu));
+    let mtau = Float::with_val(prec, -&p.tau);
+    // B''_j = sum_i coef_i C(i,j) (-tau)^(i-j); v_j = j! (1-z)^j B''_j / (beta)_j
+    let mut v = Vec::with_capacity(m);
+    let mut fact_over_poch = Float::with_val(prec, 1); // j!/(beta)_j
+    let mut omz_pow = Float::with_val(prec, 1);
+    for j in 0..m {
+        let mut b = Float::with_val(prec, 0);
+        let mut pw = Float::with_val(prec, 1);
+        let mut binom = rug::Integer::from(1);
+        for i in j..m {
+            b += Float::with_val(prec, &ch.coef[i] * &pw) * &binom;
+            pw *= &mtau;
+            binom *= (i + 1) as u32;
+            binom /= (i + 1 - j) as u32;
+        }
+        v.push(Float::with_val(prec, &b * &fact_over_poch) * &omz_pow);
+        fact_over_poch *= (j + 1) as u32;
+        fact_over_poch /= beta + j as u32;
+        omz_pow *= &zp.one_minus_z;
+    }
+    // u_k = sum_j C(k,j) tau^(k-j) v_j ; sum_k (beta)_k/k! u_k^2 /(k+a)
+    let mut sum = Float::with_val(prec, 0);
+    let mut wk = Float::with_val(prec, 1); // (beta)_k / k!
+    for k in 0..kmax {
+        let mut u = Float::with_val(prec, 0);
+        let mut binom = rug::Integer::from(1);
+        for (j, vj) in v.iter().enumerate().take(k.min(m - 1) + 1) {
+            let tp = Float::with_val(prec, p.tau.clone().pow((k - j) as u32));
+            u += Float::with_val(prec, vj * &tp) * &binom;
+            binom *= (k - j) as u32;
+            binom /= (j + 1) as u32;
+        }
+        let term = Float::with_val(prec, &u * &u) * &wk / Float::with_val(prec, &a + k as u32);
+        sum += term;
+        wk *= beta + k as u32;
+        wk /= (k + 1) as u32;
+    }
+    let omz_beta = Float::with_val(prec, zp.one_minus_z.clone().pow(beta));
+    sum * omz_beta * &ch.ws2 * &p.nu
+}
+
+use rug::ops::Pow;

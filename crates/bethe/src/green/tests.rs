@@ -1,0 +1,48 @@
+//! Internal consistency of the closed-form channel sum.
+
+use super::channel::{channels, ChannelFloat};
+use super::meixner::{channel_j, channel_j_direct, NuPoint};
+use super::meter::Meter;
+use rug::Float;
+
+fn rel(a: &Float, b: &Float) -> f64 {
+    let d = Float::with_val(a.prec(), a - b).abs();
+    (d / Float::with_val(a.prec(), b).abs()).to_f64()
+}
+
+#[test]
+fn closed_form_matches_direct_sum() {
+    let prec = 256;
+    for &(n, l) in &[(1u32, 0u32), (2, 0), (2, 1), (3, 2), (5, 1), (8, 0), (12, 5)] {
+        let chs = channels(n, l).unwrap();
+        for ch in &chs {
+            let cf = ChannelFloat::new(ch, prec);
+            for frac in [0.03, 0.2, 0.45, 0.77, 0.93] {
+                let mut nu: Float = Float::with_val(prec, n) * frac;
+                // keep away from integers (poles)
+                if (nu.to_f64() - nu.to_f64().round()).abs() < 1e-3 {
+                    nu += 0.0123;
+                }
+                let p = NuPoint::new(n, &nu);
+                let mut m = Meter::new();
+                let closed = channel_j(&cf, &p, &mut m).j;
+                let z = p.zp.z.to_f64();
+                let kmax = ((300.0 + 20.0 * n as f64) / -z.ln()).ceil() as usize + 4 * n as usize + 50;
+                if kmax > 60_000 {
+                    continue;
+                }
+                let direct = channel_j_direct(&cf, &p, kmax);
+                let r = rel(&closed, &direct);
+                assert!(
+                    r < 1e-55,
+                    "(n,l)=({n},{l}) L={} nu={} closed={} direct={} rel={r:e} loss={}",
+                    ch.big_l,
+                    nu.to_f64(),
+                    closed.to_f64(),
+                    direct.to_f64(),
+                    m.loss_bits
+                );
+            }
+        }
+    }
+}
