@@ -201,7 +201,7 @@ pub fn sturmian_overlaps(
         ));
     }
     // ||f||^2 = int f^2 r dr, exact; its square root sets the absolute floor.
-    let norm2 = f.integral_with(f, 1)?.square();
+    let norm2 = f.integral_with(f, 1)?.to_float(64);
     let mut guard: u32 = 32;
     for _ in 0..12 {
         let wp = bits + guard;
@@ -247,7 +247,7 @@ fn overlaps_at(
     kmax: u32,
     wp: u32,
     bits: u32,
-    norm2: &Rational,
+    norm2: &Float,
 ) -> (Vec<Float>, f64) {
     let alpha = 2 * big_l + 1;
     let coeffs = f.rational_coeffs();
@@ -325,8 +325,9 @@ fn overlaps_at(
         e.push(next);
         ea.push(next_a);
     }
-    // overall factor sqrt(radicand) * scale, and N_k = sqrt(k!/(k+alpha)!)
-    let pref = Float::with_val(wp, &f.radicand).sqrt() * Float::with_val(wp, &f.scale);
+    // overall factor sqrt(radicand) (the coefficients already carry `scale`),
+    // and N_k = sqrt(k!/(k+alpha)!)
+    let pref = Float::with_val(wp, &f.radicand).sqrt();
     let pref_abs = Float::with_val(wp, pref.abs_ref());
     let floor = Float::with_val(wp, norm2).sqrt() >> (bits as i32);
     // N_k by recurrence N_{k+1}^2 = N_k^2 (k+1)/(k+1+alpha)
