@@ -97,7 +97,7 @@ pub fn matched_expansion(f: &PolyExp, big_l: u32) -> Result<MatchedExpansion, Ba
     Ok(MatchedExpansion {
         big_l,
         coef,
-        radicand: f.radicand.clone() * Rational::from(f.scale.clone().pow(2u32)),
+        radicand: f.radicand.clone(),
     })
 }
 

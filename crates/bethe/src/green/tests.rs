@@ -46,3 +46,61 @@ fn closed_form_matches_direct_sum() {
         }
     }
 }
+
+#[test]
+fn published_n1_n2() {
+    // Drake & Swainson, Phys. Rev. A 41, 1243 (1990), as tabulated in the
+    // CODATA 2018 adjustment (Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021)).
+    let s = crate::Settings::with_digits(20);
+    for (n, l, v) in [
+        (1, 0, "2.984128555765498"),
+        (2, 0, "2.811769893120563"),
+        (2, 1, "-0.030016708630213"),
+    ] {
+        let r = super::ln_k0(n, l, &s).unwrap();
+        let reference = Float::with_val(128, Float::parse(v).unwrap());
+        let d = Float::with_val(128, &r.value - &reference).abs().to_f64();
+        eprintln!("({n},{l}) {} err {} nodes {} bits {} t {:.3}", r.value_string(), r.abs_err, r.nodes, r.bits, r.seconds);
+        assert!(d < 1e-15, "({n},{l}): {} vs {v}: diff {d:e}", r.value_string());
+    }
+}
+
+#[test]
+#[ignore]
+fn debug_samples() {
+    use super::channel::channels;
+    let prec = 200;
+    for &(n, l) in &[(2u32, 0u32)] {
+        let chs = channels(n, l).unwrap();
+        for ch in &chs {
+            let cf = ChannelFloat::new(ch, prec);
+            for frac in [0.1, 0.5, 0.62, 0.8, 0.9, 0.97, 0.99, 0.999] {
+                let nu: Float = Float::with_val(prec, n) * frac;
+                let p = NuPoint::new(n, &nu);
+                let mut m = Meter::new();
+                let closed = channel_j(&cf, &p, &mut m).j;
+                let direct = channel_j_direct(&cf, &p, 3000);
+                eprintln!("L={} nu={} closed={} direct={} loss={}", ch.big_l, nu.to_f64(), closed.to_f64(), direct.to_f64(), m.loss_bits);
+            }
+        }
+    }
+}
+
+#[test]
+#[ignore]
+fn debug_eval() {
+    for &(n, l) in &[(1u32, 0u32), (2, 0), (2, 1), (3, 0)] {
+        let sd = super::StateData::new(n, l).unwrap();
+        for level in 0..3 {
+            let (v, loss, nodes) = super::evaluate(&sd, 80, level, 200);
+            eprintln!("({n},{l}) level {level}: {} loss {loss} nodes {nodes}", v.to_f64());
+        }
+        let prob = sd.problem(200);
+        for x in [1e-3, 0.01, 0.1, 0.3, 0.5, 0.59, 0.61, 0.9, 0.99] {
+            let nu = Float::with_val(200, x * n as f64);
+            let mut m = Meter::new();
+            let s = prob.sample(&nu, &mut m);
+            eprintln!("   nu={:.4} I={:.15e} Ilog={:.6e} loss={}", nu.to_f64(), s.value.to_f64(), s.log_coef.to_f64(), m.loss_bits);
+        }
+    }
+}
