@@ -123,7 +123,10 @@ impl StateData {
 /// is the pole at nu = n + 1).
 fn panels(n: u32) -> (f64, Vec<(f64, f64)>) {
     let nf = f64::from(n);
-    let nu1 = 0.3 * nf;
+    // The first panel stays well inside the distance to the nearest image
+    // pole of the subtracted lower-state terms (at nu = -n', n' >= 1); the
+    // odd factor keeps nodes off the integers (exact poles of single terms).
+    let nu1 = (0.3 * nf).min(0.5) * 1.013_7;
     let mut out = Vec::new();
     let mut b = nu1;
     while b < nf {
@@ -143,7 +146,8 @@ fn node_counts(bits: u32, level: u32) -> (usize, usize) {
     let f = 1.5f64.powi(level as i32);
     let n0 = ((f64::from(bits) / 6.0 + 6.0) * f).ceil() as usize;
     let n1 = ((f64::from(bits) / 4.5 + 6.0) * f).ceil() as usize;
-    (n0, n1)
+    // even counts: no node at a panel midpoint
+    (n0 + n0 % 2, n1 + n1 % 2)
 }
 
 /// One evaluation of ln k0 at fixed nodes and bits. Returns (value, loss bits, nodes).
@@ -250,6 +254,10 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
         };
         let prec_b = bits + guard + 32;
         let (vb, loss_b, nodes_b) = evaluate(&sd, bits, level + 1, prec_b);
+        if !va.is_finite() || !vb.is_finite() {
+            guard += 64;
+            continue;
+        }
         let diff = Float::with_val(prec_b, &va - &vb).abs().to_f64();
         // floor: rounding level of the working precision after the measured loss
         let floor = 2f64.powi(-(prec_b as i32 - loss_a.max(loss_b).max(0)));

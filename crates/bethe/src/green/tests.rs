@@ -89,18 +89,38 @@ fn debug_samples() {
 #[test]
 #[ignore]
 fn debug_eval() {
-    for &(n, l) in &[(1u32, 0u32), (2, 0), (2, 1), (3, 0)] {
+    for &(n, l) in &[(20u32, 0u32)] {
         let sd = super::StateData::new(n, l).unwrap();
-        for level in 0..3 {
+        for level in 0..0 {
             let (v, loss, nodes) = super::evaluate(&sd, 80, level, 200);
             eprintln!("({n},{l}) level {level}: {} loss {loss} nodes {nodes}", v.to_f64());
         }
         let prob = sd.problem(200);
-        for x in [1e-3, 0.01, 0.1, 0.3, 0.5, 0.59, 0.61, 0.9, 0.99] {
-            let nu = Float::with_val(200, x * n as f64);
+        for x in [1.9, 1.99, 1.999999, 2.000001, 2.01, 2.1, 2.9, 3.1, 5.5] {
+            let nu = Float::with_val(200, x);
             let mut m = Meter::new();
             let s = prob.sample(&nu, &mut m);
             eprintln!("   nu={:.4} I={:.15e} Ilog={:.6e} loss={}", nu.to_f64(), s.value.to_f64(), s.log_coef.to_f64(), m.loss_bits);
+        }
+    }
+}
+
+#[test]
+#[ignore]
+fn debug_big() {
+    let list: Vec<(i64, i64, u32)> = std::env::var("KZ_STATES")
+        .unwrap_or("20,0,20;50,3,20;1,0,100".into())
+        .split(';')
+        .map(|t| {
+            let v: Vec<i64> = t.split(',').map(|x| x.parse().unwrap()).collect();
+            (v[0], v[1], v[2] as u32)
+        })
+        .collect();
+    for (n, l, d) in list {
+        let r = super::ln_k0(n, l, &crate::Settings::with_digits(d));
+        match r {
+            Ok(r) => eprintln!("({n},{l}) D={d} {} err {:.2e} nodes {} bits {} t {:.3}", r.value_string(), r.abs_err, r.nodes, r.bits, r.seconds),
+            Err(e) => eprintln!("({n},{l}) D={d} ERROR {e}"),
         }
     }
 }
