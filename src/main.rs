@@ -1,1 +1,125 @@
-fn main() {}
+//! `kzero`: hydrogenic Bethe logarithms ln k0(n,l) at any requested
+//! precision, with error estimates; batch tables, outside checks, precision
+//! sweeps and sharded cluster runs.
+//!
+//! Exit codes: 0 success, 1 anything else, 2 bad input, 3 a check or a
+//! cross-method comparison failed. Every error is one line on stderr.
+
+mod app_error;
+mod basis_cmd;
+mod check;
+mod engine;
+mod merge;
+mod output;
+mod plot;
+mod provenance;
+mod state_cmd;
+mod sweep;
+mod table;
+mod tablefile;
+
+use app_error::AppError;
+use clap::{Parser, Subcommand};
+use std::panic::{self, AssertUnwindSafe};
+
+/// Hydrogenic Bethe logarithms ln k0(n,l) to any requested precision, with
+/// honest error estimates.
+///
+/// `--digits D` asks for an absolute error below 10^-D in every command.
+/// Energies in units of Z^2 Ry; ln k0 does not depend on Z.
+#[derive(Debug, Parser)]
+#[command(name = "kzero", version = provenance::LONG_VERSION, about, long_about = None)]
+#[command(after_help = "Exit codes: 0 success, 1 other failure, 2 bad input, 3 a check or cross-method comparison failed.")]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// One Bethe logarithm ln k0(n,l) with its error estimate.
+    State(state_cmd::StateArgs),
+    /// A table of ln k0 over many states (parallel, resumable, shardable).
+    Table(table::TableArgs),
+    /// Merge the shards of a table into the table a single run writes.
+    Merge(merge::MergeArgs),
+    /// Run the bundled outside checks; exit 3 if any fails.
+    Check(check::CheckArgs),
+    /// One state at a ladder of precision settings.
+    Sweep(sweep::SweepArgs),
+    /// Exact radial integral <N L| r^K |N2 L2> (hydrogen, bohr^K).
+    Radial(basis_cmd::RadialArgs),
+    /// Exact absorption oscillator strength f(N L -> N2 L2) (hydrogen).
+    Oscillator(basis_cmd::OscillatorArgs),
+}
+
+/// The `--digits` parser shared by every command: 5..=200.
+pub fn digits_parser() -> clap::builder::RangedI64ValueParser<u32> {
+    clap::value_parser!(u32).range(
+        i64::from(kzero_bethe::settings::MIN_DIGITS)..=i64::from(kzero_bethe::settings::MAX_DIGITS),
+    )
+}
+
+/// Runs `f`, turning a panic inside it into an error (exit 1) instead of a
+/// crash, so that one failing state cannot take a whole table down.
+pub fn catch<T>(f: impl FnOnce() -> Result<T, AppError>) -> Result<T, AppError> {
+    match panic::catch_unwind(AssertUnwindSafe(f)) {
+        Ok(r) => r,
+        Err(payload) => {
+            let msg = payload
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| payload.downcast_ref::<String>().cloned())
+                .unwrap_or_else(|| "unknown cause".into());
+            Err(AppError::Other(format!("internal error: {}", msg.lines().next().unwrap_or(""))))
+        }
+    }
+}
+
+fn run(cli: Cli) -> Result<(), AppError> {
+    match &cli.command {
+        Command::State(a) => state_cmd::run(a),
+        Command::Table(a) => table::run(a),
+        Command::Merge(a) => merge::run(a),
+        Command::Check(a) => check::run(a),
+        Command::Sweep(a) => sweep::run(a),
+        Command::Radial(a) => basis_cmd::run_radial(a),
+        Command::Oscillator(a) => basis_cmd::run_oscillator(a),
+    }
+}
+
+fn main() {
+    // Panics are turned into one-line errors by `catch`; never print the
+    // default panic report.
+    panic::set_hook(Box::new(|_| {}));
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            use clap::error::ErrorKind;
+            match e.kind() {
+                ErrorKind::DisplayHelp | ErrorKind::DisplayVersion => {
+                    let _ = output::print(&e.render().to_string());
+                    std::process::exit(0);
+                }
+                ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand => {
+                    eprint!("{}", e.render());
+                    std::process::exit(2);
+                }
+                _ => {
+                    let text = e.render().to_string();
+                    let first = text.lines().find(|l| !l.trim().is_empty()).unwrap_or("error: invalid arguments");
+                    let first = first.strip_prefix("error: ").unwrap_or(first);
+                    eprintln!("kzero: {first} (see kzero --help)");
+                    std::process::exit(2);
+                }
+            }
+        }
+    };
+    match catch(|| run(cli)) {
+        Ok(()) => {}
+        Err(e) => {
+            eprintln!("kzero: {e}");
+            std::process::exit(e.exit_code());
+        }
+    }
+}

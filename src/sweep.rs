@@ -1,0 +1,138 @@
+//! `kzero sweep`: one state at a ladder of precision settings, to choose
+//! settings before a large run.
+
+use crate::app_error::AppError;
+use crate::engine::{self, GaugeChoice, MethodChoice};
+use crate::output;
+use crate::plot::{self, SweepPoint};
+use kzero_bethe::value::format_err;
+use kzero_bethe::{BetheValue, Settings};
+use rug::Float;
+use serde_json::json;
+use std::path::PathBuf;
+
+/// Arguments of `kzero sweep`.
+#[derive(Debug, clap::Args)]
+#[command(after_long_help = "\
+For each requested digits D the state is computed from scratch. The actual
+error of each setting is its difference from the value at the highest D
+(itself uncertain by that value's estimated error, so the last row has none).
+'covered' says whether the estimated error is at least the actual error.")]
+pub struct SweepArgs {
+    /// Principal quantum number n (1..=200).
+    #[arg(value_name = "N", allow_negative_numbers = true)]
+    pub n: i64,
+    /// Orbital angular momentum l (0 <= l < n).
+    #[arg(value_name = "L", allow_negative_numbers = true)]
+    pub l: i64,
+    /// Precision ladder (each 5..=200).
+    #[arg(long, value_name = "LIST", value_delimiter = ',', default_value = "10,15,20,30,40,60", value_parser = crate::digits_parser())]
+    pub digits: Vec<u32>,
+    /// Method (green or spectral).
+    #[arg(long, value_enum, default_value_t = MethodChoice::Green)]
+    pub method: MethodChoice,
+    /// Dipole form of the spectral method.
+    #[arg(long, value_enum, default_value_t = GaugeChoice::Velocity)]
+    pub gauge: GaugeChoice,
+    /// Write an SVG plot of estimated and actual error, and time, against digits.
+    #[arg(long, value_name = "FILE.svg")]
+    pub plot: Option<PathBuf>,
+    /// One JSON object instead of the text table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs `kzero sweep`.
+pub fn run(a: &SweepArgs) -> Result<(), AppError> {
+    if a.method == MethodChoice::Both {
+        return Err(AppError::BadInput(
+            "sweep takes --method green or --method spectral (run it once for each)".into(),
+        ));
+    }
+    let (n, l) = engine::validate_state(a.n, a.l, a.method)?;
+    if let Some(p) = &a.plot {
+        crate::tablefile::check_output_folder(p, "--plot")?;
+    }
+    let mut ladder = a.digits.clone();
+    ladder.sort_unstable();
+    ladder.dedup();
+    let mut values: Vec<BetheValue> = Vec::new();
+    for &d in &ladder {
+        let c = engine::compute(n, l, a.method, a.gauge, &Settings::with_digits(d))?;
+        values.push(c.primary().clone());
+    }
+    let best = values.last().cloned().ok_or_else(|| AppError::BadInput("--digits list is empty".into()))?;
+    let mut points = Vec::new();
+    let mut rows = Vec::new();
+    let mut jrows = Vec::new();
+    for (i, v) in values.iter().enumerate() {
+        let actual = if i + 1 < values.len() {
+            let prec = v.value.prec().max(best.value.prec());
+            Some(Float::with_val(prec, &v.value - &best.value).abs().to_f64())
+        } else {
+            None
+        };
+        let covered = actual.map(|x| v.abs_err >= x);
+        points.push(SweepPoint {
+            digits: v.digits,
+            est_err: v.abs_err,
+            actual_err: actual,
+            seconds: v.seconds,
+        });
+        let cov = match covered {
+            Some(true) => "yes",
+            Some(false) => "NO",
+            None => "-",
+        };
+        rows.push(vec![
+            v.digits.to_string(),
+            v.value_string(),
+            v.abs_err_string(),
+            actual.map_or("-".into(), format_err),
+            cov.to_string(),
+            v.bits.to_string(),
+            v.nodes.to_string(),
+            v.terms.to_string(),
+            format!("{:.3}", v.seconds),
+        ]);
+        jrows.push(json!({
+            "digits": v.digits,
+            "ln_k0": v.value_string(),
+            "abs_err": v.abs_err_string(),
+            "actual_err": actual.map(format_err),
+            "covered": covered,
+            "bits": v.bits,
+            "nodes": v.nodes,
+            "terms": v.terms,
+            "seconds": v.seconds,
+        }));
+    }
+    if a.json {
+        let j = json!({
+            "n": n, "l": l, "method": a.method.name(),
+            "gauge": if a.method == MethodChoice::Spectral { Some(a.gauge.name()) } else { None },
+            "reference_digits": best.digits,
+            "rows": jrows,
+        });
+        output::print(&format!("{}\n", serde_json::to_string_pretty(&j).unwrap_or_default()))?;
+    } else {
+        let mut s = format!(
+            "precision sweep for (n={n}, l={l}), method {}; actual error against D = {}\n",
+            a.method.name(),
+            best.digits
+        );
+        s.push_str(&output::text_table(
+            &["digits", "ln_k0", "est_err", "actual_err", "covered", "bits", "nodes", "terms", "seconds"],
+            &rows,
+        ));
+        output::print(&s)?;
+    }
+    if let Some(p) = &a.plot {
+        plot::sweep_plot(
+            &format!("ln k0({n},{l}), {} method: precision sweep", a.method.name()),
+            &points,
+            p,
+        )?;
+    }
+    Ok(())
+}

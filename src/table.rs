@@ -1,0 +1,546 @@
+//! `kzero table`: a batch table of ln k0 over a range of states, parallel,
+//! crash-safe, resumable and shardable.
+
+use crate::app_error::AppError;
+use crate::engine::{self, Computed, GaugeChoice, MethodChoice};
+use crate::output;
+use crate::plot;
+use crate::tablefile::{self, LSelect, Row, Shard, Table, TableSettings};
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use kzero_bethe::Settings;
+use std::fs::{self, File, OpenOptions};
+use std::io::{IsTerminal, Write};
+use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
+use std::sync::mpsc;
+use std::time::Instant;
+
+/// Output format of a table.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
+pub enum Format {
+    /// Comma-separated values with `#` provenance lines.
+    #[default]
+    Csv,
+    /// One JSON object with "meta" and "rows".
+    Json,
+}
+
+/// Arguments of `kzero table`.
+#[derive(Debug, clap::Args)]
+#[command(after_long_help = TABLE_HELP)]
+pub struct TableArgs {
+    /// Largest principal quantum number (1..=200).
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
+    pub n_max: i64,
+    /// Smallest principal quantum number.
+    #[arg(long, value_name = "M", default_value_t = 1, allow_negative_numbers = true)]
+    pub n_min: i64,
+    /// Angular momenta to include, e.g. `0,1,2` (each used where l < n).
+    #[arg(long, value_name = "LIST", value_delimiter = ',', allow_negative_numbers = true, conflicts_with = "l_max")]
+    pub l: Option<Vec<i64>>,
+    /// Include every l <= K (and l < n).
+    #[arg(long, value_name = "K", allow_negative_numbers = true)]
+    pub l_max: Option<i64>,
+    /// Requested absolute accuracy: |error| < 10^-D (5..=200).
+    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::digits_parser())]
+    pub digits: u32,
+    /// Method.
+    #[arg(long, value_enum, default_value_t = MethodChoice::Green)]
+    pub method: MethodChoice,
+    /// Dipole form of the spectral method.
+    #[arg(long, value_enum, default_value_t = GaugeChoice::Velocity)]
+    pub gauge: GaugeChoice,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Csv)]
+    pub format: Format,
+    /// Same as `--format json`.
+    #[arg(long, conflicts_with = "format")]
+    pub json: bool,
+    /// Output file (default: standard output, written when the run ends).
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Worker threads (default: the number of CPUs).
+    #[arg(long, value_name = "T", value_parser = clap::value_parser!(u32).range(1..=4096))]
+    pub threads: Option<u32>,
+    /// Continue an interrupted run of the same command (needs --out).
+    #[arg(long, requires = "out")]
+    pub resume: bool,
+    /// Replace an existing --out file instead of refusing.
+    #[arg(long, conflicts_with = "resume")]
+    pub force: bool,
+    /// Compute only part K of M (1 <= K <= M), e.g. for a job array.
+    #[arg(long, value_name = "K/M", value_parser = parse_shard)]
+    pub shard: Option<Shard>,
+    /// Also write an SVG plot of ln k0 against n, one curve per l.
+    #[arg(long, value_name = "FILE.svg")]
+    pub plot: Option<PathBuf>,
+    /// No progress bar.
+    #[arg(long)]
+    pub quiet: bool,
+}
+
+const TABLE_HELP: &str = "\
+Output files:
+  Without --resume or --force an existing --out file is never touched: the
+  command refuses (exit 2). --force replaces it. --resume continues it.
+
+Crash safety and --resume:
+  CSV: the --out file is written while the run goes: each finished state is
+  appended as one whole line, in completion order. When the run ends the file
+  is rewritten (atomically) with the rows sorted by (n, l). After Ctrl-C or
+  kill -9, `--resume` with the same command completes the file: it checks that
+  the file is a kzero table with the same settings and shard (and the same
+  kzero build), skips the finished states, and drops only a torn last line.
+  JSON: the JSON document is written once, when the run ends. While the run
+  goes, finished rows are kept in FILE.partial (a CSV journal in the format
+  above); `--resume --format json --out FILE` continues from FILE.partial and
+  removes it when FILE is written.
+
+Sharding:
+  --shard K/M splits the states into M disjoint parts of similar estimated
+  cost (deterministic: the same K/M always gives the same states). Run every
+  K = 1..M (for example as a job array), then `kzero merge` the parts.
+
+Determinism:
+  ln_k0 and abs_err do not depend on --threads, sharding or resuming. The
+  seconds column is wall time.";
+
+/// Parses `--shard K/M`.
+pub fn parse_shard(s: &str) -> Result<Shard, String> {
+    Shard::parse(s)
+}
+
+fn nonneg(v: i64, what: &str) -> Result<u32, AppError> {
+    u32::try_from(v).map_err(|_| AppError::BadInput(format!("{what} = {v}: must be a non-negative integer")))
+}
+
+/// The validated settings of a table command.
+pub fn settings_from_args(a: &TableArgs) -> Result<TableSettings, AppError> {
+    let max = kzero_bethe::settings::MAX_N;
+    if a.n_max < 1 || a.n_max > i64::from(max) {
+        return Err(AppError::BadInput(format!(
+            "--n-max {}: must be in 1..={max}",
+            a.n_max
+        )));
+    }
+    if a.n_min < 1 || a.n_min > a.n_max {
+        return Err(AppError::BadInput(format!(
+            "--n-min {}: must be in 1..=--n-max ({})",
+            a.n_min, a.n_max
+        )));
+    }
+    let l = match (&a.l, a.l_max) {
+        (Some(list), _) => {
+            let mut v = Vec::new();
+            for &x in list {
+                v.push(nonneg(x, "--l")?);
+            }
+            v.sort_unstable();
+            v.dedup();
+            LSelect::List(v)
+        }
+        (None, Some(k)) => LSelect::Max(nonneg(k, "--l-max")?),
+        (None, None) => LSelect::All,
+    };
+    let s = TableSettings {
+        n_min: a.n_min as u32,
+        n_max: a.n_max as u32,
+        l,
+        digits: a.digits,
+        method: a.method,
+        gauge: a.gauge,
+    };
+    if s.states().is_empty() {
+        return Err(AppError::BadInput(
+            "no state selected: every requested l is >= n".into(),
+        ));
+    }
+    Ok(s)
+}
+
+/// Splits `states` into `m` deterministic, cost-balanced parts and returns
+/// part `k` (1-based), ordered by decreasing cost (ties by (n, l)).
+///
+/// Greedy longest-processing-time assignment: states in decreasing cost go
+/// to the part with the smallest total so far (lowest index on ties).
+pub fn plan(
+    states: &[(u32, u32)],
+    settings: &TableSettings,
+    shard: Shard,
+) -> Vec<((u32, u32), f64)> {
+    let mut costed: Vec<((u32, u32), f64)> = states
+        .iter()
+        .map(|&(n, l)| ((n, l), engine::cost(n, l, settings.digits, settings.method)))
+        .collect();
+    costed.sort_by(|a, b| b.1.total_cmp(&a.1).then(a.0.cmp(&b.0)));
+    let m = shard.m as usize;
+    let mut load = vec![0.0f64; m];
+    let mut mine = Vec::new();
+    for (key, c) in costed {
+        let mut best = 0;
+        for i in 1..m {
+            if load[i] < load[best] {
+                best = i;
+            }
+        }
+        load[best] += c;
+        if best + 1 == shard.k as usize {
+            mine.push((key, c));
+        }
+    }
+    mine
+}
+
+/// Where the rows go while the run is in progress.
+struct Journal {
+    file: File,
+    path: PathBuf,
+}
+
+impl Journal {
+    fn append(&mut self, text: &str) -> Result<(), AppError> {
+        self.file
+            .write_all(text.as_bytes())
+            .and_then(|_| self.file.flush())
+            .map_err(|e| AppError::Other(format!("cannot write {}: {e}", self.path.display())))
+    }
+}
+
+/// Runs `kzero table`.
+pub fn run(a: &TableArgs) -> Result<(), AppError> {
+    let settings = settings_from_args(a)?;
+    let format = if a.json { Format::Json } else { a.format };
+    let shard = a.shard.unwrap_or(Shard::WHOLE);
+    let threads = a.threads.map(|t| t as usize).unwrap_or_else(|| {
+        std::thread::available_parallelism()
+            .map(|n| n.get())
+            .unwrap_or(1)
+    });
+    if let Some(p) = &a.plot {
+        tablefile::check_output_folder(p, "--plot")?;
+    }
+    let requested = settings.states();
+    let planned = plan(&requested, &settings, shard);
+
+    // Prepare the output (all checks before any work, nothing touched on refusal).
+    let mut table = Table {
+        prov: tablefile::new_provenance(threads, shard),
+        settings: settings.clone(),
+        shard,
+        rows: Vec::new(),
+        torn_at: None,
+    };
+    let mut journal: Option<Journal> = None;
+    if let Some(out) = &a.out {
+        tablefile::check_output_folder(out, "--out")?;
+        let jpath = journal_path(out, format);
+        if a.resume {
+            let (loaded, from) = load_for_resume(out, &jpath, format)?;
+            check_resumable(&loaded, &from, &settings, shard, &planned)?;
+            table.prov = loaded.prov.clone();
+            table.rows = loaded.rows.clone();
+            let mut j = open_journal_for_resume(&jpath, &from, &loaded)?;
+            let when = crate::provenance::utc_now();
+            let cmd = crate::provenance::command_line();
+            j.append(&format!("# resumed_utc: {when}\n# resumed_command: {cmd}\n"))?;
+            table.prov.push(("resumed_utc".into(), when));
+            table.prov.push(("resumed_command".into(), cmd));
+            journal = Some(j);
+        } else {
+            for p in [out, &jpath] {
+                if p.exists() && !a.force {
+                    return Err(AppError::BadInput(format!(
+                        "{} already exists; use --resume to continue it or --force to replace it",
+                        p.display()
+                    )));
+                }
+            }
+            let mut f = OpenOptions::new()
+                .write(true)
+                .create(true)
+                .truncate(true)
+                .open(&jpath)
+                .map_err(|e| AppError::Other(format!("cannot create {}: {e}", jpath.display())))?;
+            f.write_all(table.csv_header().as_bytes())
+                .map_err(|e| AppError::Other(format!("cannot write {}: {e}", jpath.display())))?;
+            journal = Some(Journal { file: f, path: jpath });
+        }
+    }
+
+    let done: std::collections::BTreeSet<(u32, u32)> = table.rows.iter().map(|r| (r.n, r.l)).collect();
+    let todo: Vec<((u32, u32), f64)> = planned
+        .iter()
+        .filter(|(k, _)| !done.contains(k))
+        .cloned()
+        .collect();
+
+    let outcome = compute_all(&todo, &settings, threads, a.quiet, &mut journal, &mut table)?;
+
+    // Final output.
+    table.sort();
+    let complete = outcome.failures.is_empty();
+    match (&a.out, format) {
+        (Some(out), Format::Csv) => {
+            drop(journal);
+            tablefile::write_atomic(out, table.to_csv().as_bytes())?;
+        }
+        (Some(out), Format::Json) => {
+            if complete {
+                tablefile::write_atomic(out, table.to_json().as_bytes())?;
+                if let Some(j) = journal.take() {
+                    drop(j.file);
+                    let _ = fs::remove_file(&j.path);
+                }
+            }
+        }
+        (None, Format::Csv) => output::print(&table.to_csv())?,
+        (None, Format::Json) => output::print(&table.to_json())?,
+    }
+    if let Some(p) = &a.plot {
+        plot::table_plot(&table.rows, p)?;
+    }
+    finish(outcome, a.out.as_deref(), format)
+}
+
+/// Journal file of an output: the CSV itself, or FILE.partial for JSON.
+pub fn journal_path(out: &Path, format: Format) -> PathBuf {
+    match format {
+        Format::Csv => out.to_path_buf(),
+        Format::Json => {
+            let mut s = out.as_os_str().to_os_string();
+            s.push(".partial");
+            PathBuf::from(s)
+        }
+    }
+}
+
+fn load_for_resume(out: &Path, jpath: &Path, format: Format) -> Result<(Table, PathBuf), AppError> {
+    match format {
+        Format::Csv => Ok((tablefile::read_table(out)?, out.to_path_buf())),
+        Format::Json => {
+            if jpath.exists() {
+                Ok((tablefile::read_table(jpath)?, jpath.to_path_buf()))
+            } else if out.exists() {
+                Ok((tablefile::read_table(out)?, out.to_path_buf()))
+            } else {
+                Err(AppError::BadInput(format!(
+                    "--resume: neither {} nor {} exists",
+                    jpath.display(),
+                    out.display()
+                )))
+            }
+        }
+    }
+}
+
+fn check_resumable(
+    t: &Table,
+    from: &Path,
+    settings: &TableSettings,
+    shard: Shard,
+    planned: &[((u32, u32), f64)],
+) -> Result<(), AppError> {
+    let diffs = t.settings.differences(settings);
+    if !diffs.is_empty() {
+        return Err(AppError::BadInput(format!(
+            "--resume: {} has other settings: {}",
+            from.display(),
+            diffs.join(", ")
+        )));
+    }
+    if t.shard != shard {
+        return Err(AppError::BadInput(format!(
+            "--resume: {} is shard {}, the command asks for shard {shard}",
+            from.display(),
+            t.shard
+        )));
+    }
+    tablefile::check_same_build(t, from)?;
+    let (keys, dup) = t.keys();
+    if let Some((n, l)) = dup {
+        return Err(AppError::BadInput(format!(
+            "--resume: {} lists (n={n}, l={l}) twice",
+            from.display()
+        )));
+    }
+    let mine: std::collections::BTreeSet<(u32, u32)> = planned.iter().map(|(k, _)| *k).collect();
+    if let Some((n, l)) = keys.iter().find(|k| !mine.contains(k)) {
+        return Err(AppError::BadInput(format!(
+            "--resume: {} holds (n={n}, l={l}), which is not part of shard {shard}",
+            from.display()
+        )));
+    }
+    Ok(())
+}
+
+fn open_journal_for_resume(jpath: &Path, from: &Path, loaded: &Table) -> Result<Journal, AppError> {
+    let io = |e: std::io::Error| AppError::Other(format!("cannot write {}: {e}", jpath.display()));
+    if from == jpath {
+        let f = OpenOptions::new().write(true).open(jpath).map_err(io)?;
+        if let Some(at) = loaded.torn_at {
+            // Drop only the torn last line left by an interrupted write.
+            f.set_len(at).map_err(io)?;
+        }
+        let mut f = OpenOptions::new().append(true).open(jpath).map_err(io)?;
+        f.flush().map_err(io)?;
+        Ok(Journal {
+            file: f,
+            path: jpath.to_path_buf(),
+        })
+    } else {
+        // Resuming a finished JSON table: start a journal holding its rows.
+        let mut f = OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(jpath)
+            .map_err(io)?;
+        f.write_all(loaded.to_csv().as_bytes()).map_err(io)?;
+        Ok(Journal {
+            file: f,
+            path: jpath.to_path_buf(),
+        })
+    }
+}
+
+/// What happened in a run, apart from the rows.
+struct Outcome {
+    failures: Vec<String>,
+    disagreements: Vec<String>,
+}
+
+fn compute_all(
+    todo: &[((u32, u32), f64)],
+    settings: &TableSettings,
+    threads: usize,
+    quiet: bool,
+    journal: &mut Option<Journal>,
+    table: &mut Table,
+) -> Result<Outcome, AppError> {
+    let mut outcome = Outcome {
+        failures: Vec::new(),
+        disagreements: Vec::new(),
+    };
+    if todo.is_empty() {
+        return Ok(outcome);
+    }
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| AppError::Other(format!("cannot start {threads} threads: {e}")))?;
+    let total_cost: f64 = todo.iter().map(|(_, c)| c).sum();
+    let bar = progress_bar(quiet);
+    let start = Instant::now();
+    let next = AtomicUsize::new(0);
+    let stop = AtomicBool::new(false);
+    let bethe = Settings::with_digits(settings.digits);
+    let (tx, rx) = mpsc::channel::<(usize, Result<Computed, AppError>)>();
+    let mut fatal: Option<AppError> = None;
+    std::thread::scope(|s| {
+        let (next, stop, bethe) = (&next, &stop, &bethe);
+        let pool = &pool;
+        s.spawn(move || {
+            pool.scope(|sc| {
+                for _ in 0..threads {
+                    let tx = tx.clone();
+                    sc.spawn(move |_| loop {
+                        if stop.load(Ordering::Relaxed) {
+                            break;
+                        }
+                        let i = next.fetch_add(1, Ordering::Relaxed);
+                        let Some(&((n, l), _)) = todo.get(i) else {
+                            break;
+                        };
+                        let r = crate::catch(|| engine::compute(n, l, settings.method, settings.gauge, bethe));
+                        if tx.send((i, r)).is_err() {
+                            break;
+                        }
+                    });
+                }
+            });
+            drop(tx);
+        });
+        let mut done_cost = 0.0;
+        let mut done = 0usize;
+        for (i, r) in rx {
+            let ((n, l), c) = todo[i];
+            done += 1;
+            done_cost += c;
+            match r {
+                Ok(comp) => {
+                    if let Some((d, false)) = comp.agreement() {
+                        let g = comp.green.as_ref().map(|v| (v.value_string(), v.abs_err_string()));
+                        let sp = comp.spectral.as_ref().map(|v| (v.value_string(), v.abs_err_string()));
+                        if let (Some(g), Some(sp)) = (g, sp) {
+                            outcome.disagreements.push(format!(
+                                "(n={n}, l={l}): green {} +- {} and spectral {} +- {} differ beyond their error estimates ({d} agreeing digits)",
+                                g.0, g.1, sp.0, sp.1
+                            ));
+                        }
+                    }
+                    let row = Row::from_computed(&comp, settings.method);
+                    if let Some(j) = journal.as_mut() {
+                        if let Err(e) = j.append(&row.csv_line()) {
+                            stop.store(true, Ordering::Relaxed);
+                            if fatal.is_none() {
+                                fatal = Some(e);
+                            }
+                        }
+                    }
+                    table.rows.push(row);
+                }
+                Err(e) => outcome.failures.push(format!("(n={n}, l={l}): {e}")),
+            }
+            let secs = start.elapsed().as_secs_f64().max(1e-9);
+            bar.set_position((done_cost / total_cost * 1e6) as u64);
+            bar.set_message(format!(
+                "{done}/{} states, {:.1} states/min",
+                todo.len(),
+                done as f64 / secs * 60.0
+            ));
+        }
+    });
+    bar.finish_and_clear();
+    match fatal {
+        Some(e) => Err(e),
+        None => Ok(outcome),
+    }
+}
+
+fn progress_bar(quiet: bool) -> ProgressBar {
+    if quiet || !std::io::stderr().is_terminal() {
+        return ProgressBar::hidden();
+    }
+    let bar = ProgressBar::with_draw_target(Some(1_000_000), ProgressDrawTarget::stderr());
+    if let Ok(style) = ProgressStyle::with_template(
+        "{elapsed_precise} [{wide_bar}] {percent:>3}% {msg} (by cost; ETA {eta})",
+    ) {
+        bar.set_style(style);
+    }
+    bar
+}
+
+fn finish(outcome: Outcome, out: Option<&Path>, format: Format) -> Result<(), AppError> {
+    for d in &outcome.disagreements {
+        eprintln!("kzero: methods disagree at {d}");
+    }
+    if let Some(first) = outcome.failures.first() {
+        let hint = match (out, format) {
+            (Some(o), Format::Json) => format!("; rows so far kept in {}, rerun with --resume", journal_path(o, format).display()),
+            (Some(_), Format::Csv) => "; finished rows are in the table, rerun with --resume".to_string(),
+            (None, _) => String::new(),
+        };
+        let more = if outcome.failures.len() > 1 {
+            format!(" (and {} more failed states)", outcome.failures.len() - 1)
+        } else {
+            String::new()
+        };
+        return Err(AppError::Other(format!("state {first}{more}{hint}")));
+    }
+    if !outcome.disagreements.is_empty() {
+        return Err(AppError::CheckFailed(format!(
+            "{} state(s) where green and spectral disagree",
+            outcome.disagreements.len()
+        )));
+    }
+    Ok(())
+}
