@@ -149,11 +149,7 @@ impl BoundFreeKernel {
             }
             DipoleForm::Acceleration => {
                 let f = radial_function(state);
-                let c: Vec<Rational> = f
-                    .rational_coeffs()
-                    .into_iter()
-                    .map(|c| c * &z)
-                    .collect();
+                let c: Vec<Rational> = f.rational_coeffs().into_iter().map(|c| c * &z).collect();
                 (-1, c, f.radicand.clone())
             }
         };
@@ -427,41 +423,25 @@ impl BoundFreeKernel {
             .iter()
             .map(|t| Float::with_val(53, t.abs_ref()))
             .collect();
-        // e^{iN phi} incrementally
+        // X_N = sum_q (-1)^q C(N,q) T_q for all N (difference table)
+        let xs = binomial_transform(tq, |a, b| *a -= b);
+        let ms = binomial_transform(mag_t, |a, b| *a += b);
         let mut total = Float::with_val(p, 0);
         let mut mag = Float::with_val(53, 0);
-        let mut binom: Vec<Float> = Vec::with_capacity(nmax);
+        // e^{iN phi} incrementally
         let mut cis = Complex::with_val(p, (1, 0));
         let step = Complex::with_val(p, (&cosp, &sinp));
         // s! rho^{-(s+1)} with s = 2L+1+N
         let s0 = 2 * l + 1;
         let mut pref = Float::with_val(p, &factorial(s0)) / Float::with_val(p, (&rho).pow(s0 + 1));
         for (nn, cj) in c.iter().enumerate() {
-            // binomial row N = nn
-            binom.push(Float::with_val(p, 1));
-            for q in (1..nn).rev() {
-                let prev = binom[q - 1].clone();
-                binom[q] += prev;
-            }
             if !cj.is_zero() {
-                let mut xr = Float::with_val(p, 0);
-                let mut xi = Float::with_val(p, 0);
-                let mut m = Float::with_val(53, 0);
-                for (q, bq) in binom.iter().enumerate() {
-                    let (tr, ti) = tq[q].clone().into_real_imag();
-                    if q % 2 == 0 {
-                        xr += Float::with_val(p, bq * &tr);
-                        xi += Float::with_val(p, bq * &ti);
-                    } else {
-                        xr -= Float::with_val(p, bq * &tr);
-                        xi -= Float::with_val(p, bq * &ti);
-                    }
-                    m += Float::with_val(53, bq * &mag_t[q]);
-                }
-                let val = Float::with_val(p, cis.real() * &xr) - Float::with_val(p, cis.imag() * &xi);
+                let x = &xs[nn];
+                let val = Float::with_val(p, cis.real() * x.real())
+                    - Float::with_val(p, cis.imag() * x.imag());
                 let pc = Float::with_val(p, cj * &pref);
                 total += Float::with_val(p, &pc * &val);
-                mag += Float::with_val(53, pc.abs() * m);
+                mag += Float::with_val(53, pc.abs() * &ms[nn]);
             }
             cis *= &step;
             let s = s0 + 1 + nn as u32;
@@ -511,35 +491,24 @@ impl BoundFreeKernel {
             cur *= Float::with_val(p, nu + (l + 1 + qq)) * &zz;
             cur /= 2 * l + 2 + qq;
         }
+        let mag_t: Vec<Float> = tq
+            .iter()
+            .map(|t| Float::with_val(53, t.abs_ref()))
+            .collect();
+        let xs = binomial_transform(tq, |a, b| *a -= b);
+        let ms = binomial_transform(mag_t, |a, b| *a += b);
         let mut total = Float::with_val(p, 0);
         let mut mag = Float::with_val(53, 0);
-        let mut binom: Vec<Float> = Vec::with_capacity(nmax);
         let s0 = 2 * l + 1;
         // pref = s! lambda^{-(s+1)} (1-z)^{-(j+1)}, j = L + N
         let mut pref = Float::with_val(p, &factorial(s0))
             / Float::with_val(p, (&lam).pow(s0 + 1))
             / Float::with_val(p, (&omz).pow(l + 1));
         for (nn, cj) in c.iter().enumerate() {
-            binom.push(Float::with_val(p, 1));
-            for q in (1..nn).rev() {
-                let prev = binom[q - 1].clone();
-                binom[q] += prev;
-            }
             if !cj.is_zero() {
-                let mut x = Float::with_val(p, 0);
-                let mut m = Float::with_val(53, 0);
-                for (q, bq) in binom.iter().enumerate() {
-                    let term = Float::with_val(p, bq * &tq[q]);
-                    m += Float::with_val(53, term.abs_ref());
-                    if q % 2 == 0 {
-                        x += term;
-                    } else {
-                        x -= term;
-                    }
-                }
                 let pc = Float::with_val(p, cj * &pref);
-                total += Float::with_val(p, &pc * &x);
-                mag += Float::with_val(53, pc.abs() * m);
+                total += Float::with_val(p, &pc * &xs[nn]);
+                mag += Float::with_val(53, pc.abs() * &ms[nn]);
             }
             let s = s0 + 1 + nn as u32;
             pref *= s;
@@ -649,7 +618,8 @@ pub fn continuum_function(
             Complex::with_val(p, &dm) // x M'(x); r * 2ik M'(x) = x M'(x)
         };
         let ikr = Complex::with_val(p, (0, Float::with_val(p, &k * &r)));
-        let bracket = Complex::with_val(p, &m * (big_l + 1)) - Complex::with_val(p, &ikr * &m) + dmx;
+        let bracket =
+            Complex::with_val(p, &m * (big_l + 1)) - Complex::with_val(p, &ikr * &m) + dmx;
         let rlm = if big_l == 0 {
             Float::with_val(p, 1)
         } else {
@@ -676,6 +646,29 @@ pub fn continuum_function(
     Err(BasisError::InvalidArgument(
         "continuum function lost all precision".into(),
     ))
+}
+
+/// X_N = sum_q (-1)^q C(N,q) T_q (with `sub`) or sum_q C(N,q) T_q (with an
+/// addition) for N = 0..len, by the difference table (len^2/2 operations).
+fn binomial_transform<T, F>(mut d: Vec<T>, op: F) -> Vec<T>
+where
+    T: Clone,
+    F: Fn(&mut T, &T),
+{
+    let len = d.len();
+    let mut out = Vec::with_capacity(len);
+    if len == 0 {
+        return out;
+    }
+    out.push(d[0].clone());
+    for i in 1..len {
+        for q in 0..len - i {
+            let (lo, hi) = d.split_at_mut(q + 1);
+            op(&mut lo[q], &hi[0]);
+        }
+        out.push(d[0].clone());
+    }
+    out
 }
 
 /// Convenience: the bound-free integral <E L| O |n l> of `form` for the
