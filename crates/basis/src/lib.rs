@@ -26,6 +26,7 @@
 #![deny(missing_docs)]
 
 pub mod constants;
+pub mod continuum;
 pub mod dipole;
 pub mod error;
 pub mod exact;
