@@ -207,6 +207,41 @@ fn evaluate(sd: &StateData, bits: u32, level: u32, prec: u32) -> (Float, i32, us
     (s * n3 / 2u32, loss, nodes)
 }
 
+/// Measures the bits the integrand loses to cancellation: evaluates it at a
+/// spread of nodes at two precisions and compares. Returns a guard (bits to
+/// add to the goal bits) covering the worst loss seen plus a margin.
+fn pilot_guard(sd: &StateData, bits: u32) -> u32 {
+    let p_lo = bits + 64;
+    let p_hi = p_lo + 160;
+    let lo = sd.problem(p_lo);
+    let hi = sd.problem(p_hi);
+    let nf = f64::from(sd.n);
+    // log-spaced over (0, n): the losses vary smoothly with nu
+    let points: Vec<f64> = (0..24)
+        .map(|i| nf * 10f64.powf(-4.0 + 4.0 * (f64::from(i) + 0.5) / 24.0) * 0.998_7)
+        .collect();
+    let losses: Vec<i32> = points
+        .par_iter()
+        .map(|&x| {
+            let mut m = Meter::new();
+            let a = lo.sample(&Float::with_val(p_lo, x), &mut m).value;
+            let mut m2 = Meter::new();
+            let b = hi.sample(&Float::with_val(p_hi, x), &mut m2).value;
+            if !a.is_finite() || !b.is_finite() || b.is_zero() {
+                return p_lo as i32;
+            }
+            let d = Float::with_val(p_hi, Float::with_val(p_hi, &a) - &b).abs();
+            if d.is_zero() {
+                return m.loss_bits;
+            }
+            let rel_exp = d.get_exp().unwrap_or(0) - b.get_exp().unwrap_or(0);
+            (p_lo as i32 + rel_exp).max(m.loss_bits)
+        })
+        .collect();
+    let worst = losses.into_iter().max().unwrap_or(0).max(0) as u32;
+    worst + 40
+}
+
 /// Relative cost of [`ln_k0`] for (n, l) at `digits` (arbitrary units, for
 /// load balancing only).
 pub fn cost_estimate(n: u32, l: u32, digits: u32) -> f64 {
@@ -240,13 +275,13 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
     let goal = 10f64.powi(-(digits as i32));
     // goal bits on ln k0, plus one decimal of margin
     let bits = ((f64::from(digits) + 2.0) * std::f64::consts::LOG2_10).ceil() as u32 + 8;
-    let mut guard = 48u32;
+    let mut guard = pilot_guard(&sd, bits);
     let mut best = f64::INFINITY;
     for level in 0..4u32 {
         // pass A, repeated with more bits while the measured loss eats the guard
         let (va, loss_a, _) = loop {
             let (v, loss, nodes) = evaluate(&sd, bits, level, bits + guard);
-            if loss.max(0) as u32 + 24 > guard {
+            if loss.max(0) as u32 + 16 > guard {
                 guard = loss.max(0) as u32 + 40;
                 continue;
             }

@@ -124,3 +124,49 @@ fn debug_big() {
         }
     }
 }
+
+#[test]
+#[ignore]
+fn debug_loss() {
+    let st: Vec<u32> = std::env::var("KZ_NL").unwrap_or("100,20".into()).split(',').map(|x| x.parse().unwrap()).collect();
+    let (n, l) = (st[0], st[1]);
+    let chs = channels(n, l).unwrap();
+    for ch in &chs {
+        let lo = ChannelFloat::new(ch, 300);
+        let hi = ChannelFloat::new(ch, 1200);
+        for frac in [0.0005, 0.003, 0.01, 0.03, 0.08, 0.15, 0.25, 0.35, 0.5, 0.7, 0.9, 0.99] {
+            let nu = Float::with_val(1200, n as f64 * frac + 0.00123);
+            let p_hi = NuPoint::new(n, &nu);
+            let p_lo = NuPoint::new(n, &Float::with_val(300, &nu));
+            let mut m1 = Meter::new();
+            let mut m2 = Meter::new();
+            let a = channel_j(&lo, &p_lo, &mut m1).j;
+            let b = channel_j(&hi, &p_hi, &mut m2).j;
+            let r = rel(&Float::with_val(1200, &a), &b);
+            eprintln!("L={} nu={:.4} z={:.4} rel={:.2e} (bits lost {:.0}) meter={}", ch.big_l, nu.to_f64(), p_hi.zp.z.to_f64(), r, 300.0 + r.log2(), m1.loss_bits);
+        }
+    }
+}
+
+#[test]
+#[ignore]
+fn debug_parts() {
+    use super::stieltjes::meixner_stieltjes;
+    let n = 100u32;
+    for big_l in [19u32, 21, 50] {
+        let beta = 2 * big_l + 2;
+        for frac in [0.0005, 0.01, 0.03, 0.25, 0.35, 0.5] {
+            let nu = Float::with_val(1200, n as f64 * frac + 0.00123);
+            let ph = NuPoint::new(n, &nu);
+            let pl = NuPoint::new(n, &Float::with_val(300, &nu));
+            let ah = Float::with_val(1200, (big_l + 1) as u32 - Float::with_val(1200, &nu));
+            let al = Float::with_val(300, &ah);
+            let mut m = Meter::new();
+            let h = meixner_stieltjes(beta, &ah, &ph.zp, &mut m).value;
+            let mut m = Meter::new();
+            let lo = meixner_stieltjes(beta, &al, &pl.zp, &mut m).value;
+            let r = rel(&Float::with_val(1200, &lo), &h);
+            eprintln!("L={big_l} nu={:.3} z={:.4} m-hat lost {:.0} bits (meter {})", nu.to_f64(), ph.zp.z.to_f64(), 300.0 + r.log2(), m.loss_bits);
+        }
+    }
+}
