@@ -97,8 +97,6 @@ fn form_of(g: Gauge) -> DipoleForm {
         Gauge::Velocity => DipoleForm::Velocity,
         Gauge::Length => DipoleForm::Length,
         Gauge::Acceleration => DipoleForm::Acceleration,
-        #[allow(unreachable_patterns)]
-        _ => DipoleForm::Velocity,
     }
 }
 

@@ -1,0 +1,232 @@
+//! Checks of the energy-normalized Coulomb continuum and the closed-form
+//! bound-free integrals of `kzero_basis::continuum`.
+//!
+//! Outside references: the exact bound-bound radial integrals (polynomial x
+//! exponential integrals, `radial::radial_integral`), the commutator
+//! identities p = i[H, r] and grad V = i[H, p] (common practice), the
+//! Gauss-Laguerre rule of the gauss-quad crate (an independent
+//! general-purpose library) and the large-r amplitude sqrt(2/(pi k)) of an
+//! energy-normalized radial function (common practice).
+
+use gauss_quad::GaussLaguerre;
+use kzero_basis::continuum::{continuum_function, BoundFreeKernel, DipoleForm};
+use kzero_basis::gradient::{gradient_function, Channel};
+use kzero_basis::radial::{radial_integral, reduced_radial_function};
+use kzero_basis::{BasisError, BoundState};
+use rug::{Float, Rational};
+
+const P: u32 = 256;
+
+fn exact(m: &BoundState, s: &BoundState, ch: Channel, form: DipoleForm) -> Float {
+    match form {
+        DipoleForm::Length => radial_integral(m, s, 1).unwrap().to_float(P),
+        DipoleForm::Velocity => reduced_radial_function(m)
+            .integral_with(&gradient_function(s, ch).unwrap(), 0)
+            .unwrap()
+            .to_float(P),
+        DipoleForm::Acceleration => {
+            let v = radial_integral(m, s, -2).unwrap().to_float(P);
+            v * Float::with_val(P, s.z())
+        }
+    }
+}
+
+const FORMS: [DipoleForm; 3] = [
+    DipoleForm::Length,
+    DipoleForm::Velocity,
+    DipoleForm::Acceleration,
+];
+
+fn rel(a: &Float, b: &Float) -> f64 {
+    let d = Float::with_val(P, a - b).abs();
+    let s = Float::with_val(P, a.abs_ref()).max(&Float::with_val(P, b.abs_ref()));
+    (d / s).to_f64()
+}
+
+/// The continued closed form at integer nu = n' reproduces
+/// sqrt(n'^3/Z^2) times the exact bound-bound integral, in all three forms.
+#[test]
+fn continuation_matches_exact_bound_bound() {
+    let cases: &[(i64, i64, i64, i64)] = &[
+        // (n, l, Z numerator, Z denominator)
+        (1, 0, 1, 1),
+        (2, 1, 1, 1),
+        (3, 2, 2, 1),
+        (5, 0, 3, 2),
+        (20, 7, 1, 1),
+        (60, 1, 1, 1),
+    ];
+    for &(n, l, zn, zd) in cases {
+        let z = Rational::from((zn, zd));
+        let s = BoundState::new(n, l, z.clone()).unwrap();
+        for ch in Channel::open(l as u32) {
+            let big_l = ch.big_l(l as u32) as i64;
+            for form in FORMS {
+                let k = BoundFreeKernel::new(&s, ch, form).unwrap();
+                for np in [n + 1, n + 3, 2 * n + 5] {
+                    let m = BoundState::new(np, big_l, z.clone()).unwrap();
+                    let ex = exact(&m, &s, ch, form);
+                    // sqrt(n'^3 / Z^2)
+                    let sc = Float::with_val(
+                        P,
+                        &Rational::from((np * np * np, 1)) / Rational::from(&z * &z),
+                    )
+                    .sqrt();
+                    let want = ex * sc;
+                    let got = k.bound_continued(&Float::with_val(P, np), P).unwrap().value;
+                    assert!(
+                        rel(&want, &got) < 1e-70,
+                        "({n},{l}) Z={zn}/{zd} L={big_l} {form:?} n'={np}: {want} vs {got}"
+                    );
+                }
+            }
+        }
+    }
+}
+
+/// p = i[H, r] and grad V = i[H, p]: in the continuum, velocity = -D length
+/// and acceleration = -D velocity (D = E - E_n), to the working precision,
+/// from near threshold to very high energy.
+#[test]
+fn three_forms_agree_in_the_continuum() {
+    let states: &[(i64, i64)] = &[(1, 0), (2, 1), (4, 3), (9, 0), (30, 2)];
+    let energies = ["1e-12", "3e-3", "0.5", "40", "1e6", "1e15"];
+    for &(n, l) in states {
+        let s = BoundState::hydrogen(n, l).unwrap();
+        let en = Float::with_val(P, &s.energy());
+        for ch in Channel::open(l as u32) {
+            let ks: Vec<BoundFreeKernel> = FORMS
+                .iter()
+                .map(|f| BoundFreeKernel::new(&s, ch, *f).unwrap())
+                .collect();
+            for e in energies {
+                let ef = Float::with_val(P, Float::parse(e).unwrap());
+                let d = Float::with_val(P, &ef - &en);
+                let v: Vec<Float> = ks
+                    .iter()
+                    .map(|k| k.continuum(&ef, P).unwrap().value)
+                    .collect();
+                let lv = -Float::with_val(P, &v[0] * &d);
+                let va = -Float::with_val(P, &v[1] * &d);
+                assert!(rel(&lv, &v[1]) < 1e-60, "({n},{l}) E={e} length/velocity");
+                assert!(rel(&va, &v[2]) < 1e-60, "({n},{l}) E={e} velocity/accel");
+            }
+        }
+    }
+}
+
+/// Threshold: n'^3 |<n' L|r|n l>|^2 -> |<E=0 L|r|n l>|^2, with the 1/n'^2
+/// approach of a smooth density; the continuum side joins from above.
+#[test]
+fn rydberg_series_joins_the_continuum() {
+    for &(n, l) in &[(1i64, 0i64), (2, 1), (3, 0)] {
+        let s = BoundState::hydrogen(n, l).unwrap();
+        for ch in Channel::open(l as u32) {
+            let big_l = ch.big_l(l as u32) as i64;
+            let k = BoundFreeKernel::new(&s, ch, DipoleForm::Length).unwrap();
+            let zero = Float::with_val(P, 0);
+            let at0 = Float::with_val(P, k.continuum(&zero, P).unwrap().value.square_ref());
+            let mut scaled = Vec::new();
+            for np in [100i64, 200, 400] {
+                let m = BoundState::hydrogen(np, big_l).unwrap();
+                let ex = radial_integral(&m, &s, 1).unwrap().square();
+                let dens = Float::with_val(P, &(ex * Rational::from(np * np * np)));
+                let diff = Float::with_val(P, &dens - &at0);
+                scaled.push((diff * Float::with_val(P, np * np)).to_f64());
+            }
+            // (density - threshold value) n'^2 tends to a constant
+            let r1 = (scaled[1] / scaled[0] - 1.0).abs();
+            let r2 = (scaled[2] / scaled[1] - 1.0).abs();
+            assert!(r2 < 1e-3 && r2 < r1, "({n},{l}) L={big_l}: {scaled:?}");
+            // from above threshold: E = 1e-12 differs from E = 0 by O(E)
+            let tiny = Float::with_val(P, Float::parse("1e-12").unwrap());
+            let up = Float::with_val(P, k.continuum(&tiny, P).unwrap().value.square_ref());
+            assert!(rel(&up, &at0) < 1e-9, "({n},{l}) continuum side");
+            // and the continued bound side at nu = 1e6
+            let nu = Float::with_val(P, 1_000_000);
+            let down = Float::with_val(P, k.bound_continued(&nu, P).unwrap().value.square_ref());
+            assert!(rel(&down, &at0) < 1e-9, "({n},{l}) bound side");
+        }
+    }
+}
+
+/// The closed form against direct integration of the power-series continuum
+/// function with the gauss-quad Gauss-Laguerre rule (double precision).
+#[test]
+fn closed_form_against_gauss_laguerre() {
+    let rule = GaussLaguerre::new(
+        std::num::NonZeroUsize::new(120).unwrap(),
+        0.0.try_into().unwrap(),
+    );
+    for &(n, l, k) in &[(1i64, 0i64, 0.5f64), (2, 1, 0.8), (3, 1, 0.3)] {
+        let s = BoundState::hydrogen(n, l).unwrap();
+        let kap = 1.0 / n as f64;
+        let u_nl = reduced_radial_function(&s);
+        for ch in Channel::open(l as u32) {
+            let big_l = ch.big_l(l as u32);
+            let ker = BoundFreeKernel::new(&s, ch, DipoleForm::Length).unwrap();
+            let kf = Float::with_val(P, k);
+            let closed = ker.continuum_k(&kf, P).unwrap().value.to_f64();
+            // int e^{-x} g(x) dx with r = x / kappa: int u_E r u_nl dr
+            let z = Rational::from(1);
+            let num = rule.integrate(|x| {
+                let r = x / kap;
+                let rf = Float::with_val(80, r);
+                let (u, _) = continuum_function(&kf, big_l, &z, &rf, 80).unwrap();
+                let b = u_nl.eval(&rf, 80).to_f64() * (kap * r).exp(); // strip e^{-kappa r}
+                u.to_f64() * r * b / kap
+            });
+            assert!(
+                ((num - closed) / closed).abs() < 1e-8,
+                "({n},{l}) L={big_l} k={k}: quadrature {num} vs closed {closed}"
+            );
+        }
+    }
+}
+
+/// Energy normalization: at large r the amplitude of u_EL tends to
+/// sqrt(2/(pi k)) (WKB amplitude with the local wave number).
+#[test]
+fn energy_normalization_amplitude() {
+    let z = Rational::from(1);
+    for &(k, big_l) in &[(1.0f64, 0u32), (0.7, 1), (1.5, 3)] {
+        let kf = Float::with_val(P, k);
+        let r = 400.0f64;
+        let (u, du) = continuum_function(&kf, big_l, &z, &Float::with_val(P, r), 64).unwrap();
+        let (u, du) = (u.to_f64(), du.to_f64());
+        let ll = f64::from(big_l * (big_l + 1));
+        let kloc = (k * k + 2.0 / r - ll / (r * r)).sqrt();
+        // WKB: u = A kloc^{-1/2} sin(...), so u^2 kloc + du^2/kloc = A^2
+        let a2 = u * u * kloc + du * du / kloc;
+        let want = 2.0 / std::f64::consts::PI;
+        assert!(
+            ((a2 - want) / want).abs() < 1e-4,
+            "k={k} L={big_l}: {a2} vs {want}"
+        );
+    }
+}
+
+#[test]
+fn bad_arguments_are_typed_errors() {
+    let s = BoundState::hydrogen(3, 0).unwrap();
+    assert!(matches!(
+        BoundFreeKernel::new(&s, Channel::Down, DipoleForm::Length),
+        Err(BasisError::InvalidArgument(_))
+    ));
+    let k = BoundFreeKernel::new(&s, Channel::Up, DipoleForm::Velocity).unwrap();
+    let neg = Float::with_val(P, -1);
+    assert!(matches!(
+        k.continuum(&neg, P),
+        Err(BasisError::InvalidArgument(_))
+    ));
+    assert!(matches!(
+        k.continuum(&Float::with_val(P, 1), 20),
+        Err(BasisError::PrecisionTooLow { .. })
+    ));
+    assert!(matches!(
+        k.bound_continued(&Float::with_val(P, 3), P),
+        Err(BasisError::InvalidArgument(_))
+    ));
+    let nan = Float::with_val(P, rug::float::Special::Nan);
+    assert!(k.continuum(&nan, P).is_err());
+}
