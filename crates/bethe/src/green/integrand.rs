@@ -16,7 +16,7 @@
 use super::channel::ChannelFloat;
 use super::meixner::{channel_j, NuPoint};
 use super::meter::Meter;
-use rug::Float;
+use rug::{Assign, Float};
 
 /// A lower-state term rounded to the working precision.
 #[derive(Debug, Clone)]
@@ -25,6 +25,19 @@ pub struct PoleFloat {
     pub nprime: u32,
     /// c D (hartree times the dipole weight).
     pub cd: Float,
+}
+
+impl PoleFloat {
+    /// The term c D / (D + w) as k nu^2 / (n'^2 - nu^2) with k = 2 c D n'^2:
+    /// returns (k, n'^2).
+    fn split(&self) -> (Float, Float) {
+        let prec = self.cd.prec();
+        let n2 = u64::from(self.nprime) * u64::from(self.nprime);
+        (
+            Float::with_val(prec, &self.cd * (2 * n2)),
+            Float::with_val(prec, n2),
+        )
+    }
 }
 
 /// Everything the integrand needs, at one working precision.
@@ -36,6 +49,8 @@ pub struct Problem {
     pub channels: Vec<ChannelFloat>,
     /// Lower-state terms of all channels.
     pub poles: Vec<PoleFloat>,
+    /// The same as (2 c D n'^2, n'^2) pairs.
+    pub pole_split: Vec<(Float, Float)>,
     /// 2 * Dsum_up (exact value rounded).
     pub two_dsum_up: Float,
 }
@@ -50,6 +65,23 @@ pub struct Sample {
 }
 
 impl Problem {
+    /// Assembles a problem, precomputing the pole terms.
+    pub fn new(
+        n: u32,
+        channels: Vec<ChannelFloat>,
+        poles: Vec<PoleFloat>,
+        two_dsum_up: Float,
+    ) -> Self {
+        let pole_split = poles.iter().map(PoleFloat::split).collect();
+        Problem {
+            n,
+            channels,
+            poles,
+            pole_split,
+            two_dsum_up,
+        }
+    }
+
     /// I(nu) and its logarithmic coefficient. `meter` records cancellation.
     pub fn sample(&self, nu: &Float, meter: &mut Meter) -> Sample {
         let prec = nu.prec();
@@ -58,8 +90,10 @@ impl Problem {
         let nu2 = Float::with_val(prec, nu * nu);
         // w = (n - nu)(n + nu) / (2 nu^2 n^2)
         let nn = u64::from(n) * u64::from(n);
-        let w = Float::with_val(prec, Float::with_val(prec, n - Float::with_val(prec, nu)) * Float::with_val(prec, nu + n))
-            / (Float::with_val(prec, &nu2 * 2u32) * nn);
+        let w = Float::with_val(
+            prec,
+            Float::with_val(prec, n - Float::with_val(prec, nu)) * Float::with_val(prec, nu + n),
+        ) / (Float::with_val(prec, &nu2 * 2u32) * nn);
         let mut jsum = Float::with_val(prec, 0);
         let mut jlog = Float::with_val(prec, 0);
         for ch in &self.channels {
@@ -76,15 +110,24 @@ impl Problem {
         meter.term(&p2);
         meter.term(&wj);
         let mut f = Float::with_val(prec, &p2 - &wj);
-        for pole in &self.poles {
-            // D + w = (n'^2 - nu^2)/(2 nu^2 n'^2)
-            let npf = pole.nprime;
-            let dpw = Float::with_val(prec, Float::with_val(prec, npf - Float::with_val(prec, nu)) * Float::with_val(prec, nu + npf))
-                / (Float::with_val(prec, &nu2 * 2u32) * (u64::from(npf) * u64::from(npf)));
-            let t = Float::with_val(prec, &pole.cd / &dpw);
-            meter.term(&t);
-            f -= t;
+        // sum_lower c D/(D + w) = nu^2 sum_lower k / (n'^2 - nu^2), in place
+        let mut acc = Float::with_val(prec, 0);
+        let mut t = Float::new(prec);
+        let mut biggest = Float::with_val(prec, 0);
+        for (k, n2) in &self.pole_split {
+            t.assign(n2);
+            t -= &nu2;
+            t.recip_mut();
+            t *= k;
+            if t.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
+                biggest.assign(&t);
+            }
+            acc += &t;
         }
+        acc *= &nu2;
+        biggest *= &nu2;
+        meter.term(&biggest);
+        f -= &acc;
         let sub = Float::with_val(prec, &self.two_dsum_up * &nu2);
         meter.term(&sub);
         f -= sub;

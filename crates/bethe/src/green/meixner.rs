@@ -18,7 +18,7 @@
 use super::channel::ChannelFloat;
 use super::meter::Meter;
 use super::stieltjes::{meixner_stieltjes, ZPoint};
-use rug::Float;
+use rug::{Assign, Float};
 
 /// Photon-energy point data for the node nu (shared by both channels).
 #[derive(Debug, Clone)]
@@ -45,11 +45,7 @@ impl NuPoint {
         NuPoint {
             nu: nu.clone(),
             tau,
-            zp: ZPoint {
-                z,
-                one_minus_z,
-                mu,
-            },
+            zp: ZPoint { z, one_minus_z, mu },
         }
     }
 }
@@ -64,20 +60,63 @@ pub struct JValue {
     pub log_coef: Float,
 }
 
-/// Recurrence coefficient b_i = i + (i+beta) z + (1-z) a.
-fn rec_b(i: usize, beta: u32, a: &Float, pt: &ZPoint) -> Float {
-    let prec = a.prec();
-    let mut b = Float::with_val(prec, &pt.z * (i as u32 + beta));
-    b += i as u32;
-    b += Float::with_val(prec, &pt.one_minus_z * a);
-    b
+/// Work space for the Meixner three-term recurrence
+/// z (i+beta) X_{i+1} = [i + (i+beta) z + (1-z) a] X_i - i X_{i-1}.
+struct Rec {
+    z: Float,
+    c1: Float,
+    beta: u32,
+    t1: Float,
+    t2: Float,
+}
+
+impl Rec {
+    fn new(beta: u32, a: &Float, pt: &ZPoint) -> Self {
+        let prec = a.prec();
+        Rec {
+            z: pt.z.clone(),
+            c1: Float::with_val(prec, &pt.one_minus_z * a),
+            beta,
+            t1: Float::new(prec),
+            t2: Float::new(prec),
+        }
+    }
+
+    /// X_{i+1} from X_i, X_{i-1} (forward).
+    fn forward(&mut self, i: usize, xi: &Float, xim1: &Float) -> Float {
+        let ib = i as u32 + self.beta;
+        // t2 = z (i + beta); t1 = (t2 + i + c1) X_i - i X_{i-1}
+        self.t2.assign(&self.z * ib);
+        self.t1.assign(&self.t2 + &self.c1);
+        self.t1 += i as u32;
+        self.t1 *= xi;
+        let mut out = Float::with_val(xi.prec(), xim1 * i as u32);
+        self.t1 -= &out;
+        out.assign(&self.t1 / &self.t2);
+        out
+    }
+
+    /// X_{i-1} from X_i, X_{i+1} (backward): (b_i X_i - z (i+beta) X_{i+1}) / i.
+    fn backward(&mut self, i: usize, xi: &Float, xip1: &Float) -> Float {
+        let ib = i as u32 + self.beta;
+        self.t2.assign(&self.z * ib);
+        self.t1.assign(&self.t2 + &self.c1);
+        self.t1 += i as u32;
+        self.t1 *= xi;
+        self.t2 *= xip1;
+        self.t1 -= &self.t2;
+        let mut out = Float::new(xi.prec());
+        out.assign(&self.t1 / i as u32);
+        out
+    }
 }
 
 /// weight * J_L(nu) for one channel.
 ///
 /// # Accuracy
 /// Cancellation (in m(a), in the forward recurrence and in the final sum) is
-/// recorded in `meter`; the result carries about prec - meter.loss_bits bits.
+/// partly recorded in `meter`; the caller measures the rest by comparing
+/// precisions (see `pilot_guard` in the parent module).
 pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
     let prec = p.nu.prec();
     let beta = ch.beta;
@@ -98,34 +137,41 @@ pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
         eta.push(Float::with_val(prec, c * &pw));
         pw *= &mtau;
     }
+    let mut rec = Rec::new(beta, &a, zp);
     // M_i(-a): M_0 = 1, M_1 = 1 + a (1-z)/(z beta)
     let zb = Float::with_val(prec, &zp.z * beta);
-    let mut mm = Vec::with_capacity(m);
+    let mut mm: Vec<Float> = Vec::with_capacity(m);
     mm.push(Float::with_val(prec, 1));
     if m > 1 {
-        let m1 = Float::with_val(prec, Float::with_val(prec, &a * &zp.one_minus_z) / &zb) + 1u32;
+        let m1 = Float::with_val(prec, &rec.c1 / &zb) + 1u32;
         mm.push(m1);
     }
     for i in 1..m.saturating_sub(1) {
-        let b = rec_b(i, beta, &a, zp);
-        let num = Float::with_val(prec, &b * &mm[i]) - Float::with_val(prec, &mm[i - 1] * i as u32);
-        let den = Float::with_val(prec, &zp.z * (i as u32 + beta));
-        mm.push(num / den);
+        let next = rec.forward(i, &mm[i], &mm[i - 1]);
+        mm.push(next);
     }
     // rho_0 = m(a)
     let st = meixner_stieltjes(beta, &a, zp, meter);
-    let rho = second_kind(beta, &a, zp, &st.value, m, meter);
+    let rho = second_kind(&mut rec, &a, zp, &st.value, m, meter);
     // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i
     let mut s_prev = Float::with_val(prec, 0);
     let mut t = Float::with_val(prec, 0);
+    let mut em = Float::new(prec);
+    let mut inner = Float::new(prec);
+    let mut biggest = Float::with_val(prec, 0);
     for j in 0..m {
-        let em = Float::with_val(prec, &eta[j] * &mm[j]);
-        let inner = Float::with_val(prec, &em + Float::with_val(prec, &s_prev * 2u32));
-        let term = Float::with_val(prec, &eta[j] * &rho[j]) * inner;
-        meter.term(&term);
-        t += term;
-        s_prev += em;
+        em.assign(&eta[j] * &mm[j]);
+        inner.assign(&s_prev * 2u32);
+        inner += &em;
+        inner *= &eta[j];
+        inner *= &rho[j];
+        if inner.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
+            biggest.assign(&inner);
+        }
+        t += &inner;
+        s_prev += &em;
     }
+    meter.term(&biggest);
     meter.result(&t);
     // P(-a) = S_{M}; log part of T = P(-a)^2 * log_coef(m)
     let p2 = Float::with_val(prec, &s_prev * &s_prev);
@@ -139,7 +185,7 @@ pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
 /// rho_i, i = 0..m, from rho_0 = m(a): forward recurrence when it is stable
 /// enough (z near 1), backward (Miller) recurrence normalized to rho_0 otherwise.
 fn second_kind(
-    beta: u32,
+    rec: &mut Rec,
     a: &Float,
     zp: &ZPoint,
     rho0: &Float,
@@ -147,6 +193,7 @@ fn second_kind(
     meter: &mut Meter,
 ) -> Vec<Float> {
     let prec = a.prec();
+    let beta = rec.beta;
     let lz = -zp.z.to_f64().log2();
     let forward_loss = lz * m as f64;
     let mut rho = Vec::with_capacity(m);
@@ -158,18 +205,16 @@ fn second_kind(
     if forward_loss <= 24.0 {
         // rho_1 = rho_0 - (1-z)(1 - a rho_0)/(z beta)
         let one_m_arho = Float::with_val(prec, 1u32 - Float::with_val(prec, a * rho0));
-        let r1 = Float::with_val(prec, rho0 - Float::with_val(prec, &zp.one_minus_z * &one_m_arho) / &zb);
+        let r1 = Float::with_val(
+            prec,
+            rho0 - Float::with_val(prec, &zp.one_minus_z * &one_m_arho) / &zb,
+        );
         meter.term(rho0);
         meter.result(&r1);
         rho.push(r1);
         for i in 1..m - 1 {
-            let b = rec_b(i, beta, a, zp);
-            let x = Float::with_val(prec, &b * &rho[i]);
-            let y = Float::with_val(prec, &rho[i - 1] * i as u32);
-            meter.term(&x);
-            let num = Float::with_val(prec, &x - &y);
-            meter.result(&num);
-            rho.push(num / Float::with_val(prec, &zp.z * (i as u32 + beta)));
+            let next = rec.forward(i, &rho[i], &rho[i - 1]);
+            rho.push(next);
         }
         return rho;
     }
@@ -183,11 +228,7 @@ fn second_kind(
         if i < m {
             store[i] = y.clone();
         }
-        // y_{i-1} = (b_i y_i - z (i+beta) y_{i+1}) / i
-        let b = rec_b(i, beta, a, zp);
-        let prev = (Float::with_val(prec, &b * &y)
-            - Float::with_val(prec, &y_hi * &zp.z) * (i as u32 + beta))
-            / i as u32;
+        let prev = rec.backward(i, &y, &y_hi);
         y_hi = y;
         y = prev;
     }

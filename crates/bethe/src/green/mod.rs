@@ -91,12 +91,15 @@ impl StateData {
                 });
             }
         }
-        Problem {
-            n: self.n,
-            channels: self.chans.iter().map(|c| ChannelFloat::new(c, prec)).collect(),
+        Problem::new(
+            self.n,
+            self.chans
+                .iter()
+                .map(|c| ChannelFloat::new(c, prec))
+                .collect(),
             poles,
-            two_dsum_up: Float::with_val(prec, Rational::from(&self.dsum_up * 2u32)),
-        }
+            Float::with_val(prec, Rational::from(&self.dsum_up * 2u32)),
+        )
     }
 
     /// Sum over lower states of c D ln|D|, plus Dsum_up ln w0 and Dsum ln 2.
@@ -185,17 +188,16 @@ fn evaluate(sd: &StateData, bits: u32, level: u32, prec: u32) -> (Float, i32, us
     for &(b, e) in &pans {
         let bf = Float::with_val(prec, b);
         let h = Float::with_val(prec, e - b);
-        let part: Vec<(Float, i32)> = r1
-            .x
-            .par_iter()
-            .zip(r1.w.par_iter())
-            .map(|(x, w)| {
-                let nu = Float::with_val(prec, &bf + Float::with_val(prec, x * &h));
-                let mut m = Meter::new();
-                let s = prob.sample(&nu, &mut m);
-                (Float::with_val(prec, &s.value * w), m.loss_bits)
-            })
-            .collect();
+        let part: Vec<(Float, i32)> =
+            r1.x.par_iter()
+                .zip(r1.w.par_iter())
+                .map(|(x, w)| {
+                    let nu = Float::with_val(prec, &bf + Float::with_val(prec, x * &h));
+                    let mut m = Meter::new();
+                    let s = prob.sample(&nu, &mut m);
+                    (Float::with_val(prec, &s.value * w), m.loss_bits)
+                })
+                .collect();
         for (c, l) in &part {
             integral += Float::with_val(prec, c * &h);
             loss = loss.max(*l);

@@ -160,21 +160,19 @@ mod tests {
     fn integrates_polynomials_and_logs() {
         let r = rule(20, 256);
         // int_0^1 x^7 dx = 1/8
-        let s: Float = r
-            .x
-            .iter()
-            .zip(&r.w)
-            .map(|(x, w)| Float::with_val(256, x.clone().pow(7u32)) * w)
-            .fold(Float::with_val(256, 0), |a, b| a + b);
+        let s: Float =
+            r.x.iter()
+                .zip(&r.w)
+                .map(|(x, w)| Float::with_val(256, x.clone().pow(7u32)) * w)
+                .fold(Float::with_val(256, 0), |a, b| a + b);
         let err = (s - Float::with_val(256, 0.125)).abs();
         assert!(err < 1e-70, "{err}");
         // int_0^1 x^5 ln x dx = -1/36
-        let s: Float = r
-            .x
-            .iter()
-            .zip(&r.wlog)
-            .map(|(x, w)| Float::with_val(256, x.clone().pow(5u32)) * w)
-            .fold(Float::with_val(256, 0), |a, b| a + b);
+        let s: Float =
+            r.x.iter()
+                .zip(&r.wlog)
+                .map(|(x, w)| Float::with_val(256, x.clone().pow(5u32)) * w)
+                .fold(Float::with_val(256, 0), |a, b| a + b);
         let err = (s + Float::with_val(256, 1) / 36u32).abs();
         assert!(err < 1e-70, "{err}");
         // int_0^1 exp(x) ln x dx = -(Ei-type constant) = -1.3179021514544038949...
@@ -188,12 +186,11 @@ mod tests {
             }
             exact -= Float::with_val(256, 1) / (Float::with_val(256, &fact) * ((k + 1) * (k + 1)));
         }
-        let s: Float = r
-            .x
-            .iter()
-            .zip(&r.wlog)
-            .map(|(x, w)| Float::with_val(256, x.clone().exp()) * w)
-            .fold(Float::with_val(256, 0), |a, b| a + b);
+        let s: Float =
+            r.x.iter()
+                .zip(&r.wlog)
+                .map(|(x, w)| Float::with_val(256, x.clone().exp()) * w)
+                .fold(Float::with_val(256, 0), |a, b| a + b);
         let err = (s - exact).abs();
         assert!(err < 1e-25, "{err}");
     }

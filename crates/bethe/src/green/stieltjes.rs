@@ -290,7 +290,9 @@ mod tests {
                     let closed = meixner_stieltjes(beta, &a, &pt, &mut m).value;
                     let mut m2 = Meter::new();
                     let direct = series(beta, &a, &pt, &mut m2);
-                    let rel = Float::with_val(prec, (closed - &direct) / &direct).abs().to_f64();
+                    let rel = Float::with_val(prec, (closed - &direct) / &direct)
+                        .abs()
+                        .to_f64();
                     assert!(rel < 1e-60, "beta={beta} z={zs} a={aval} rel={rel:e}");
                 }
             }
