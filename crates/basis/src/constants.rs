@@ -37,4 +37,3 @@ pub const SPEED_OF_LIGHT_M_PER_S: f64 = 299_792_458.0;
 /// Proton-electron mass ratio m_p / m_e = 1836.15267343(11).
 /// CODATA 2018, Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021).
 pub const PROTON_ELECTRON_MASS_RATIO: f64 = 1_836.152_673_43;
-

@@ -94,12 +94,7 @@ pub fn angular_weight(l: u32, l2: u32) -> Result<Rational, BasisError> {
     } else if l == l2 + 1 {
         Ok(Channel::Down.weight(l))
     } else {
-        Err(BasisError::NotDipoleAllowed {
-            n: 0,
-            l,
-            n2: 0,
-            l2,
-        })
+        Err(BasisError::NotDipoleAllowed { n: 0, l, n2: 0, l2 })
     }
 }
 

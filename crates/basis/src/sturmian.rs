@@ -34,7 +34,9 @@ impl MatchedExpansion {
     /// gamma_i at `prec` bits.
     pub fn gamma(&self, i: usize, prec: u32) -> Float {
         let alpha = 2 * self.big_l + 1;
-        let r = Rational::from(&self.radicand * Rational::from((factorial(i as u32), factorial(i as u32 + alpha))));
+        let r = Rational::from(
+            &self.radicand * Rational::from((factorial(i as u32), factorial(i as u32 + alpha))),
+        );
         Float::with_val(prec, &r).sqrt() * &self.coef[i]
     }
 }
@@ -207,10 +209,7 @@ pub fn sturmian_overlaps(
         let wp = bits + guard;
         let (vals, loss) = overlaps_at(f, big_l, nu, kmax, wp, bits, &norm2);
         if loss + 24.0 <= f64::from(guard) {
-            return Ok(vals
-                .into_iter()
-                .map(|v| Float::with_val(bits, v))
-                .collect());
+            return Ok(vals.into_iter().map(|v| Float::with_val(bits, v)).collect());
         }
         let need = (loss + 48.0).ceil().max(f64::from(guard) * 2.0);
         guard = need.min(f64::from(u32::MAX / 4)) as u32;
@@ -284,7 +283,7 @@ fn overlaps_at(
     let mut apow_abs: Vec<Float> = vec![zero.clone(); m as usize + 1]; // (1+t)^q
     apow[0] = Float::with_val(wp, 1);
     apow_abs[0] = Float::with_val(wp, 1);
-    for q in 0..=m as usize {
+    for (q, wq) in w.iter().enumerate() {
         if q > 0 {
             // U <- (1 + rho t) U   (degree q-1 -> q)
             for j in (1..=q).rev() {
@@ -301,10 +300,10 @@ fn overlaps_at(
                 apow_abs[j] += ta;
             }
         }
-        if w[q] != 0 {
-            let wa = Float::with_val(wp, w[q].abs_ref());
+        if *wq != 0 {
+            let wa = Float::with_val(wp, wq.abs_ref());
             for j in 0..=q {
-                let t = Float::with_val(wp, &w[q] * &apow[j]);
+                let t = Float::with_val(wp, wq * &apow[j]);
                 u[j] += t;
                 let ta = Float::with_val(wp, &wa * &apow_abs[j]);
                 ua[j] += ta;

@@ -29,7 +29,15 @@ fn check_pair(a: &BoundState, b: &BoundState) {
         b.n(),
         b.l()
     );
-    assert_eq!(sign(&g), sign(&d), "sign <{} {}|r|{} {}>", a.n(), a.l(), b.n(), b.l());
+    assert_eq!(
+        sign(&g),
+        sign(&d),
+        "sign <{} {}|r|{} {}>",
+        a.n(),
+        a.l(),
+        b.n(),
+        b.l()
+    );
 }
 
 #[test]
@@ -126,8 +134,16 @@ fn gauge_identities_exact() {
         let r2 = dipole_squared(a, b, DipoleForm::Length).unwrap();
         let p2 = dipole_squared(a, b, DipoleForm::Velocity).unwrap();
         let f2 = dipole_squared(a, b, DipoleForm::Acceleration).unwrap();
-        assert_eq!(p2, Rational::from(&de2 * &r2), "velocity/length {a:?} {b:?}");
-        assert_eq!(f2, Rational::from(&de2 * &p2), "acceleration/velocity {a:?} {b:?}");
+        assert_eq!(
+            p2,
+            Rational::from(&de2 * &r2),
+            "velocity/length {a:?} {b:?}"
+        );
+        assert_eq!(
+            f2,
+            Rational::from(&de2 * &p2),
+            "acceleration/velocity {a:?} {b:?}"
+        );
         if a.n() == b.n() {
             assert_eq!(p2, 0);
             assert!(r2 > 0);
@@ -138,7 +154,11 @@ fn gauge_identities_exact() {
 #[test]
 fn angular_weights_and_symmetry() {
     // weight (l+1)/(2l+1) up, l/(2l+1) down: (2l+1) |r_{l->l'}|^2 is symmetric
-    for (a, b) in [(st(3, 1), st(4, 2)), (st(5, 4), st(6, 3)), (st(2, 0), st(3, 1))] {
+    for (a, b) in [
+        (st(3, 1), st(4, 2)),
+        (st(5, 4), st(6, 3)),
+        (st(2, 0), st(3, 1)),
+    ] {
         let ab = dipole_squared(&a, &b, DipoleForm::Length).unwrap();
         let ba = dipole_squared(&b, &a, DipoleForm::Length).unwrap();
         assert_eq!(

@@ -43,7 +43,9 @@ fn split_csv(line: &str) -> Vec<String> {
 
 /// Rows of a table with `#` comments and a header line, as name -> value maps.
 fn rows(text: &str, sep: char) -> Vec<std::collections::HashMap<String, String>> {
-    let mut lines = text.lines().filter(|l| !l.starts_with('#') && !l.trim().is_empty());
+    let mut lines = text
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.trim().is_empty());
     let split = |l: &str| -> Vec<String> {
         if sep == ',' {
             split_csv(l)
@@ -160,7 +162,11 @@ fn nist_rates_and_shell_values() {
 #[test]
 fn rate_is_consistent_with_oscillator_strength() {
     // A(u -> d) = -2 alpha^3 dE^2 f(u -> d) (atomic units), exactly
-    for (u, d) in [(st(2, 1), st(1, 0)), (st(5, 2), st(3, 1)), (st(9, 0), st(4, 1))] {
+    for (u, d) in [
+        (st(2, 1), st(1, 0)),
+        (st(5, 2), st(3, 1)),
+        (st(9, 0), st(4, 1)),
+    ] {
         let de = u.energy() - d.energy();
         let a = emission_rate_au_over_alpha3(&u, &d).unwrap();
         let f = oscillator_strength(&u, &d).unwrap();
@@ -206,7 +212,12 @@ fn bad_input_is_a_typed_error() {
     // non-dipole transitions
     assert!(matches!(
         oscillator_strength(&st(1, 0), &st(2, 0)),
-        Err(BasisError::NotDipoleAllowed { n: 1, l: 0, n2: 2, l2: 0 })
+        Err(BasisError::NotDipoleAllowed {
+            n: 1,
+            l: 0,
+            n2: 2,
+            l2: 0
+        })
     ));
     assert!(matches!(
         oscillator_strength(&st(2, 0), &st(2, 0)),

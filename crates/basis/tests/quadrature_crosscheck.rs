@@ -71,9 +71,12 @@ fn quad(a: (u32, u32), b: (u32, u32), k: i32, damped: bool) -> (f64, f64) {
     (v * scale, m * scale)
 }
 
+/// ((n_a, l_a), (n_b, l_b), power k)
+type Case = ((u32, u32), (u32, u32), i32);
+
 #[test]
 fn exact_integrals_match_gauss_laguerre() {
-    let cases: &[((u32, u32), (u32, u32), i32)] = &[
+    let cases: &[Case] = &[
         ((1, 0), (2, 1), 1),
         ((2, 0), (2, 1), 1),
         ((3, 2), (3, 2), -2),

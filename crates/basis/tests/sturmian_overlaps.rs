@@ -38,11 +38,11 @@ fn matched_scale_agrees_with_exact_expansion() {
     ];
     for (f, big_l, n) in cases {
         let nu = Float::with_val(bits, n); // 1/kappa = n for Z = 1
-        // The stored coefficients of matched_expansion already include
-        // f.scale; its normalization must be sqrt(f.radicand) alone for
-        // sum gamma_i^2 = int f^2 r dr. Build the expansion with that
-        // normalization so that the check is against the exact terminating
-        // expansion however the stored radicand is formed.
+                                           // The stored coefficients of matched_expansion already include
+                                           // f.scale; its normalization must be sqrt(f.radicand) alone for
+                                           // sum gamma_i^2 = int f^2 r dr. Build the expansion with that
+                                           // normalization so that the check is against the exact terminating
+                                           // expansion however the stored radicand is formed.
         let mut exact = matched_expansion(&f, big_l).unwrap();
         exact.radicand = f.radicand.clone();
         let mut s2 = Float::with_val(bits, 0);
@@ -50,7 +50,10 @@ fn matched_scale_agrees_with_exact_expansion() {
             let g = exact.gamma(k, bits);
             s2 += Float::with_val(bits, &g * &g);
         }
-        assert!(rel_diff(&s2, &norm2(&f, bits)) < 1e-55, "matched completeness n={n}");
+        assert!(
+            rel_diff(&s2, &norm2(&f, bits)) < 1e-55,
+            "matched completeness n={n}"
+        );
         let kmax = exact.coef.len() as u32 + 5;
         let got = sturmian_overlaps(&f, big_l, &nu, kmax, bits).unwrap();
         let scale = norm2(&f, bits).sqrt();
@@ -61,10 +64,7 @@ fn matched_scale_agrees_with_exact_expansion() {
                 Float::with_val(bits, 0)
             };
             let err = Float::with_val(bits, g - &want).abs() / &scale;
-            assert!(
-                err.to_f64() < 1e-55,
-                "n={n} L={big_l} k={k}: {g} vs {want}"
-            );
+            assert!(err.to_f64() < 1e-55, "n={n} L={big_l} k={k}: {g} vs {want}");
         }
     }
 }
@@ -105,7 +105,11 @@ fn gamma_exact(f: &PolyExp, big_l: u32, k: u32, nu: &Rational, prec: u32) -> Flo
 fn any_scale_agrees_with_explicit_laguerre_sum() {
     let bits = 160;
     let f = gradient_function(&st(5, 2), Channel::Up).unwrap(); // L = 3, kappa = 1/5
-    for nu in [Rational::from((5, 2)), Rational::from((29, 4)), Rational::from(13)] {
+    for nu in [
+        Rational::from((5, 2)),
+        Rational::from((29, 4)),
+        Rational::from(13),
+    ] {
         let nuf = Float::with_val(bits, &nu);
         let got = sturmian_overlaps(&f, 3, &nuf, 30, bits).unwrap();
         for k in [0u32, 1, 2, 7, 15, 30] {
@@ -154,7 +158,10 @@ fn completeness_at_other_scales() {
                 sum += Float::with_val(bits, x * x);
             }
             let rd = rel_diff(&sum, &exact);
-            assert!(rd < 1e-60, "n={n} l={l} {ch:?} nu={factor}n: rel diff {rd:e}");
+            assert!(
+                rd < 1e-60,
+                "n={n} l={l} {ch:?} nu={factor}n: rel diff {rd:e}"
+            );
             // partial sums approach from below and the tail is small
             let last = g.last().unwrap().to_f64().abs();
             assert!(last < 1e-70 * exact.to_f64().sqrt());
