@@ -208,6 +208,8 @@ struct RunParams {
     cheb: usize,
     cheb2: usize,
     goal: f64,
+    /// Truncation threshold of the quadrature, relative to `goal`.
+    trunc: f64,
 }
 
 struct RunResult {
@@ -296,8 +298,39 @@ impl Problem {
         let tail = tails.pop().expect("two tails");
         abs_sum += tail.to_f64().abs();
         // continuum
-        let nats = (f64::from(b) * 0.6931).min(p.goal.recip().ln() + 12.0);
-        let tmax = quadrature::tau_max(nats.max(20.0));
+        // truncation: walk out in steps of 1/4 until the weighted integrand
+        // is below the truncation threshold on each side (the neglected
+        // remainder is of the size of the last term: the weights fall
+        // doubly exponentially)
+        let eps = p.goal * p.trunc;
+        let mut ends = [0.0f64; 2];
+        for (side, sign) in [(0usize, -1.0f64), (1, 1.0)] {
+            let mut t = 2.0f64;
+            loop {
+                let tau = Float::with_val(b, t * sign);
+                let nd = quadrature::node(&tau, b);
+                let f = self.cont_integrand(&nd.sin, &nd.cos, b)?;
+                let wf = Float::with_val(53, &f * &nd.weight).abs().to_f64();
+                if wf < eps {
+                    break;
+                }
+                t += 0.25;
+                if t > 7.0 {
+                    return Err(BetheError::NoConvergence {
+                        method: METHOD,
+                        n: self.state.n(),
+                        l: self.state.l(),
+                        achieved: wf,
+                        goal: p.goal,
+                    });
+                }
+            }
+            ends[side] = t * sign;
+        }
+        let (tlo, thi) = (ends[0], ends[1]);
+        if std::env::var("KZ_DBG").is_ok() {
+            eprintln!("ends {tlo} {thi} eps {eps:e}");
+        }
         let mut sums: Vec<Float> = Vec::new();
         let mut acc = Float::with_val(b, 0); // sum of w f over all nodes so far
         let mut abs_acc = 0.0f64;
@@ -305,7 +338,7 @@ impl Problem {
         let mut level = 0u32;
         let mut cont_est = f64::INFINITY;
         loop {
-            for (i, den) in quadrature::level_taus(level, tmax) {
+            for (i, den) in quadrature::level_taus(level, tlo, thi) {
                 let tau = Float::with_val(b, i) / den as u32;
                 let nd = quadrature::node(&tau, b);
                 let f = self.cont_integrand(&nd.sin, &nd.cos, b)?;
@@ -316,6 +349,12 @@ impl Problem {
             }
             let h = Float::with_val(b, Float::i_exp(1, -(level as i32)));
             sums.push(Float::with_val(b, &acc * &h));
+            if std::env::var("KZ_DBG").is_ok() {
+                eprintln!(
+                    "bits {b} level {level} nodes {nodes} sum {:.50}",
+                    sums.last().unwrap()
+                );
+            }
             if sums.len() >= 2 {
                 let m = sums.len();
                 cont_est = Float::with_val(53, &sums[m - 1] - &sums[m - 2])
@@ -340,7 +379,8 @@ impl Problem {
             bound,
             tail,
             cont,
-            est: tail_est + cont_est + rounding,
+            // the truncated ends are bounded by eps each (doubly exponential decay)
+            est: tail_est + cont_est + rounding + 2.0 * eps,
             abs_sum,
             level,
             nodes,
@@ -429,6 +469,7 @@ fn sum_with_goal(
             cheb,
             cheb2: cheb + 3.max(cheb / 4),
             goal,
+            trunc: 1e-3,
         };
         let r1 = prob.run(&p1, &exact)?;
         // measured cancellation: bits needed beyond the goal
@@ -451,6 +492,7 @@ fn sum_with_goal(
             cheb: c2,
             cheb2: c2 + 3.max(c2 / 4),
             goal,
+            trunc: 1e-6,
         };
         let r2 = prob.run(&p2, &exact2)?;
         let diff = Float::with_val(53, &r1.value - &r2.value).abs().to_f64();

@@ -20,13 +20,6 @@ pub struct Node {
     pub weight: Float,
 }
 
-/// Largest |tau| needed so that the neglected weights fall below
-/// exp(-nats) (the integrands of this module are bounded by a power of the
-/// logarithm of the endpoint distance).
-pub fn tau_max(nats: f64) -> f64 {
-    (nats / std::f64::consts::PI).asinh() + 0.05
-}
-
 /// The node at tau (any sign), at `prec` bits.
 pub fn node(tau: &Float, prec: u32) -> Node {
     let pi = Float::with_val(prec, Constant::Pi);
@@ -59,13 +52,14 @@ pub fn node(tau: &Float, prec: u32) -> Node {
 }
 
 /// The tau values of level `m` (h = 2^-m) that are new at that level
-/// (all of them for m = 0), within |tau| <= tmax.
-pub fn level_taus(m: u32, tmax: f64) -> Vec<(i64, i64)> {
+/// (all of them for m = 0), within lo <= tau <= hi.
+pub fn level_taus(m: u32, lo: f64, hi: f64) -> Vec<(i64, i64)> {
     // returned as (numerator i, denominator 2^m): tau = i / 2^m
     let den = 1i64 << m;
-    let imax = (tmax * den as f64).floor() as i64;
+    let imin = (lo * den as f64).ceil() as i64;
+    let imax = (hi * den as f64).floor() as i64;
     let mut v = Vec::new();
-    for i in -imax..=imax {
+    for i in imin..=imax {
         if m == 0 || i % 2 != 0 {
             v.push((i, den));
         }

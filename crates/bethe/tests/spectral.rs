@@ -1,0 +1,173 @@
+//! Checks of the spectral-sum method `kzero_bethe::spectral`.
+//!
+//! Reference values: Drake & Swainson, Phys. Rev. A 41, 1243 (1990), as
+//! tabulated in the CODATA 2018 adjustment (Tiesinga et al., Rev. Mod. Phys.
+//! 93, 025010 (2021)). Sum rules: <p^2> = Z^2/n^2 (virial theorem),
+//! sum |p|^2 D = 2 pi Z |psi(0)|^2 = 2Z^4/n^3 delta_l0, and the
+//! Thomas-Reiche-Kuhn sum rule sum f = 1 (all common practice).
+
+use kzero_bethe::spectral::{cost_estimate, ln_k0, spectral_sum, SpectralWeight};
+use kzero_bethe::{BetheError, Gauge, Method, Settings};
+use rug::Float;
+
+const GAUGES: [Gauge; 3] = [Gauge::Velocity, Gauge::Length, Gauge::Acceleration];
+
+fn f(s: &str) -> Float {
+    Float::with_val(256, Float::parse(s).unwrap())
+}
+
+fn diff(a: &Float, b: &Float) -> f64 {
+    Float::with_val(256, a - b).abs().to_f64()
+}
+
+/// Published values, matched to all 15 published decimals (the table's last
+/// digit is not always rounded, hence |difference| < 1e-15).
+#[test]
+fn published_values() {
+    let table = [
+        // Drake & Swainson (1990), via CODATA 2018 (Tiesinga et al. 2021)
+        (1, 0, "2.984128555765498"),
+        // Drake & Swainson (1990), via CODATA 2018 (Tiesinga et al. 2021)
+        (2, 0, "2.811769893120563"),
+        // Drake & Swainson (1990), via CODATA 2018 (Tiesinga et al. 2021)
+        (2, 1, "-0.030016708630213"),
+    ];
+    let settings = Settings::with_digits(20);
+    for (n, l, want) in table {
+        let v = ln_k0(n, l, Gauge::Velocity, &settings).unwrap();
+        assert_eq!(v.method, Method::Spectral);
+        assert_eq!((v.n, v.l, v.digits), (n as u32, l as u32, 20));
+        assert!(v.abs_err < 1e-20, "({n},{l}) estimate {}", v.abs_err);
+        let d = diff(&v.value, &f(want));
+        assert!(d < 1e-15, "({n},{l}): {} vs {want}", v.value_string());
+    }
+}
+
+/// The three forms agree within their error estimates.
+#[test]
+fn gauges_agree() {
+    let settings = Settings::with_digits(22);
+    for (n, l) in [(1, 0), (2, 1), (3, 2), (5, 0), (6, 4)] {
+        let vals: Vec<_> = GAUGES
+            .iter()
+            .map(|g| ln_k0(n, l, *g, &settings).unwrap())
+            .collect();
+        for i in 0..3 {
+            for j in i + 1..3 {
+                let d = diff(&vals[i].value, &vals[j].value);
+                let tol = vals[i].abs_err + vals[j].abs_err;
+                assert!(
+                    d <= tol && tol < 2e-22,
+                    "({n},{l}) {} vs {}: diff {d:e}, estimates {tol:e}",
+                    GAUGES[i].name(),
+                    GAUGES[j].name()
+                );
+            }
+        }
+    }
+}
+
+/// Sum rules recomputed through the spectral machinery (bound sum, Rydberg
+/// tail and continuum integral), to 20 digits, in all three forms.
+#[test]
+fn sum_rules_through_the_spectrum() {
+    let settings = Settings::with_digits(20);
+    for (n, l) in [(1i64, 0i64), (2, 0), (2, 1), (3, 2), (12, 0), (12, 5)] {
+        let n3 = (n * n * n) as f64;
+        for g in GAUGES {
+            // <p^2> = Z^2/n^2 (virial theorem)
+            let p2 = spectral_sum(n, l, g, SpectralWeight::Power(0), &settings).unwrap();
+            let want = Float::with_val(256, 1) / (n * n) as u32;
+            assert!(
+                diff(&p2.value, &want) < 1e-20,
+                "<p^2> ({n},{l}) {}",
+                g.name()
+            );
+            // sum |p|^2 D = 2 Z^4/n^3 for S states, 0 otherwise
+            let d1 = spectral_sum(n, l, g, SpectralWeight::Power(1), &settings).unwrap();
+            let want = if l == 0 {
+                Float::with_val(256, 2) / n3
+            } else {
+                Float::with_val(256, 0)
+            };
+            assert!(
+                diff(&d1.value, &want) < 1e-20,
+                "sum p^2 D ({n},{l}) {}",
+                g.name()
+            );
+            // Thomas-Reiche-Kuhn: (2/3) sum |p|^2 / D = 1 (emission negative)
+            let trk = spectral_sum(n, l, g, SpectralWeight::Power(-1), &settings).unwrap();
+            let fsum = Float::with_val(256, &trk.value * 2u32) / 3u32;
+            assert!(
+                diff(&fsum, &Float::with_val(256, 1)) < 1e-18,
+                "TRK ({n},{l}) {}: {fsum}",
+                g.name()
+            );
+            // each piece is really there
+            assert!(trk.bound != 0 && trk.tail != 0 && trk.continuum != 0);
+        }
+    }
+}
+
+/// The estimated error of a D = 20 run covers its difference from a D = 30
+/// run (and the D = 30 estimate is below 1e-30).
+#[test]
+fn error_estimate_covers_refinement() {
+    for (n, l) in [(2, 0), (3, 1), (15, 0), (9, 8)] {
+        let a = ln_k0(n, l, Gauge::Velocity, &Settings::with_digits(20)).unwrap();
+        let b = ln_k0(n, l, Gauge::Velocity, &Settings::with_digits(30)).unwrap();
+        assert!(b.abs_err < 1e-30);
+        let d = diff(&a.value, &b.value);
+        assert!(
+            d <= a.abs_err + b.abs_err && a.abs_err < 1e-20,
+            "({n},{l}): |D20 - D30| = {d:e}, estimate {:e}",
+            a.abs_err
+        );
+    }
+}
+
+/// Larger n: a spread of states stays within the goal, and S states
+/// approach their finite limit from above (values decrease with n).
+#[test]
+fn larger_n() {
+    let s = Settings::with_digits(20);
+    let a = ln_k0(30, 0, Gauge::Velocity, &s).unwrap();
+    let b = ln_k0(40, 0, Gauge::Length, &s).unwrap();
+    assert!(a.abs_err < 1e-20 && b.abs_err < 1e-20);
+    assert!(a.value > b.value && b.value > 2.7 && a.value < 2.75);
+    let c = ln_k0(40, 39, Gauge::Acceleration, &s).unwrap();
+    assert!(c.abs_err < 1e-20 && c.value < 0 && c.value > -1e-3);
+}
+
+#[test]
+fn bad_input_is_a_typed_error() {
+    let s = Settings::default();
+    assert!(matches!(
+        ln_k0(0, 0, Gauge::Velocity, &s),
+        Err(BetheError::InvalidState { .. })
+    ));
+    assert!(matches!(
+        ln_k0(3, 3, Gauge::Length, &s),
+        Err(BetheError::InvalidState { .. })
+    ));
+    assert!(matches!(
+        ln_k0(3, -1, Gauge::Length, &s),
+        Err(BetheError::InvalidState { .. })
+    ));
+    assert!(matches!(
+        ln_k0(201, 0, Gauge::Velocity, &s),
+        Err(BetheError::OutOfRange { .. })
+    ));
+    assert!(matches!(
+        ln_k0(2, 0, Gauge::Velocity, &Settings::with_digits(2)),
+        Err(BetheError::DigitsOutOfRange { .. })
+    ));
+}
+
+#[test]
+fn cost_grows_with_n_and_digits() {
+    assert!(cost_estimate(20, 0, 20) > cost_estimate(2, 0, 20));
+    assert!(cost_estimate(100, 1, 20) > cost_estimate(20, 0, 20));
+    assert!(cost_estimate(20, 0, 40) > cost_estimate(20, 0, 20));
+    assert!(cost_estimate(5, 1, 20) > cost_estimate(5, 0, 20));
+}
