@@ -40,7 +40,7 @@ use rug::{Integer, Rational};
 /// `0^0` is taken as 1, so d = 0 keeps only the term with 2k = e. In the
 /// uses below e - 2k >= 0 except for |d| = 1 (n' = n +- 1), where the top
 /// exponent can be -1; d is never 0 then.
-fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: u32) -> Rational {
+fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: i64) -> Rational {
     let kmax = a.min(b);
     let d2 = Integer::from(d * d);
     // Horner in d^2: sum_k t_k d^(2(kmax-k)), then times d^(e - 2 kmax).
@@ -56,7 +56,7 @@ fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: u32) -> Ratio
             t *= Rational::from((num * x, den));
         }
     }
-    let top = i64::from(e) - 2 * i64::from(kmax);
+    let top = e - 2 * i64::from(kmax);
     if top >= 0 {
         acc * Rational::from(d.clone().pow(top as u32))
     } else {
@@ -65,13 +65,19 @@ fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: u32) -> Ratio
     }
 }
 
+/// Largest principal quantum number accepted by [`gordon_hydrogen`] (keeps
+/// every intermediate count inside `u32`; exact evaluation is in any case
+/// only practical far below this).
+pub const MAX_N: u32 = 1 << 28;
+
 /// Gordon's formula for hydrogen: <n l| r |n2 l-1> in bohr, exact, with the
 /// sign convention of [`crate::radial::radial_function`].
 ///
 /// Preconditions are checked: l >= 1, n > l, n2 >= l.
 ///
 /// # Errors
-/// [`BasisError::InvalidState`] if (n, l) or (n2, l - 1) is not a bound state.
+/// [`BasisError::InvalidState`] if (n, l) or (n2, l - 1) is not a bound state;
+/// [`BasisError::InvalidArgument`] if n or n2 exceeds [`MAX_N`].
 ///
 /// # Accuracy
 /// Exact.
@@ -87,6 +93,12 @@ pub fn gordon_hydrogen(n: u32, l: u32, n2: u32) -> Result<Surd, BasisError> {
             n: i64::from(n2),
             l: i64::from(l) - 1,
         });
+    }
+    if n.max(n2) > MAX_N {
+        return Err(BasisError::InvalidArgument(format!(
+            "Gordon's formula is evaluated exactly; n = {} exceeds the supported {MAX_N}",
+            n.max(n2)
+        )));
     }
     if n == n2 {
         // The general expression does not cover n = n2 (its derivation
@@ -104,7 +116,8 @@ pub fn gordon_hydrogen(n: u32, l: u32, n2: u32) -> Result<Surd, BasisError> {
     let d = Integer::from(&ni - &n2i);
     let s = Integer::from(&ni + &n2i);
     let x = -Integer::from(&ni * &n2i) * 4u32;
-    let e = n + n2 - 2 * l - 2;
+    // may be -1 (n = l + 1, n2 = l): signed
+    let e = i64::from(n) + i64::from(n2) - 2 * i64::from(l) - 2;
     // Bracket: d^e F1 - d^(e+2) / s^2 F2, with
     // F1 = F(-(n-l-1), -(n2-l); 2l), F2 = F(-(n-l+1), -(n2-l); 2l).
     let f1 = hyper_poly(n - l - 1, n2 - l, 2 * l, &x, &d, e);

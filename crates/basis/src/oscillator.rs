@@ -184,7 +184,7 @@ pub fn shell_oscillator_strength(n: i64, n2: i64, z: &Rational) -> Result<Ration
             sum += oscillator_strength(&a, &b)? * Rational::from(2 * l + 1);
         }
     }
-    Ok(sum / Rational::from(n * n))
+    Ok(sum / (Rational::from(n) * Rational::from(n)))
 }
 
 /// The shell-averaged emission rate A(n_upper -> n_lower) in s^-1:
@@ -217,6 +217,6 @@ pub fn shell_emission_rate(
             sum += emission_rate_au_over_alpha3(&u, &d)? * Rational::from(2 * l + 1);
         }
     }
-    let a = sum / Rational::from(n_upper * n_upper);
+    let a = sum / (Rational::from(n_upper) * Rational::from(n_upper));
     Ok(a.to_f64() * FINE_STRUCTURE.powi(3) / ATOMIC_UNIT_OF_TIME_S * mu)
 }

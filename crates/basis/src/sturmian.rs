@@ -130,6 +130,10 @@ pub fn sturmian(big_l: u32, k: u32, nu: &Float, r: &Float, prec: u32) -> Float {
     norm * pw * e * l0
 }
 
+/// Largest `bits` accepted by [`sturmian_overlaps`]; the guard bits added
+/// internally are capped by the same number.
+pub const MAX_OVERLAP_BITS: u32 = 1 << 20;
+
 /// Overlaps gamma_k = int_0^inf S_k(r) f(r) dr, k = 0..=kmax, of the reduced
 /// function `f` with the Sturmians of angular momentum `big_l` at an
 /// arbitrary scale `nu` (bohr), at `bits` bits.
@@ -154,7 +158,9 @@ pub fn sturmian(big_l: u32, k: u32, nu: &Float, r: &Float, prec: u32) -> Float {
 ///
 /// # Errors
 /// [`BasisError::PrecisionTooLow`] for `bits` < 53;
-/// [`BasisError::InvalidArgument`] if `nu` is not a positive finite number,
+/// [`BasisError::InvalidArgument`] for `bits` > [`MAX_OVERLAP_BITS`], if the
+/// cancellation would need more guard bits than that, if `nu` is not a
+/// positive finite number,
 /// if f has a power of r below L (r f is then not expandable with
 /// polynomial coefficients of this form), or if `kmax` exceeds 10^7.
 ///
@@ -176,6 +182,11 @@ pub fn sturmian_overlaps(
     bits: u32,
 ) -> Result<Vec<Float>, BasisError> {
     crate::error::check_prec(bits)?;
+    if bits > MAX_OVERLAP_BITS {
+        return Err(BasisError::InvalidArgument(format!(
+            "working precision of {bits} bits exceeds the supported {MAX_OVERLAP_BITS}"
+        )));
+    }
     if !nu.is_finite() || *nu <= 0 {
         return Err(BasisError::InvalidArgument(format!(
             "Sturmian scale nu must be positive and finite, got {nu}"
@@ -212,7 +223,10 @@ pub fn sturmian_overlaps(
             return Ok(vals.into_iter().map(|v| Float::with_val(bits, v)).collect());
         }
         let need = (loss + 48.0).ceil().max(f64::from(guard) * 2.0);
-        guard = need.min(f64::from(u32::MAX / 4)) as u32;
+        if need > f64::from(MAX_OVERLAP_BITS) {
+            break;
+        }
+        guard = need as u32;
     }
     Err(BasisError::InvalidArgument(format!(
         "Sturmian overlaps did not reach {bits} bits (cancellation too strong at nu = {nu})"

@@ -206,9 +206,33 @@ fn bad_input_is_a_typed_error() {
             Err(BasisError::InvalidArgument(_))
         ));
     }
+    assert!(matches!(
+        sturmian_overlaps(&f, 2, &nu, 5, (1 << 20) + 1),
+        Err(BasisError::InvalidArgument(_))
+    ));
     // r^2 at the origin cannot be expanded in L = 3 Sturmians this way
     assert!(matches!(
         sturmian_overlaps(&f, 3, &nu, 5, 64),
         Err(BasisError::InvalidArgument(_))
     ));
+}
+
+#[test]
+fn n200_two_precisions_and_completeness() {
+    // the largest n of the engine: 200s, L = 1 channel, at nu = 0.5 n
+    let f = gradient_function(&st(200, 0), Channel::Up).unwrap();
+    let nu = Float::with_val(64, 100);
+    let kmax = 700;
+    let lo = sturmian_overlaps(&f, 1, &nu, kmax, 64).unwrap();
+    let hi = sturmian_overlaps(&f, 1, &nu, kmax, 160).unwrap();
+    let n2 = norm2(&f, 160);
+    let scale = Float::with_val(160, n2.sqrt_ref());
+    let mut sum = Float::with_val(160, 0);
+    for k in 0..=kmax as usize {
+        let err = Float::with_val(160, &lo[k] - &hi[k]).abs() / &scale;
+        assert!(err.to_f64() < 2e-18, "k={k}: {} vs {}", lo[k], hi[k]);
+        sum += Float::with_val(160, &hi[k] * &hi[k]);
+    }
+    let rd = rel_diff(&sum, &n2);
+    assert!(rd < 1e-40, "completeness n=200: {rd:e}");
 }
