@@ -208,13 +208,18 @@ fn compute_ln_k0(n: u32, l: u32, settings: &Settings) -> Result<Lnk0, AppError> 
     Ok(Lnk0 { engine, input })
 }
 
-/// Runs `kzero shift`.
+/// Runs `kzero shift`, printing to standard output.
 ///
 /// # Errors
 /// Bad input (exit 2): malformed or out-of-range numbers, J not allowed for
 /// l, unknown nucleus, contradicting options. Non-convergence of the engine
 /// and output failures: other (exit 1).
 pub fn run(args: &ShiftArgs) -> Result<(), AppError> {
+    output::print(&render(args)?)
+}
+
+/// Everything `kzero shift` prints, as one string (errors as [`run`]).
+fn render(args: &ShiftArgs) -> Result<String, AppError> {
     let settings = settings_from_args(args)?;
     let nucleus = nucleus_from_args(args)?;
     if args.table {
@@ -235,7 +240,7 @@ pub fn run(args: &ShiftArgs) -> Result<(), AppError> {
             (true, _) => ShiftFormat::Json,
             (false, f) => f.unwrap_or_default(),
         };
-        return run_table(args, n_max, format, &nucleus, &settings);
+        return render_table(args, n_max, format, &nucleus, &settings);
     }
     let (n, l, j) =
         match (&args.n, &args.l, &args.j) {
@@ -276,11 +281,21 @@ pub fn run(args: &ShiftArgs) -> Result<(), AppError> {
     } else {
         level_text(&shift, &lk.engine, cutoff.as_ref())
     };
-    output::print(&text)
+    Ok(text)
 }
 
 fn fmt_mhz(x: f64) -> String {
     format!("{x:.6}")
+}
+
+/// A constant with all its digits: plain decimal for moderate magnitudes,
+/// exponent form otherwise (both round-trip exactly).
+fn fmt_const(x: f64) -> String {
+    if x != 0.0 && (x.abs() < 1e-3 || x.abs() >= 1e7) {
+        format!("{x:e}")
+    } else {
+        format!("{x}")
+    }
 }
 
 fn fmt_coef(x: f64) -> String {
@@ -520,13 +535,13 @@ const TERM_COLUMNS: [(&str, &str); 7] = [
     ("v50_mhz", "V50"),
 ];
 
-fn run_table(
+fn render_table(
     args: &ShiftArgs,
     n_max: i64,
     format: ShiftFormat,
     nucleus: &Nucleus,
     settings: &Settings,
-) -> Result<(), AppError> {
+) -> Result<String, AppError> {
     let started = provenance::utc_now();
     let levels = Level::all_up_to(n_max).map_err(bad)?;
     let mut pairs: Vec<(u32, u32)> = levels.iter().map(|v| (v.n(), v.l())).collect();
@@ -614,7 +629,7 @@ fn run_table(
                 let _ = writeln!(t, "# {k}: {v}");
             }
             for (name, value, unit) in constants::listing() {
-                let _ = writeln!(t, "# constant {name}: {value} {unit}");
+                let _ = writeln!(t, "# constant {name}: {} {unit}", fmt_const(value));
             }
             let _ = writeln!(t, "{}", columns.join(","));
             for r in &rows {
@@ -636,6 +651,9 @@ fn run_table(
                     for (c, v) in columns.iter().zip(cells(r)) {
                         o.insert((*c).to_string(), json!(v));
                     }
+                    // n and l as numbers, like the rows of `kzero table`.
+                    o.insert("n".into(), json!(r.shift.level.n()));
+                    o.insert("l".into(), json!(r.shift.level.l()));
                     Value::Object(o)
                 })
                 .collect();
@@ -646,7 +664,7 @@ fn run_table(
             s
         }
     };
-    output::print(&text)
+    Ok(text)
 }
 
 #[cfg(test)]
@@ -691,6 +709,67 @@ mod tests {
             let e = nucleus_from_args(&args(bad_args)).unwrap_err();
             assert_eq!(e.exit_code(), 2, "{bad_args:?}: {e}");
         }
+    }
+
+    fn json_of(extra: &[&str]) -> Value {
+        serde_json::from_str(&render(&args(extra)).unwrap()).unwrap()
+    }
+
+    #[test]
+    fn hydrogen_lamb_shift_through_the_engine() {
+        // The whole pipeline: engine ln k0, assembly, JSON. Measured
+        // 2S1/2 - 2P1/2 = 1057.845(9) MHz (Lundeen & Pipkin, Phys. Rev. Lett.
+        // 46, 232 (1981)).
+        let s = json_of(&["2", "0", "1/2", "--json", "--digits", "10"]);
+        let p = json_of(&["2", "1", "1/2", "--json", "--digits", "10"]);
+        let f = |v: &Value, k: &str| v[k].as_f64().unwrap();
+        let lamb = f(&s, "total_mhz") - f(&p, "total_mhz");
+        let unc = f(&s, "uncertainty_mhz").hypot(f(&p, "uncertainty_mhz"));
+        assert!(
+            (lamb - 1057.845).abs() <= unc.hypot(0.009),
+            "{lamb} +- {unc}"
+        );
+        let terms = s["terms"].as_array().unwrap();
+        let sum: f64 = terms.iter().map(|t| t["mhz"].as_f64().unwrap()).sum();
+        assert!((sum - f(&s, "total_mhz")).abs() < 1e-9);
+        assert!(terms
+            .iter()
+            .all(|t| t["name"].is_string() && t["coefficient"].is_f64()));
+        assert!(s["note"].as_str().unwrap().contains("truncated expansion"));
+        assert_eq!(s["constants"]["set"], "CODATA 2018");
+    }
+
+    #[test]
+    fn table_rows_and_provenance() {
+        let csv = render(&args(&[
+            "--table",
+            "--n-max",
+            "2",
+            "--digits",
+            "8",
+            "--cutoff-estimate",
+        ]))
+        .unwrap();
+        let body: Vec<&str> = csv.lines().filter(|l| !l.starts_with('#')).collect();
+        assert!(body[0].starts_with("n,l,j,ln_k0,ln_k0_err,a41_mhz"));
+        assert!(body[0].ends_with("total_mhz,uncertainty_mhz,cutoff_mhz"));
+        let keys: Vec<String> = body[1..]
+            .iter()
+            .map(|l| l.split(',').take(3).collect::<Vec<_>>().join(" "))
+            .collect();
+        assert_eq!(keys, ["1 0 1/2", "2 0 1/2", "2 1 1/2", "2 1 3/2"]);
+        assert!(csv.contains("# note: This is a truncated expansion"));
+        assert!(csv.contains("# constants: CODATA 2018"));
+        let v: Value = serde_json::from_str(
+            &render(&args(&[
+                "--table", "--n-max", "2", "--digits", "8", "--json",
+            ]))
+            .unwrap(),
+        )
+        .unwrap();
+        assert_eq!(v["rows"].as_array().unwrap().len(), 4);
+        assert_eq!(v["rows"][3]["j"], "3/2");
+        assert_eq!(v["meta"]["constants"], "CODATA 2018");
     }
 
     #[test]

@@ -168,13 +168,15 @@ pub fn level_shift(
 
     let mut terms = Vec::with_capacity(8);
     let mut push = |name, order, coefficient: f64, multiplier: f64, mass_factor: f64| {
+        // `+ 0.0` turns a negative zero (a vanishing coefficient with a
+        // minus sign) into +0 for printing.
         terms.push(Term {
             name,
             order,
-            coefficient,
+            coefficient: coefficient + 0.0,
             multiplier,
             mass_factor,
-            mhz: unit * mass_factor * coefficient * multiplier,
+            mhz: unit * mass_factor * coefficient * multiplier + 0.0,
         });
     };
     push("A41", "alpha (Z alpha)^4 L", k::a41(level), big_l, m3);
