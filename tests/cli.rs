@@ -1,0 +1,469 @@
+//! Integration tests of the `kzero` binary: tables (threads, shards, merge,
+//! resume after kill -9), bad input handling and the small commands.
+//!
+//! Reference values: ln k0(1,0) = 2.984128555765498 and ln k0(2,1) =
+//! -0.030016708630213 (Drake & Swainson, Phys. Rev. A 41, 1243 (1990), as
+//! tabulated in the CODATA 2018 adjustment); f(1s -> 2p) = 2^13/3^9 (closed
+//! form); <1s| r |2p> = 2^8/(81 sqrt 6) bohr (closed form, Gordon's formula;
+//! Bethe & Salpeter 1957).
+
+use std::fs;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output, Stdio};
+use std::time::{Duration, Instant};
+
+const BIN: &str = env!("CARGO_BIN_EXE_kzero");
+
+fn kzero(args: &[&str]) -> Output {
+    Command::new(BIN)
+        .args(args)
+        .stdin(Stdio::null())
+        .output()
+        .expect("run kzero")
+}
+
+fn code(o: &Output) -> i32 {
+    o.status.code().unwrap_or(-1)
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).to_string()
+}
+
+fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).to_string()
+}
+
+fn p(dir: &Path, name: &str) -> String {
+    dir.join(name).to_string_lossy().to_string()
+}
+
+/// Data lines of a CSV table (comments and the column line removed).
+fn data_lines(text: &str) -> Vec<String> {
+    text.lines()
+        .filter(|l| !l.starts_with('#'))
+        .skip(1)
+        .map(str::to_string)
+        .collect()
+}
+
+/// Data lines without the wall-time column (index 7).
+fn value_columns(text: &str) -> Vec<String> {
+    data_lines(text)
+        .iter()
+        .map(|l| {
+            let mut f: Vec<&str> = l.split(',').collect();
+            f.remove(7);
+            f.join(",")
+        })
+        .collect()
+}
+
+/// Asserts a bad-input failure: exit 2, one stderr line, no panic text.
+fn assert_bad_input(o: &Output, what: &str) {
+    let e = stderr(o);
+    assert_eq!(code(o), 2, "{what}: expected exit 2, got {} ({e})", code(o));
+    assert_eq!(e.trim_end().lines().count(), 1, "{what}: stderr not one line: {e:?}");
+    assert!(!e.contains("panicked"), "{what}: {e}");
+    assert!(e.starts_with("kzero: "), "{what}: {e}");
+}
+
+#[test]
+fn table_is_sorted_complete_and_carries_provenance() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = p(dir.path(), "t.csv");
+    let o = kzero(&["table", "--n-max", "3", "--digits", "12", "--out", &out, "--threads", "2"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = fs::read_to_string(&out).unwrap();
+    assert!(text.starts_with("# kzero-table: 1\n"));
+    for key in [
+        "# version: ", "# git_revision: ", "# mpfr: ", "# gmp: ", "# command: ", "# started_utc: ",
+        "# threads: 2", "# shard: 1/1", "# setting.digits: 12", "# setting.method: green",
+        "# setting.n_max: 3",
+    ] {
+        assert!(text.contains(key), "missing {key}");
+    }
+    assert!(text.contains("\nn,l,ln_k0,abs_err,method,digits,bits,seconds\n"));
+    let rows = data_lines(&text);
+    let keys: Vec<(u32, u32)> = rows
+        .iter()
+        .map(|r| {
+            let f: Vec<&str> = r.split(',').collect();
+            (f[0].parse().unwrap(), f[1].parse().unwrap())
+        })
+        .collect();
+    assert_eq!(keys, vec![(1, 0), (2, 0), (2, 1), (3, 0), (3, 1), (3, 2)]);
+    // Published values (Drake & Swainson 1990 via CODATA 2018), 12 digits asked.
+    let v = |i: usize| -> f64 { rows[i].split(',').nth(2).unwrap().parse().unwrap() };
+    assert!((v(0) - 2.984128555765498).abs() < 1e-12);
+    assert!((v(2) - -0.030016708630213).abs() < 1e-12);
+    // 14 decimals (digits + 2).
+    assert_eq!(rows[0].split(',').nth(2).unwrap().split('.').nth(1).unwrap().len(), 14);
+}
+
+#[test]
+fn threads_one_and_two_give_identical_values() {
+    let dir = tempfile::tempdir().unwrap();
+    let a = p(dir.path(), "a.csv");
+    let b = p(dir.path(), "b.csv");
+    let base = ["table", "--n-max", "5", "--digits", "12", "--quiet"];
+    let oa = kzero(&[&base[..], &["--threads", "1", "--out", &a]].concat());
+    let ob = kzero(&[&base[..], &["--threads", "2", "--out", &b]].concat());
+    assert_eq!(code(&oa), 0, "{}", stderr(&oa));
+    assert_eq!(code(&ob), 0, "{}", stderr(&ob));
+    let (ta, tb) = (fs::read_to_string(&a).unwrap(), fs::read_to_string(&b).unwrap());
+    assert_eq!(value_columns(&ta).len(), 15);
+    assert_eq!(value_columns(&ta), value_columns(&tb));
+}
+
+#[test]
+fn shards_merged_equal_a_single_run() {
+    let dir = tempfile::tempdir().unwrap();
+    let single = p(dir.path(), "single.csv");
+    let base = ["table", "--n-max", "5", "--digits", "12", "--threads", "2"];
+    let o = kzero(&[&base[..], &["--out", &single]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let mut shards = Vec::new();
+    let mut sizes = Vec::new();
+    for k in 1..=3 {
+        let s = p(dir.path(), &format!("s{k}.csv"));
+        let o = kzero(&[&base[..], &["--shard", &format!("{k}/3"), "--out", &s]].concat());
+        assert_eq!(code(&o), 0, "{}", stderr(&o));
+        let text = fs::read_to_string(&s).unwrap();
+        assert!(text.contains(&format!("# shard: {k}/3")));
+        sizes.push(data_lines(&text).len());
+        shards.push(s);
+    }
+    // Disjoint parts covering the 15 states.
+    assert_eq!(sizes.iter().sum::<usize>(), 15);
+    assert!(sizes.iter().all(|&s| s >= 3), "unbalanced shards {sizes:?}");
+    // The same K/M always gives the same part.
+    let again = p(dir.path(), "s2b.csv");
+    let o = kzero(&[&base[..], &["--shard", "2/3", "--out", &again]].concat());
+    assert_eq!(code(&o), 0);
+    assert_eq!(
+        value_columns(&fs::read_to_string(&again).unwrap()),
+        value_columns(&fs::read_to_string(&shards[1]).unwrap())
+    );
+
+    let merged = p(dir.path(), "merged.csv");
+    let o = kzero(&["merge", &shards[2], &shards[0], &shards[1], "--out", &merged]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let (ts, tm) = (fs::read_to_string(&single).unwrap(), fs::read_to_string(&merged).unwrap());
+    assert_eq!(value_columns(&ts), value_columns(&tm));
+    let settings = |t: &str| -> Vec<String> {
+        t.lines().filter(|l| l.starts_with("# setting.")).map(str::to_string).collect()
+    };
+    assert_eq!(settings(&ts), settings(&tm));
+    assert!(tm.contains("# shard: 1/1"));
+
+    // A gap and a duplicate are reported, nothing is written.
+    let bad = p(dir.path(), "bad.csv");
+    let o = kzero(&["merge", &shards[0], &shards[1], "--out", &bad]);
+    assert_bad_input(&o, "merge with a gap");
+    assert!(stderr(&o).contains("missing states"));
+    let o = kzero(&["merge", &shards[0], &shards[1], &shards[1], &shards[2], "--out", &bad]);
+    assert_bad_input(&o, "merge with a duplicate");
+    assert!(stderr(&o).contains("duplicate"));
+    assert!(!Path::new(&bad).exists());
+    // Shards of different settings are refused.
+    let other = p(dir.path(), "other.csv");
+    let o = kzero(&["table", "--n-max", "5", "--digits", "13", "--shard", "3/3", "--out", &other]);
+    assert_eq!(code(&o), 0);
+    let o = kzero(&["merge", &shards[0], &shards[1], &other, "--out", &bad]);
+    assert_bad_input(&o, "merge with other settings");
+    assert!(stderr(&o).contains("digits"));
+}
+
+fn wait_for_rows(path: &Path, rows: usize, child: &mut std::process::Child) -> bool {
+    let start = Instant::now();
+    while start.elapsed() < Duration::from_secs(120) {
+        if let Ok(t) = fs::read_to_string(path) {
+            if t.contains("\nn,l,") && data_lines(&t).len() >= rows {
+                return true;
+            }
+        }
+        if let Ok(Some(_)) = child.try_wait() {
+            return false;
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    false
+}
+
+#[test]
+fn resume_after_kill_equals_an_uninterrupted_run() {
+    let dir = tempfile::tempdir().unwrap();
+    let full = p(dir.path(), "full.csv");
+    let part = p(dir.path(), "part.csv");
+    let args = ["table", "--n-max", "7", "--digits", "12", "--threads", "2", "--quiet"];
+    let o = kzero(&[&args[..], &["--out", &full]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let full_text = fs::read_to_string(&full).unwrap();
+    let total = data_lines(&full_text).len();
+    assert_eq!(total, 28);
+
+    let mut child = Command::new(BIN)
+        .args([&args[..], &["--out", &part]].concat())
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let got_rows = wait_for_rows(Path::new(&part), 3, &mut child);
+    let _ = child.kill(); // SIGKILL on Unix
+    let _ = child.wait();
+    let mut text = fs::read_to_string(&part).unwrap();
+    let mut finished = data_lines(&text);
+    if !got_rows || finished.len() >= total {
+        // The machine was fast enough to finish first: cut the file back to a
+        // crash state by hand (header and the first rows).
+        let header_end = text.find("\nn,l,").unwrap() + 1;
+        let header_end = header_end + text[header_end..].find('\n').unwrap() + 1;
+        let keep: Vec<String> = finished.iter().take(5).cloned().collect();
+        text = format!("{}{}\n", &text[..header_end], keep.join("\n"));
+        finished = keep;
+    }
+    assert!(finished.len() < total, "the run was not interrupted");
+    // A write torn by the kill: a partial last line.
+    text.push_str("7,3,-0.0012");
+    fs::write(&part, &text).unwrap();
+
+    let o = kzero(&[&args[..], &["--out", &part, "--resume"]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let resumed = fs::read_to_string(&part).unwrap();
+    assert_eq!(value_columns(&resumed), value_columns(&full_text));
+    // Finished rows were not recomputed: kept byte for byte, time included.
+    let rows = data_lines(&resumed);
+    for f in &finished {
+        assert!(rows.contains(f), "row {f} was recomputed or lost");
+    }
+    assert!(resumed.contains("# resumed_utc: "));
+    // Resuming a complete table computes nothing and changes no value.
+    let o = kzero(&[&args[..], &["--out", &part, "--resume"]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert_eq!(data_lines(&fs::read_to_string(&part).unwrap()), rows);
+}
+
+#[test]
+fn json_tables_have_meta_and_rows_and_resume_from_the_journal() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = p(dir.path(), "t.json");
+    let args = ["table", "--n-max", "3", "--digits", "10", "--format", "json", "--threads", "2"];
+    let o = kzero(&[&args[..], &["--out", &out]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&fs::read_to_string(&out).unwrap()).unwrap();
+    assert_eq!(v["meta"]["settings"]["digits"], 10);
+    assert_eq!(v["meta"]["shard"], "1/1");
+    let rows = v["rows"].as_array().unwrap();
+    assert_eq!(rows.len(), 6);
+    assert_eq!(rows[0]["n"], 1);
+    assert!(rows[0]["ln_k0"].as_str().unwrap().starts_with("2.9841285557"));
+    assert!(!Path::new(&format!("{out}.partial")).exists());
+
+    // A crashed JSON run leaves its CSV journal; --resume completes it.
+    let out2 = p(dir.path(), "u.json");
+    let csv = p(dir.path(), "u.csv");
+    let o = kzero(&["table", "--n-max", "3", "--digits", "10", "--out", &csv]);
+    assert_eq!(code(&o), 0);
+    let text = fs::read_to_string(&csv).unwrap();
+    let cut: Vec<&str> = text.lines().take_while(|l| !l.starts_with("3,")).collect();
+    fs::write(format!("{out2}.partial"), cut.join("\n") + "\n").unwrap();
+    let o = kzero(&[&args[..], &["--out", &out2, "--resume"]].concat());
+    // The journal was written by another command line but with the same settings.
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let w: serde_json::Value = serde_json::from_str(&fs::read_to_string(&out2).unwrap()).unwrap();
+    let a: Vec<&serde_json::Value> = rows.iter().map(|r| &r["ln_k0"]).collect();
+    let b: Vec<&serde_json::Value> = w["rows"].as_array().unwrap().iter().map(|r| &r["ln_k0"]).collect();
+    assert_eq!(a, b);
+    assert!(!Path::new(&format!("{out2}.partial")).exists());
+}
+
+#[test]
+fn bad_state_and_number_input_exit_2() {
+    let cases: &[&[&str]] = &[
+        &["state", "0", "0"],
+        &["state", "3", "3"],
+        &["state", "3", "5"],
+        &["state", "-1", "0"],
+        &["state", "2", "-1"],
+        &["state", "x", "0"],
+        &["state", "2", "1.5"],
+        &["state", "2", "0", "--digits", "4"],
+        &["state", "2", "0", "--digits", "201"],
+        &["state", "2", "0", "--digits", "-3"],
+        &["state", "2", "0", "--digits", "ten"],
+        &["state", "2", "0", "--method", "magic"],
+        &["state", "201", "0"],
+        &["table", "--n-max", "0"],
+        &["table", "--n-max", "-2"],
+        &["table", "--n-max", "3", "--n-min", "4"],
+        &["table", "--n-max", "3", "--l", "-1"],
+        &["table", "--n-max", "3", "--l", "7"],
+        &["table", "--n-max", "3", "--digits", "2"],
+        &["table", "--n-max", "3", "--shard", "0/3"],
+        &["table", "--n-max", "3", "--shard", "4/3"],
+        &["table", "--n-max", "3", "--shard", "a/b"],
+        &["table", "--n-max", "3", "--method", "magic"],
+        &["table", "--n-max", "3", "--format", "xml"],
+        &["table", "--n-max", "3", "--threads", "0"],
+        &["table", "--n-max", "3", "--resume"],
+        &["table"],
+        &["sweep", "2", "0", "--digits", "10,300"],
+        &["sweep", "0", "0"],
+        &["radial", "1", "0", "2", "5"],
+        &["radial", "1", "0", "2", "1", "--power", "-9"],
+        &["oscillator", "1", "0", "2", "0"],
+        &["oscillator", "0", "0", "2", "1"],
+        &["frobnicate"],
+    ];
+    for args in cases {
+        let o = kzero(args);
+        assert_bad_input(&o, &args.join(" "));
+    }
+}
+
+#[test]
+fn bad_files_exit_2_and_are_left_untouched() {
+    let dir = tempfile::tempdir().unwrap();
+    let good = p(dir.path(), "good.csv");
+    let o = kzero(&["table", "--n-max", "2", "--digits", "10", "--out", &good]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let good_text = fs::read_to_string(&good).unwrap();
+
+    // Existing output without --resume or --force.
+    let o = kzero(&["table", "--n-max", "2", "--digits", "10", "--out", &good]);
+    assert_bad_input(&o, "existing --out");
+    // Resume with other settings.
+    let o = kzero(&["table", "--n-max", "3", "--digits", "10", "--out", &good, "--resume"]);
+    assert_bad_input(&o, "resume with other n_max");
+    let o = kzero(&["table", "--n-max", "2", "--digits", "11", "--out", &good, "--resume"]);
+    assert_bad_input(&o, "resume with other digits");
+    let o = kzero(&["table", "--n-max", "2", "--digits", "10", "--shard", "1/2", "--out", &good, "--resume"]);
+    assert_bad_input(&o, "resume with another shard");
+    assert_eq!(fs::read_to_string(&good).unwrap(), good_text);
+
+    let files: Vec<(&str, Vec<u8>)> = vec![
+        ("foreign.csv", b"name,value\nx,1\n".to_vec()),
+        ("binary.csv", vec![0xff, 0xfe, 0x00, 0x41]),
+        ("empty.csv", Vec::new()),
+        ("truncated.csv", good_text.as_bytes()[..good_text.len() / 3].to_vec()),
+        ("cutheader.csv", good_text.as_bytes()[..20].to_vec()),
+        ("badrow.csv", format!("{good_text}9,0,abc,1e-3,green,10,64,0.1\n").into_bytes()),
+        ("foreign.json", b"{\"a\": 1}".to_vec()),
+        ("truncated.json", b"{\"meta\": {\"format\": \"kzero-table\"".to_vec()),
+    ];
+    for (name, bytes) in &files {
+        let path = dir.path().join(name);
+        fs::write(&path, bytes).unwrap();
+        let ps = path.to_string_lossy().to_string();
+        let o = kzero(&["table", "--n-max", "2", "--digits", "10", "--out", &ps, "--resume"]);
+        assert_bad_input(&o, &format!("resume from {name}"));
+        assert_eq!(&fs::read(&path).unwrap(), bytes, "{name} was modified");
+        let out = p(dir.path(), "merged.csv");
+        let o = kzero(&["merge", &good, &ps, "--out", &out]);
+        assert_bad_input(&o, &format!("merge with {name}"));
+        assert!(!Path::new(&out).exists());
+    }
+    // Missing and unreadable (a folder) inputs.
+    let missing = p(dir.path(), "missing.csv");
+    let o = kzero(&["table", "--n-max", "2", "--out", &missing, "--resume"]);
+    assert_bad_input(&o, "resume from a missing file");
+    assert!(!Path::new(&missing).exists());
+    let o = kzero(&["merge", &missing]);
+    assert_bad_input(&o, "merge a missing file");
+    let sub = dir.path().join("folder.csv");
+    fs::create_dir(&sub).unwrap();
+    let o = kzero(&["merge", &sub.to_string_lossy()]);
+    assert_bad_input(&o, "merge a folder");
+
+    // Output in a missing folder: refused before any work.
+    let nowhere: PathBuf = dir.path().join("no/such/folder/t.csv");
+    let o = kzero(&["table", "--n-max", "2", "--out", &nowhere.to_string_lossy()]);
+    assert_bad_input(&o, "output in a missing folder");
+    let o = kzero(&["table", "--n-max", "2", "--plot", &dir.path().join("nope/p.svg").to_string_lossy()]);
+    assert_bad_input(&o, "plot in a missing folder");
+    let o = kzero(&["merge", &good, "--out", &nowhere.to_string_lossy()]);
+    assert_bad_input(&o, "merge output in a missing folder");
+    assert_eq!(fs::read_to_string(&good).unwrap(), good_text);
+}
+
+#[test]
+fn state_json_carries_the_interface_fields() {
+    let o = kzero(&["state", "2", "1", "--digits", "15", "--json"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    for k in ["n", "l", "ln_k0", "abs_err", "digits", "method", "bits", "seconds", "nodes", "terms"] {
+        assert!(v.get(k).is_some(), "missing {k}");
+    }
+    let s = v["ln_k0"].as_str().unwrap();
+    assert!(s.split('.').nth(1).unwrap().len() >= 17);
+    // Drake & Swainson 1990 via CODATA 2018.
+    let x: f64 = s.parse().unwrap();
+    assert!((x - -0.030016708630213).abs() < 1e-15);
+    let err: f64 = v["abs_err"].as_str().unwrap().parse().unwrap();
+    assert!(err < 1e-15);
+    assert_eq!(v["method"], "green");
+}
+
+#[test]
+fn radial_and_oscillator_match_closed_forms() {
+    let o = kzero(&["radial", "1", "0", "2", "1", "--digits", "30", "--json"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    // 2^8 / (81 sqrt 6) = 1.290266201959863360365...  (closed form)
+    let exact = 256.0 / (81.0 * 6f64.sqrt());
+    let got: f64 = v["value"].as_str().unwrap().parse().unwrap();
+    assert!((got - exact).abs() < 1e-15);
+    assert_eq!(v["value"].as_str().unwrap().split('.').nth(1).unwrap().len(), 30);
+    let o = kzero(&["oscillator", "1", "0", "2", "1", "--json"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    // 2^13/3^9 = 8192/19683 = 0.41619671797998272621...
+    assert_eq!(v["f"], "0.41619671797998272621");
+}
+
+#[test]
+fn sweep_reports_every_setting_and_plots() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = p(dir.path(), "sweep.svg");
+    let o = kzero(&["sweep", "2", "0", "--digits", "10,15,25", "--plot", &svg, "--json"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let rows = v["rows"].as_array().unwrap();
+    assert_eq!(rows.len(), 3);
+    for r in &rows[..2] {
+        assert_eq!(r["covered"], true, "estimate does not cover the actual error: {r}");
+    }
+    assert!(rows[2]["actual_err"].is_null());
+    let text = fs::read_to_string(&svg).unwrap();
+    assert!(text.starts_with("<svg"));
+}
+
+#[test]
+fn table_plot_is_an_svg_with_one_curve_per_l() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = p(dir.path(), "t.svg");
+    let o = kzero(&["table", "--n-max", "3", "--digits", "8", "--plot", &svg]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert_eq!(data_lines(&stdout(&o)).len(), 6);
+    let text = fs::read_to_string(&svg).unwrap();
+    assert!(text.starts_with("<svg"));
+    for l in ["l = 0", "l = 1", "l = 2"] {
+        assert!(text.contains(l), "legend {l} missing");
+    }
+}
+
+#[test]
+fn check_runs_the_bundled_checks() {
+    let o = kzero(&["check", "--digits", "18", "--json"]);
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let lines = v.as_array().unwrap();
+    let find = |q: &str| lines.iter().find(|l| l["quantity"] == q).unwrap_or_else(|| panic!("{q} missing"));
+    // Drake & Swainson 1990 (via CODATA 2018) and Bethe, Brown & Stehn 1950.
+    for q in ["ln_k0(1,0)", "ln_k0(2,0)", "ln_k0(2,1)", "k0_ry(2,0)"] {
+        assert_eq!(find(q)["pass"], true, "{q}");
+    }
+    let all_pass = lines.iter().all(|l| l["pass"] == true);
+    assert_eq!(code(&o), if all_pass { 0 } else { 3 });
+    assert!(all_pass, "failing checks: {:?}", lines.iter().filter(|l| l["pass"] != true).collect::<Vec<_>>());
+}
