@@ -5,7 +5,7 @@ use crate::coefficients as k;
 use crate::constants::{self as c, ALPHA};
 use crate::error::QedError;
 use crate::level::Level;
-use crate::nucleus::{check_z, Nucleus};
+use crate::nucleus::{check_z, Nucleus, MAX_RADIUS_FM, MIN_MASS};
 
 /// A Bethe logarithm ln k0(n, l) (PHYSICS.md conventions: energies in units
 /// of Z^2 Ry, independent of Z and of the masses) with its error estimate.
@@ -120,6 +120,21 @@ fn unit_mhz(z: u32, n: u32) -> f64 {
 
 fn check_inputs(level: &Level, nucleus: &Nucleus, ln_k0: &BetheLog) -> Result<(), QedError> {
     check_z(i64::from(nucleus.z))?;
+    // The fields of `Nucleus` are public: re-check what the constructors check.
+    if let Some(m) = nucleus.mass_me {
+        if !m.is_finite() || m < MIN_MASS {
+            return Err(QedError::MassOutOfRange {
+                mass: m,
+                min: MIN_MASS,
+            });
+        }
+    }
+    if !(0.0..=MAX_RADIUS_FM).contains(&nucleus.radius_fm) {
+        return Err(QedError::RadiusOutOfRange {
+            radius_fm: nucleus.radius_fm,
+            max_fm: MAX_RADIUS_FM,
+        });
+    }
     if ln_k0.n != level.n() || ln_k0.l != level.l() {
         return Err(QedError::BetheLogMismatch {
             n: level.n(),
@@ -151,8 +166,9 @@ fn check_inputs(level: &Level, nucleus: &Nucleus, ln_k0: &BetheLog) -> Result<()
 /// actual difference from experiment of about 0.4 MHz.
 ///
 /// # Errors
-/// [`QedError::ChargeOutOfRange`], [`QedError::BetheLogMismatch`],
-/// [`QedError::BadBetheLog`].
+/// [`QedError::ChargeOutOfRange`], [`QedError::MassOutOfRange`],
+/// [`QedError::RadiusOutOfRange`] (for a hand-built [`Nucleus`]),
+/// [`QedError::BetheLogMismatch`], [`QedError::BadBetheLog`].
 pub fn level_shift(
     level: &Level,
     nucleus: &Nucleus,

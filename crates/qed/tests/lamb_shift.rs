@@ -199,6 +199,15 @@ fn bad_inputs_are_typed_errors() {
         abs_err: 0.0,
     };
     assert!(level_shift(&lv, &h, &forged).is_err());
+    let mut light = h.clone();
+    light.mass_me = Some(-5.0);
+    assert!(matches!(
+        level_shift(&lv, &light, &published_ln_k0(2, 0)),
+        Err(QedError::MassOutOfRange { .. })
+    ));
+    let mut wide = h.clone();
+    wide.radius_fm = f64::NAN;
+    assert!(level_shift(&lv, &wide, &published_ln_k0(2, 0)).is_err());
     let mut big = h.clone();
     big.z = 50;
     assert!(matches!(
