@@ -30,7 +30,8 @@ fn git_revision(root: &Path) -> String {
 }
 
 fn main() {
-    let root = PathBuf::from(env::var("CARGO_MANIFEST_DIR").expect("cargo sets CARGO_MANIFEST_DIR"));
+    let root =
+        PathBuf::from(env::var("CARGO_MANIFEST_DIR").expect("cargo sets CARGO_MANIFEST_DIR"));
 
     // Git revision; rerun when HEAD moves (branch switch or new commit).
     let git = root.join(".git");
@@ -56,7 +57,11 @@ fn main() {
     let mut code = String::from("/// Bundled data-checks files: (file name, contents).\n");
     code.push_str("pub const BUNDLED: &[(&str, &str)] = &[\n");
     for f in &files {
-        let name = f.file_name().unwrap_or_default().to_string_lossy().to_string();
+        let name = f
+            .file_name()
+            .unwrap_or_default()
+            .to_string_lossy()
+            .to_string();
         code.push_str(&format!(
             "    ({:?}, include_str!({:?})),\n",
             name,
@@ -64,6 +69,7 @@ fn main() {
         ));
     }
     code.push_str("];\n");
-    let out = PathBuf::from(env::var("OUT_DIR").expect("cargo sets OUT_DIR")).join("data_checks.rs");
+    let out =
+        PathBuf::from(env::var("OUT_DIR").expect("cargo sets OUT_DIR")).join("data_checks.rs");
     fs::write(out, code).expect("write data_checks.rs");
 }

@@ -31,9 +31,7 @@ impl AppError {
 impl fmt::Display for AppError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            AppError::BadInput(m) | AppError::CheckFailed(m) | AppError::Other(m) => {
-                f.write_str(m)
-            }
+            AppError::BadInput(m) | AppError::CheckFailed(m) | AppError::Other(m) => f.write_str(m),
         }
     }
 }

@@ -25,7 +25,12 @@ pub struct RadialArgs {
     #[arg(value_name = "L2", allow_negative_numbers = true)]
     pub l2: i64,
     /// Power K of r (integer, K >= -2 where the integral converges).
-    #[arg(long, value_name = "K", default_value_t = 1, allow_negative_numbers = true)]
+    #[arg(
+        long,
+        value_name = "K",
+        default_value_t = 1,
+        allow_negative_numbers = true
+    )]
     pub power: i32,
     /// Decimals printed: absolute error below 10^-D (5..=200).
     #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::digits_parser())]
@@ -101,7 +106,10 @@ pub fn run_radial(a: &RadialArgs) -> Result<(), AppError> {
             "z": 1, "value": dec, "exact": exact, "digits": a.digits,
             "units": format!("bohr^{}", a.power),
         });
-        output::print(&format!("{}\n", serde_json::to_string_pretty(&j).unwrap_or_default()))
+        output::print(&format!(
+            "{}\n",
+            serde_json::to_string_pretty(&j).unwrap_or_default()
+        ))
     } else {
         output::print(&format!(
             "<{} {}| r^{} |{} {}> = {dec} bohr^{}\n  exact: {exact}\n",
@@ -126,7 +134,10 @@ pub fn run_oscillator(a: &OscillatorArgs) -> Result<(), AppError> {
             "n": s1.n(), "l": s1.l(), "n2": s2.n(), "l2": s2.l(), "z": 1,
             "f": dec, "exact": f.to_string(), "digits": a.digits,
         });
-        output::print(&format!("{}\n", serde_json::to_string_pretty(&j).unwrap_or_default()))
+        output::print(&format!(
+            "{}\n",
+            serde_json::to_string_pretty(&j).unwrap_or_default()
+        ))
     } else {
         output::print(&format!(
             "f({} {} -> {} {}) = {dec}\n  exact: {f}\n",

@@ -4,9 +4,9 @@
 use crate::app_error::AppError;
 use crate::engine::{self, GaugeChoice, MethodChoice};
 use crate::output;
+use kzero_basis::exact::{PolyExp, Surd};
 use kzero_basis::gradient::{gradient_function, Channel};
 use kzero_basis::radial::{radial_function, radial_integral};
-use kzero_basis::exact::{PolyExp, Surd};
 use kzero_basis::BoundState;
 use kzero_bethe::value::decimal_string;
 use kzero_bethe::{BetheValue, Settings};
@@ -75,7 +75,13 @@ impl Ctx {
             .entry((n, l, method))
             .or_insert_with(|| {
                 crate::catch(|| {
-                    engine::compute(n, l, method, GaugeChoice::Velocity, &Settings::with_digits(digits))
+                    engine::compute(
+                        n,
+                        l,
+                        method,
+                        GaugeChoice::Velocity,
+                        &Settings::with_digits(digits),
+                    )
                 })
                 .map(|c| c.primary().clone())
                 .map_err(|e| e.to_string())
@@ -112,17 +118,32 @@ fn compare(
     let exp = match Float::parse(expected.trim()) {
         Ok(p) => Float::with_val(prec, p),
         Err(_) => {
-            return fail(quantity, source, expected.into(), format!("expected value '{expected}' is not a number"))
+            return fail(
+                quantity,
+                source,
+                expected.into(),
+                format!("expected value '{expected}' is not a number"),
+            )
         }
     };
     let tol = match Float::parse(tolerance.trim()) {
         Ok(p) => Float::with_val(64, p).to_f64(),
         Err(_) => {
-            return fail(quantity, source, expected.into(), format!("tolerance '{tolerance}' is not a number"))
+            return fail(
+                quantity,
+                source,
+                expected.into(),
+                format!("tolerance '{tolerance}' is not a number"),
+            )
         }
     };
-    if !(tol >= 0.0) {
-        return fail(quantity, source, expected.into(), "tolerance must be >= 0".into());
+    if tol.is_nan() || tol < 0.0 {
+        return fail(
+            quantity,
+            source,
+            expected.into(),
+            "tolerance must be >= 0".into(),
+        );
     }
     let diff = Float::with_val(prec, computed - &exp);
     let d = diff.to_f64();
@@ -137,7 +158,9 @@ fn compare(
 }
 
 fn decimals_of(s: &str) -> usize {
-    s.trim().split_once('.').map_or(0, |(_, f)| f.trim_start_matches(|c: char| !c.is_ascii_digit()).len())
+    s.trim().split_once('.').map_or(0, |(_, f)| {
+        f.trim_start_matches(|c: char| !c.is_ascii_digit()).len()
+    })
 }
 
 fn surd_float(s: &Surd, prec: u32) -> Float {
@@ -147,7 +170,9 @@ fn surd_float(s: &Surd, prec: u32) -> Float {
 fn parse_z(s: Option<&str>) -> Result<Rational, String> {
     match s.map(str::trim) {
         None | Some("") => Ok(Rational::from(1)),
-        Some(t) => Rational::from_str_radix(t, 10).map_err(|_| format!("z '{t}' is not a rational number")),
+        Some(t) => {
+            Rational::from_str_radix(t, 10).map_err(|_| format!("z '{t}' is not a rational number"))
+        }
     }
 }
 
@@ -160,7 +185,12 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Ctx) -> Vec<CheckLine> {
     let headers = match rdr.headers() {
         Ok(h) => h.clone(),
         Err(e) => {
-            out.push(fail(format!("file {name}"), name.into(), "-".into(), format!("unreadable CSV: {e}")));
+            out.push(fail(
+                format!("file {name}"),
+                name.into(),
+                "-".into(),
+                format!("unreadable CSV: {e}"),
+            ));
             return out;
         }
     };
@@ -170,7 +200,12 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Ctx) -> Vec<CheckLine> {
     }
     for req in ["quantity", "n", "l", "expected", "tolerance", "source"] {
         if col(req).is_none() {
-            out.push(fail(format!("file {name}"), name.into(), "-".into(), format!("missing column '{req}'")));
+            out.push(fail(
+                format!("file {name}"),
+                name.into(),
+                "-".into(),
+                format!("missing column '{req}'"),
+            ));
             return out;
         }
     }
@@ -178,7 +213,12 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Ctx) -> Vec<CheckLine> {
         let rec = match rec {
             Ok(r) => r,
             Err(e) => {
-                out.push(fail(format!("{name} record {}", i + 1), name.into(), "-".into(), format!("malformed line: {e}")));
+                out.push(fail(
+                    format!("{name} record {}", i + 1),
+                    name.into(),
+                    "-".into(),
+                    format!("malformed line: {e}"),
+                ));
                 continue;
             }
         };
@@ -204,39 +244,83 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Ctx) -> Vec<CheckLine> {
                         MethodChoice::Green
                     };
                     let label = format!("{quantity}({n},{l})");
-                    let (nn, ll) = engine::validate_state(n, l, method).map_err(|e| (label.clone(), e.to_string()))?;
+                    let (nn, ll) = engine::validate_state(n, l, method)
+                        .map_err(|e| (label.clone(), e.to_string()))?;
                     let v = ctx.ln_k0(nn, ll, method).map_err(|e| (label.clone(), e))?;
                     if quantity == "k0_ry" {
                         let k0 = Float::with_val(v.value.prec(), v.value.exp_ref());
                         let err = k0.to_f64() * v.abs_err * 1.000_001;
-                        Ok(compare(label, source.clone(), &expected, &tolerance, &k0, err, decimals_of(&expected) + 3))
+                        Ok(compare(
+                            label,
+                            source.clone(),
+                            &expected,
+                            &tolerance,
+                            &k0,
+                            err,
+                            decimals_of(&expected) + 3,
+                        ))
                     } else {
-                        Ok(compare(label, source.clone(), &expected, &tolerance, &v.value, v.abs_err, v.digits as usize + 2))
+                        Ok(compare(
+                            label,
+                            source.clone(),
+                            &expected,
+                            &tolerance,
+                            &v.value,
+                            v.abs_err,
+                            v.digits as usize + 2,
+                        ))
                     }
                 }
                 "radial" | "oscillator" => {
                     let n2 = int("n2").map_err(|e| (quantity.clone(), e))?;
                     let l2 = int("l2").map_err(|e| (quantity.clone(), e))?;
                     let z = parse_z(get("z")).map_err(|e| (quantity.clone(), e))?;
-                    let zs = if z == 1 { String::new() } else { format!(", Z={z}") };
-                    let a = BoundState::new(n, l, z.clone()).map_err(|e| (quantity.clone(), e.to_string()))?;
-                    let b = BoundState::new(n2, l2, z).map_err(|e| (quantity.clone(), e.to_string()))?;
+                    let zs = if z == 1 {
+                        String::new()
+                    } else {
+                        format!(", Z={z}")
+                    };
+                    let a = BoundState::new(n, l, z.clone())
+                        .map_err(|e| (quantity.clone(), e.to_string()))?;
+                    let b = BoundState::new(n2, l2, z)
+                        .map_err(|e| (quantity.clone(), e.to_string()))?;
                     let shown = decimals_of(&expected).max(ctx.digits as usize);
                     let prec = prec_for(ctx.digits, expected.len() * 2 + 40);
                     if quantity == "radial" {
                         let k = int("k").map_err(|e| (quantity.clone(), e))?;
                         let label = format!("<{n} {l}| r^{k} |{n2} {l2}>{zs}");
-                        let k32 = i32::try_from(k).map_err(|_| (label.clone(), "k out of range".into()))?;
-                        let s = radial_integral(&a, &b, k32).map_err(|e| (label.clone(), e.to_string()))?;
-                        Ok(compare(label, source.clone(), &expected, &tolerance, &surd_float(&s, prec), 0.0, shown))
+                        let k32 = i32::try_from(k)
+                            .map_err(|_| (label.clone(), "k out of range".into()))?;
+                        let s = radial_integral(&a, &b, k32)
+                            .map_err(|e| (label.clone(), e.to_string()))?;
+                        Ok(compare(
+                            label,
+                            source.clone(),
+                            &expected,
+                            &tolerance,
+                            &surd_float(&s, prec),
+                            0.0,
+                            shown,
+                        ))
                     } else {
                         let label = format!("f({n} {l} -> {n2} {l2}){zs}");
                         let f = kzero_basis::oscillator::oscillator_strength(&a, &b)
                             .map_err(|e| (label.clone(), e.to_string()))?;
-                        Ok(compare(label, source.clone(), &expected, &tolerance, &Float::with_val(prec, &f), 0.0, shown))
+                        Ok(compare(
+                            label,
+                            source.clone(),
+                            &expected,
+                            &tolerance,
+                            &Float::with_val(prec, &f),
+                            0.0,
+                            shown,
+                        ))
                     }
                 }
-                other => Err((other.to_string(), format!("unknown quantity '{other}' in {name}"))),
+                other => Err((
+                    other.to_string(),
+                    format!("unknown quantity '{other}' in {name}"),
+                )),
             }
         })();
         out.push(match line {
@@ -260,18 +344,37 @@ fn run_interval_file(
     let mut out = Vec::new();
     let col = |c: &str| headers.iter().position(|h| h == c);
     let cols = [
-        "name", "nucleus", "upper_n", "upper_l", "upper_j2", "lower_n", "lower_l", "lower_j2",
-        "measured_mhz", "measured_unc_mhz", "source",
+        "name",
+        "nucleus",
+        "upper_n",
+        "upper_l",
+        "upper_j2",
+        "lower_n",
+        "lower_l",
+        "lower_j2",
+        "measured_mhz",
+        "measured_unc_mhz",
+        "source",
     ];
     if let Some(missing) = cols.iter().find(|c| col(c).is_none()) {
-        out.push(fail(format!("file {name}"), name.into(), "-".into(), format!("missing column '{missing}'")));
+        out.push(fail(
+            format!("file {name}"),
+            name.into(),
+            "-".into(),
+            format!("missing column '{missing}'"),
+        ));
         return out;
     }
     for (i, rec) in rdr.records().enumerate() {
         let rec = match rec {
             Ok(r) => r,
             Err(e) => {
-                out.push(fail(format!("{name} record {}", i + 1), name.into(), "-".into(), format!("malformed line: {e}")));
+                out.push(fail(
+                    format!("{name} record {}", i + 1),
+                    name.into(),
+                    "-".into(),
+                    format!("malformed line: {e}"),
+                ));
                 continue;
             }
         };
@@ -280,14 +383,27 @@ fn run_interval_file(
         let source = get("source");
         let expected = format!("{} +- {}", get("measured_mhz"), get("measured_unc_mhz"));
         let r = (|| -> Result<CheckLine, String> {
-            let int = |c: &str| get(c).parse::<i64>().map_err(|_| format!("column '{c}' is not an integer"));
-            let num = |c: &str| get(c).parse::<f64>().map_err(|_| format!("column '{c}' is not a number"));
+            let int = |c: &str| {
+                get(c)
+                    .parse::<i64>()
+                    .map_err(|_| format!("column '{c}' is not an integer"))
+            };
+            let num = |c: &str| {
+                get(c)
+                    .parse::<f64>()
+                    .map_err(|_| format!("column '{c}' is not a number"))
+            };
             let nucleus = kzero_qed::Nucleus::preset(&get("nucleus")).map_err(|e| e.to_string())?;
             let mut shift = |p: &str| -> Result<kzero_qed::LevelShift, String> {
-                let lv = kzero_qed::Level::new(int(&format!("{p}_n"))?, int(&format!("{p}_l"))?, int(&format!("{p}_j2"))?)
-                    .map_err(|e| e.to_string())?;
+                let lv = kzero_qed::Level::new(
+                    int(&format!("{p}_n"))?,
+                    int(&format!("{p}_l"))?,
+                    int(&format!("{p}_j2"))?,
+                )
+                .map_err(|e| e.to_string())?;
                 let v = ctx.ln_k0(lv.n(), lv.l(), MethodChoice::Green)?;
-                let b = kzero_qed::BetheLog::new(lv.n(), lv.l(), v.value.to_f64(), v.abs_err).map_err(|e| e.to_string())?;
+                let b = kzero_qed::BetheLog::new(lv.n(), lv.l(), v.value.to_f64(), v.abs_err)
+                    .map_err(|e| e.to_string())?;
                 kzero_qed::level_shift(&lv, &nucleus, &b).map_err(|e| e.to_string())
             };
             let up = shift("upper")?;
@@ -301,12 +417,17 @@ fn run_interval_file(
                 quantity: label.clone(),
                 source: source.clone(),
                 expected: expected.clone(),
-                computed: format!("{computed:.3} +- {:.3}", up.uncertainty_mhz.hypot(lo.uncertainty_mhz)),
+                computed: format!(
+                    "{computed:.3} +- {:.3}",
+                    up.uncertainty_mhz.hypot(lo.uncertainty_mhz)
+                ),
                 difference: format!("{d:.3}"),
                 pass: d.abs() <= allowed,
             })
         })();
-        out.push(r.unwrap_or_else(|why| fail(label.clone(), source.clone(), expected.clone(), why)));
+        out.push(
+            r.unwrap_or_else(|why| fail(label.clone(), source.clone(), expected.clone(), why)),
+        );
     }
     out
 }
@@ -361,7 +482,16 @@ fn sum_rules(n: u32, l: u32) -> Result<[Rational; 3], String> {
     Ok([p2, pde, trk])
 }
 
-const SUM_RULE_STATES: [(u32, u32); 8] = [(1, 0), (2, 0), (2, 1), (3, 0), (3, 2), (5, 1), (8, 3), (12, 0)];
+const SUM_RULE_STATES: [(u32, u32); 8] = [
+    (1, 0),
+    (2, 0),
+    (2, 1),
+    (3, 0),
+    (3, 2),
+    (5, 1),
+    (8, 3),
+    (12, 0),
+];
 const CROSS_STATES: [(u32, u32); 5] = [(1, 0), (2, 0), (2, 1), (3, 1), (4, 3)];
 
 fn sum_rule_lines() -> Vec<CheckLine> {
@@ -376,7 +506,11 @@ fn sum_rule_lines() -> Vec<CheckLine> {
             (
                 format!("sum_m |p_nm|^2 (E_m-E_n) ({n},{l})"),
                 "2 pi Z |psi(0)|^2 = 2Z^4/n^3 for l=0, else 0 (Bethe & Salpeter 1957)",
-                if l == 0 { Rational::from((2, n * n * n)) } else { Rational::new() },
+                if l == 0 {
+                    Rational::from((2, n * n * n))
+                } else {
+                    Rational::new()
+                },
             ),
             (
                 format!("TRK sum of f ({n},{l})"),
@@ -393,7 +527,11 @@ fn sum_rule_lines() -> Vec<CheckLine> {
                         source: src.into(),
                         expected: exp.to_string(),
                         computed: got.to_string(),
-                        difference: if diff == 0 { "0 (exact)".into() } else { diff.to_string() },
+                        difference: if diff == 0 {
+                            "0 (exact)".into()
+                        } else {
+                            diff.to_string()
+                        },
                         pass: diff == 0,
                     });
                 }
@@ -438,16 +576,26 @@ fn cross_lines(ctx: &mut Ctx) -> Vec<CheckLine> {
 /// Runs `kzero check`.
 pub fn run(a: &CheckArgs) -> Result<(), AppError> {
     let files: Vec<(String, String)> = match &a.data_dir {
-        None => bundled::BUNDLED.iter().map(|(n, t)| (n.to_string(), t.to_string())).collect(),
+        None => bundled::BUNDLED
+            .iter()
+            .map(|(n, t)| (n.to_string(), t.to_string()))
+            .collect(),
         Some(dir) => {
-            let rd = std::fs::read_dir(dir).map_err(|e| AppError::BadInput(format!("--data-dir {}: {e}", dir.display())))?;
+            let rd = std::fs::read_dir(dir)
+                .map_err(|e| AppError::BadInput(format!("--data-dir {}: {e}", dir.display())))?;
             let mut v = Vec::new();
             for e in rd.flatten() {
                 let p = e.path();
                 if p.extension().is_some_and(|x| x == "csv") {
                     let t = std::fs::read_to_string(&p)
                         .map_err(|e| AppError::BadInput(format!("{}: {e}", p.display())))?;
-                    v.push((p.file_name().unwrap_or_default().to_string_lossy().to_string(), t));
+                    v.push((
+                        p.file_name()
+                            .unwrap_or_default()
+                            .to_string_lossy()
+                            .to_string(),
+                        t,
+                    ));
                 }
             }
             v.sort();
@@ -475,7 +623,10 @@ pub fn run(a: &CheckArgs) -> Result<(), AppError> {
                 })
             })
             .collect();
-        output::print(&format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default()))?;
+        output::print(&format!(
+            "{}\n",
+            serde_json::to_string_pretty(&v).unwrap_or_default()
+        ))?;
     } else {
         let rows: Vec<Vec<String>> = lines
             .iter()
@@ -490,7 +641,17 @@ pub fn run(a: &CheckArgs) -> Result<(), AppError> {
                 ]
             })
             .collect();
-        let mut s = output::text_table(&["quantity", "source", "expected", "computed", "difference", "pass"], &rows);
+        let mut s = output::text_table(
+            &[
+                "quantity",
+                "source",
+                "expected",
+                "computed",
+                "difference",
+                "pass",
+            ],
+            &rows,
+        );
         s.push_str(&format!(
             "{} checks, {} passed, {failed} failed (digits {})\n",
             lines.len(),
@@ -500,7 +661,10 @@ pub fn run(a: &CheckArgs) -> Result<(), AppError> {
         output::print(&s)?;
     }
     if failed > 0 {
-        return Err(AppError::CheckFailed(format!("{failed} of {} checks failed", lines.len())));
+        return Err(AppError::CheckFailed(format!(
+            "{failed} of {} checks failed",
+            lines.len()
+        )));
     }
     Ok(())
 }

@@ -155,9 +155,7 @@ pub fn compute(
         MethodChoice::Spectral => None,
     };
     let spectral = match method {
-        MethodChoice::Spectral | MethodChoice::Both => {
-            Some(spectral_value(n, l, gauge, settings)?)
-        }
+        MethodChoice::Spectral | MethodChoice::Both => Some(spectral_value(n, l, gauge, settings)?),
         MethodChoice::Green => None,
     };
     Ok(Computed { green, spectral })
@@ -190,13 +188,14 @@ fn spectral_value(
     n: u32,
     l: u32,
     gauge: GaugeChoice,
-    _settings: &Settings,
+    settings: &Settings,
 ) -> Result<BetheValue, AppError> {
-    // TEMPORARY until kzero_bethe::spectral::ln_k0 lands.
-    Err(AppError::Other(format!(
-        "the spectral method ({} form) is not available in this build yet (n={n}, l={l})",
-        gauge.name()
-    )))
+    Ok(kzero_bethe::spectral::ln_k0(
+        i64::from(n),
+        i64::from(l),
+        gauge.gauge(),
+        settings,
+    )?)
 }
 
 fn green_cost(n: u32, l: u32, digits: u32) -> f64 {
@@ -204,6 +203,5 @@ fn green_cost(n: u32, l: u32, digits: u32) -> f64 {
 }
 
 fn spectral_cost(n: u32, l: u32, digits: u32) -> f64 {
-    // TEMPORARY until kzero_bethe::spectral::cost_estimate lands.
-    green_cost(n, l, digits)
+    kzero_bethe::spectral::cost_estimate(n, l, digits)
 }

@@ -13,6 +13,7 @@ mod merge;
 mod output;
 mod plot;
 mod provenance;
+mod shift_cmd;
 mod state_cmd;
 mod sweep;
 mod table;
@@ -29,7 +30,9 @@ use std::panic::{self, AssertUnwindSafe};
 /// Energies in units of Z^2 Ry; ln k0 does not depend on Z.
 #[derive(Debug, Parser)]
 #[command(name = "kzero", version = provenance::LONG_VERSION, about, long_about = None)]
-#[command(after_help = "Exit codes: 0 success, 1 other failure, 2 bad input, 3 a check or cross-method comparison failed.")]
+#[command(
+    after_help = "Exit codes: 0 success, 1 other failure, 2 bad input, 3 a check or cross-method comparison failed."
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -51,6 +54,8 @@ enum Command {
     Radial(basis_cmd::RadialArgs),
     /// Exact absorption oscillator strength f(N L -> N2 L2) (hydrogen).
     Oscillator(basis_cmd::OscillatorArgs),
+    /// Leading one-loop QED shift of a level from its Bethe logarithm.
+    Shift(shift_cmd::ShiftArgs),
 }
 
 /// The `--digits` parser shared by every command: 5..=200.
@@ -71,7 +76,10 @@ pub fn catch<T>(f: impl FnOnce() -> Result<T, AppError>) -> Result<T, AppError> 
                 .map(|s| s.to_string())
                 .or_else(|| payload.downcast_ref::<String>().cloned())
                 .unwrap_or_else(|| "unknown cause".into());
-            Err(AppError::Other(format!("internal error: {}", msg.lines().next().unwrap_or(""))))
+            Err(AppError::Other(format!(
+                "internal error: {}",
+                msg.lines().next().unwrap_or("")
+            )))
         }
     }
 }
@@ -85,6 +93,7 @@ fn run(cli: Cli) -> Result<(), AppError> {
         Command::Sweep(a) => sweep::run(a),
         Command::Radial(a) => basis_cmd::run_radial(a),
         Command::Oscillator(a) => basis_cmd::run_oscillator(a),
+        Command::Shift(a) => shift_cmd::run(a),
     }
 }
 
@@ -107,7 +116,10 @@ fn main() {
                 }
                 _ => {
                     let text = e.render().to_string();
-                    let first = text.lines().find(|l| !l.trim().is_empty()).unwrap_or("error: invalid arguments");
+                    let first = text
+                        .lines()
+                        .find(|l| !l.trim().is_empty())
+                        .unwrap_or("error: invalid arguments");
                     let first = first.strip_prefix("error: ").unwrap_or(first);
                     eprintln!("kzero: {first} (see kzero --help)");
                     std::process::exit(2);

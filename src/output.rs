@@ -10,7 +10,9 @@ pub fn print(text: &str) -> Result<(), AppError> {
     match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
         Ok(()) => Ok(()),
         Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-        Err(e) => Err(AppError::Other(format!("cannot write to standard output: {e}"))),
+        Err(e) => Err(AppError::Other(format!(
+            "cannot write to standard output: {e}"
+        ))),
     }
 }
 

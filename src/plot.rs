@@ -31,9 +31,13 @@ pub fn table_plot(rows: &[Row], path: &Path) -> Result<(), AppError> {
         }
     }
     let xs = rows.iter().map(|r| f64::from(r.n));
-    let (xmin, xmax) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
+    let (xmin, xmax) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+        (a.min(x), b.max(x))
+    });
     let ys = curves.values().flatten().map(|p| p.1);
-    let (ymin, ymax) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| (a.min(y), b.max(y)));
+    let (ymin, ymax) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| {
+        (a.min(y), b.max(y))
+    });
     let (x0, x1) = range_with_margin(xmin, xmax);
     let (y0, y1) = range_with_margin(ymin, ymax);
     let mut svg = String::new();
@@ -82,6 +86,9 @@ pub fn table_plot(rows: &[Row], path: &Path) -> Result<(), AppError> {
     tablefile::write_atomic(path, svg.as_bytes())
 }
 
+/// A named curve with its colour.
+type Series<'a> = (&'a str, &'a Vec<(f64, f64)>, RGBColor);
+
 /// One precision setting of a sweep, for the plot.
 #[derive(Debug, Clone)]
 pub struct SweepPoint {
@@ -101,20 +108,38 @@ pub struct SweepPoint {
 /// Drawing or I/O failures (exit 1).
 pub fn sweep_plot(title: &str, pts: &[SweepPoint], path: &Path) -> Result<(), AppError> {
     let lg = |x: f64| if x > 0.0 { x.log10() } else { -400.0 };
-    let est: Vec<(f64, f64)> = pts.iter().map(|p| (f64::from(p.digits), lg(p.est_err))).collect();
+    let est: Vec<(f64, f64)> = pts
+        .iter()
+        .map(|p| (f64::from(p.digits), lg(p.est_err)))
+        .collect();
     let act: Vec<(f64, f64)> = pts
         .iter()
         .filter_map(|p| p.actual_err.map(|a| (f64::from(p.digits), lg(a))))
         .filter(|p| p.1 > -399.0)
         .collect();
-    let goal: Vec<(f64, f64)> = pts.iter().map(|p| (f64::from(p.digits), -f64::from(p.digits))).collect();
-    let time: Vec<(f64, f64)> = pts.iter().map(|p| (f64::from(p.digits), p.seconds)).collect();
-    let (dmin, dmax) = pts.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
-        (a.min(f64::from(p.digits)), b.max(f64::from(p.digits)))
-    });
+    let goal: Vec<(f64, f64)> = pts
+        .iter()
+        .map(|p| (f64::from(p.digits), -f64::from(p.digits)))
+        .collect();
+    let time: Vec<(f64, f64)> = pts
+        .iter()
+        .map(|p| (f64::from(p.digits), p.seconds))
+        .collect();
+    let (dmin, dmax) = pts
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
+            (a.min(f64::from(p.digits)), b.max(f64::from(p.digits)))
+        });
     let (x0, x1) = range_with_margin(dmin, dmax);
-    let all_y = est.iter().chain(act.iter()).chain(goal.iter()).map(|p| p.1).filter(|y| *y > -399.0);
-    let (ymin, ymax) = all_y.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| (a.min(y), b.max(y)));
+    let all_y = est
+        .iter()
+        .chain(act.iter())
+        .chain(goal.iter())
+        .map(|p| p.1)
+        .filter(|y| *y > -399.0);
+    let (ymin, ymax) = all_y.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| {
+        (a.min(y), b.max(y))
+    });
     let (y0, y1) = range_with_margin(ymin, ymax);
     let tmax = time.iter().map(|p| p.1).fold(0.0f64, f64::max);
     let mut svg = String::new();
@@ -134,7 +159,7 @@ pub fn sweep_plot(title: &str, pts: &[SweepPoint], path: &Path) -> Result<(), Ap
             .y_desc("log10 |error|")
             .draw()
             .map_err(plot_err)?;
-        let series: [(&str, &Vec<(f64, f64)>, RGBColor); 3] = [
+        let series: [Series<'_>; 3] = [
             ("estimated error", &est, BLUE),
             ("actual error (vs highest D)", &act, RED),
             ("goal 10^-D", &goal, BLACK),
@@ -143,7 +168,9 @@ pub fn sweep_plot(title: &str, pts: &[SweepPoint], path: &Path) -> Result<(), Ap
             c.draw_series(LineSeries::new(data.iter().copied(), color.stroke_width(2)))
                 .map_err(plot_err)?
                 .label(name)
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2)));
+                .legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
+                });
             c.draw_series(data.iter().map(|&p| Circle::new(p, 3, color.filled())))
                 .map_err(plot_err)?;
         }

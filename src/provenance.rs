@@ -47,8 +47,7 @@ pub fn command_line() -> String {
 
 fn shell_quote(s: &str) -> String {
     let safe = !s.is_empty()
-        && s
-            .chars()
+        && s.chars()
             .all(|c| c.is_ascii_alphanumeric() || "-_./=:,+%@".contains(c));
     if safe {
         s.to_string()

@@ -61,7 +61,10 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
         let c = engine::compute(n, l, a.method, a.gauge, &Settings::with_digits(d))?;
         values.push(c.primary().clone());
     }
-    let best = values.last().cloned().ok_or_else(|| AppError::BadInput("--digits list is empty".into()))?;
+    let best = values
+        .last()
+        .cloned()
+        .ok_or_else(|| AppError::BadInput("--digits list is empty".into()))?;
     let mut points = Vec::new();
     let mut rows = Vec::new();
     let mut jrows = Vec::new();
@@ -114,7 +117,10 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
             "reference_digits": best.digits,
             "rows": jrows,
         });
-        output::print(&format!("{}\n", serde_json::to_string_pretty(&j).unwrap_or_default()))?;
+        output::print(&format!(
+            "{}\n",
+            serde_json::to_string_pretty(&j).unwrap_or_default()
+        ))?;
     } else {
         let mut s = format!(
             "precision sweep for (n={n}, l={l}), method {}; actual error against D = {}\n",
@@ -122,14 +128,27 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
             best.digits
         );
         s.push_str(&output::text_table(
-            &["digits", "ln_k0", "est_err", "actual_err", "covered", "bits", "nodes", "terms", "seconds"],
+            &[
+                "digits",
+                "ln_k0",
+                "est_err",
+                "actual_err",
+                "covered",
+                "bits",
+                "nodes",
+                "terms",
+                "seconds",
+            ],
             &rows,
         ));
         output::print(&s)?;
     }
     if let Some(p) = &a.plot {
         plot::sweep_plot(
-            &format!("ln k0({n},{l}), {} method: precision sweep", a.method.name()),
+            &format!(
+                "ln k0({n},{l}), {} method: precision sweep",
+                a.method.name()
+            ),
             &points,
             p,
         )?;

@@ -33,10 +33,21 @@ pub struct TableArgs {
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub n_max: i64,
     /// Smallest principal quantum number.
-    #[arg(long, value_name = "M", default_value_t = 1, allow_negative_numbers = true)]
+    #[arg(
+        long,
+        value_name = "M",
+        default_value_t = 1,
+        allow_negative_numbers = true
+    )]
     pub n_min: i64,
     /// Angular momenta to include, e.g. `0,1,2` (each used where l < n).
-    #[arg(long, value_name = "LIST", value_delimiter = ',', allow_negative_numbers = true, conflicts_with = "l_max")]
+    #[arg(
+        long,
+        value_name = "LIST",
+        value_delimiter = ',',
+        allow_negative_numbers = true,
+        conflicts_with = "l_max"
+    )]
     pub l: Option<Vec<i64>>,
     /// Include every l <= K (and l < n).
     #[arg(long, value_name = "K", allow_negative_numbers = true)]
@@ -111,7 +122,8 @@ pub fn parse_shard(s: &str) -> Result<Shard, String> {
 }
 
 fn nonneg(v: i64, what: &str) -> Result<u32, AppError> {
-    u32::try_from(v).map_err(|_| AppError::BadInput(format!("{what} = {v}: must be a non-negative integer")))
+    u32::try_from(v)
+        .map_err(|_| AppError::BadInput(format!("{what} = {v}: must be a non-negative integer")))
 }
 
 /// The validated settings of a table command.
@@ -242,7 +254,9 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             let mut j = open_journal_for_resume(&jpath, &from, &loaded)?;
             let when = crate::provenance::utc_now();
             let cmd = crate::provenance::command_line();
-            j.append(&format!("# resumed_utc: {when}\n# resumed_command: {cmd}\n"))?;
+            j.append(&format!(
+                "# resumed_utc: {when}\n# resumed_command: {cmd}\n"
+            ))?;
             table.prov.push(("resumed_utc".into(), when));
             table.prov.push(("resumed_command".into(), cmd));
             journal = Some(j);
@@ -263,11 +277,15 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
                 .map_err(|e| AppError::Other(format!("cannot create {}: {e}", jpath.display())))?;
             f.write_all(table.csv_header().as_bytes())
                 .map_err(|e| AppError::Other(format!("cannot write {}: {e}", jpath.display())))?;
-            journal = Some(Journal { file: f, path: jpath });
+            journal = Some(Journal {
+                file: f,
+                path: jpath,
+            });
         }
     }
 
-    let done: std::collections::BTreeSet<(u32, u32)> = table.rows.iter().map(|r| (r.n, r.l)).collect();
+    let done: std::collections::BTreeSet<(u32, u32)> =
+        table.rows.iter().map(|r| (r.n, r.l)).collect();
     let todo: Vec<((u32, u32), f64)> = planned
         .iter()
         .filter(|(k, _)| !done.contains(k))
@@ -450,7 +468,9 @@ fn compute_all(
                         let Some(&((n, l), _)) = todo.get(i) else {
                             break;
                         };
-                        let r = crate::catch(|| engine::compute(n, l, settings.method, settings.gauge, bethe));
+                        let r = crate::catch(|| {
+                            engine::compute(n, l, settings.method, settings.gauge, bethe)
+                        });
                         if tx.send((i, r)).is_err() {
                             break;
                         }
@@ -468,8 +488,14 @@ fn compute_all(
             match r {
                 Ok(comp) => {
                     if let Some((d, false)) = comp.agreement() {
-                        let g = comp.green.as_ref().map(|v| (v.value_string(), v.abs_err_string()));
-                        let sp = comp.spectral.as_ref().map(|v| (v.value_string(), v.abs_err_string()));
+                        let g = comp
+                            .green
+                            .as_ref()
+                            .map(|v| (v.value_string(), v.abs_err_string()));
+                        let sp = comp
+                            .spectral
+                            .as_ref()
+                            .map(|v| (v.value_string(), v.abs_err_string()));
                         if let (Some(g), Some(sp)) = (g, sp) {
                             outcome.disagreements.push(format!(
                                 "(n={n}, l={l}): green {} +- {} and spectral {} +- {} differ beyond their error estimates ({d} agreeing digits)",
@@ -525,8 +551,13 @@ fn finish(outcome: Outcome, out: Option<&Path>, format: Format) -> Result<(), Ap
     }
     if let Some(first) = outcome.failures.first() {
         let hint = match (out, format) {
-            (Some(o), Format::Json) => format!("; rows so far kept in {}, rerun with --resume", journal_path(o, format).display()),
-            (Some(_), Format::Csv) => "; finished rows are in the table, rerun with --resume".to_string(),
+            (Some(o), Format::Json) => format!(
+                "; rows so far kept in {}, rerun with --resume",
+                journal_path(o, format).display()
+            ),
+            (Some(_), Format::Csv) => {
+                "; finished rows are in the table, rerun with --resume".to_string()
+            }
             (None, _) => String::new(),
         };
         let more = if outcome.failures.len() > 1 {

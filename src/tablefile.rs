@@ -398,6 +398,9 @@ fn is_number(s: &str) -> bool {
     !s.is_empty() && s.parse::<f64>().is_ok_and(f64::is_finite)
 }
 
+/// A table key (n, l).
+pub type Key = (u32, u32);
+
 /// A table read from a file or about to be written.
 #[derive(Debug, Clone)]
 pub struct Table {
@@ -487,7 +490,7 @@ impl Table {
     }
 
     /// The set of (n, l) keys, with the first duplicate found if any.
-    pub fn keys(&self) -> (BTreeSet<(u32, u32)>, Option<(u32, u32)>) {
+    pub fn keys(&self) -> (BTreeSet<Key>, Option<Key>) {
         let mut set = BTreeSet::new();
         let mut dup = None;
         for r in &self.rows {
@@ -558,7 +561,9 @@ fn parse_csv(text: &str) -> Result<Table, String> {
             pieces.pop();
         }
     }
-    let mut lines = pieces.iter().map(|(o, p)| (*o, p.trim_end_matches(['\n', '\r'])));
+    let mut lines = pieces
+        .iter()
+        .map(|(o, p)| (*o, p.trim_end_matches(['\n', '\r'])));
     match lines.next() {
         Some((_, l)) if l == MAGIC => {}
         Some((_, l)) if l.starts_with("# kzero-table:") => {
@@ -601,9 +606,8 @@ fn parse_csv(text: &str) -> Result<Table, String> {
     let Some(columns) = columns else {
         return Err("truncated kzero table (no column line after the header)".into());
     };
-    let settings = TableSettings::from_lookup(&|k| {
-        sets.iter().find(|(a, _)| a == k).map(|(_, v)| v.clone())
-    })?;
+    let settings =
+        TableSettings::from_lookup(&|k| sets.iter().find(|(a, _)| a == k).map(|(_, v)| v.clone()))?;
     if columns != settings.columns().join(",") {
         return Err(format!("unexpected column line '{columns}'"));
     }
@@ -678,7 +682,12 @@ fn parse_json(text: &str) -> Result<Table, String> {
         }
     }
     // serde_json maps are sorted by key: restore the canonical order.
-    prov.sort_by_key(|(k, _)| PROV_KEYS.iter().position(|p| p == k).unwrap_or(PROV_KEYS.len()));
+    prov.sort_by_key(|(k, _)| {
+        PROV_KEYS
+            .iter()
+            .position(|p| p == k)
+            .unwrap_or(PROV_KEYS.len())
+    });
     for key in PROV_KEYS {
         if !prov.iter().any(|(k, _)| k == key) {
             return Err(format!("meta.{key} is missing"));
@@ -865,7 +874,9 @@ mod tests {
         let s = table().to_csv();
         let cut = &s[..40];
         assert!(parse_csv(cut).unwrap_err().contains("truncated"));
-        assert!(parse_csv("a,b,c\n1,2,3\n").unwrap_err().contains("not a kzero table"));
+        assert!(parse_csv("a,b,c\n1,2,3\n")
+            .unwrap_err()
+            .contains("not a kzero table"));
     }
 
     #[test]

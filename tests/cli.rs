@@ -63,7 +63,11 @@ fn value_columns(text: &str) -> Vec<String> {
 fn assert_bad_input(o: &Output, what: &str) {
     let e = stderr(o);
     assert_eq!(code(o), 2, "{what}: expected exit 2, got {} ({e})", code(o));
-    assert_eq!(e.trim_end().lines().count(), 1, "{what}: stderr not one line: {e:?}");
+    assert_eq!(
+        e.trim_end().lines().count(),
+        1,
+        "{what}: stderr not one line: {e:?}"
+    );
     assert!(!e.contains("panicked"), "{what}: {e}");
     assert!(e.starts_with("kzero: "), "{what}: {e}");
 }
@@ -72,13 +76,31 @@ fn assert_bad_input(o: &Output, what: &str) {
 fn table_is_sorted_complete_and_carries_provenance() {
     let dir = tempfile::tempdir().unwrap();
     let out = p(dir.path(), "t.csv");
-    let o = kzero(&["table", "--n-max", "3", "--digits", "12", "--out", &out, "--threads", "2"]);
+    let o = kzero(&[
+        "table",
+        "--n-max",
+        "3",
+        "--digits",
+        "12",
+        "--out",
+        &out,
+        "--threads",
+        "2",
+    ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let text = fs::read_to_string(&out).unwrap();
     assert!(text.starts_with("# kzero-table: 1\n"));
     for key in [
-        "# version: ", "# git_revision: ", "# mpfr: ", "# gmp: ", "# command: ", "# started_utc: ",
-        "# threads: 2", "# shard: 1/1", "# setting.digits: 12", "# setting.method: green",
+        "# version: ",
+        "# git_revision: ",
+        "# mpfr: ",
+        "# gmp: ",
+        "# command: ",
+        "# started_utc: ",
+        "# threads: 2",
+        "# shard: 1/1",
+        "# setting.digits: 12",
+        "# setting.method: green",
         "# setting.n_max: 3",
     ] {
         assert!(text.contains(key), "missing {key}");
@@ -98,7 +120,17 @@ fn table_is_sorted_complete_and_carries_provenance() {
     assert!((v(0) - 2.984128555765498).abs() < 1e-12);
     assert!((v(2) - -0.030016708630213).abs() < 1e-12);
     // 14 decimals (digits + 2).
-    assert_eq!(rows[0].split(',').nth(2).unwrap().split('.').nth(1).unwrap().len(), 14);
+    assert_eq!(
+        rows[0]
+            .split(',')
+            .nth(2)
+            .unwrap()
+            .split('.')
+            .nth(1)
+            .unwrap()
+            .len(),
+        14
+    );
 }
 
 #[test]
@@ -111,7 +143,10 @@ fn threads_one_and_two_give_identical_values() {
     let ob = kzero(&[&base[..], &["--threads", "2", "--out", &b]].concat());
     assert_eq!(code(&oa), 0, "{}", stderr(&oa));
     assert_eq!(code(&ob), 0, "{}", stderr(&ob));
-    let (ta, tb) = (fs::read_to_string(&a).unwrap(), fs::read_to_string(&b).unwrap());
+    let (ta, tb) = (
+        fs::read_to_string(&a).unwrap(),
+        fs::read_to_string(&b).unwrap(),
+    );
     assert_eq!(value_columns(&ta).len(), 15);
     assert_eq!(value_columns(&ta), value_columns(&tb));
 }
@@ -147,12 +182,20 @@ fn shards_merged_equal_a_single_run() {
     );
 
     let merged = p(dir.path(), "merged.csv");
-    let o = kzero(&["merge", &shards[2], &shards[0], &shards[1], "--out", &merged]);
+    let o = kzero(&[
+        "merge", &shards[2], &shards[0], &shards[1], "--out", &merged,
+    ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
-    let (ts, tm) = (fs::read_to_string(&single).unwrap(), fs::read_to_string(&merged).unwrap());
+    let (ts, tm) = (
+        fs::read_to_string(&single).unwrap(),
+        fs::read_to_string(&merged).unwrap(),
+    );
     assert_eq!(value_columns(&ts), value_columns(&tm));
     let settings = |t: &str| -> Vec<String> {
-        t.lines().filter(|l| l.starts_with("# setting.")).map(str::to_string).collect()
+        t.lines()
+            .filter(|l| l.starts_with("# setting."))
+            .map(str::to_string)
+            .collect()
     };
     assert_eq!(settings(&ts), settings(&tm));
     assert!(tm.contains("# shard: 1/1"));
@@ -162,13 +205,17 @@ fn shards_merged_equal_a_single_run() {
     let o = kzero(&["merge", &shards[0], &shards[1], "--out", &bad]);
     assert_bad_input(&o, "merge with a gap");
     assert!(stderr(&o).contains("missing states"));
-    let o = kzero(&["merge", &shards[0], &shards[1], &shards[1], &shards[2], "--out", &bad]);
+    let o = kzero(&[
+        "merge", &shards[0], &shards[1], &shards[1], &shards[2], "--out", &bad,
+    ]);
     assert_bad_input(&o, "merge with a duplicate");
     assert!(stderr(&o).contains("duplicate"));
     assert!(!Path::new(&bad).exists());
     // Shards of different settings are refused.
     let other = p(dir.path(), "other.csv");
-    let o = kzero(&["table", "--n-max", "5", "--digits", "13", "--shard", "3/3", "--out", &other]);
+    let o = kzero(&[
+        "table", "--n-max", "5", "--digits", "13", "--shard", "3/3", "--out", &other,
+    ]);
     assert_eq!(code(&o), 0);
     let o = kzero(&["merge", &shards[0], &shards[1], &other, "--out", &bad]);
     assert_bad_input(&o, "merge with other settings");
@@ -196,7 +243,16 @@ fn resume_after_kill_equals_an_uninterrupted_run() {
     let dir = tempfile::tempdir().unwrap();
     let full = p(dir.path(), "full.csv");
     let part = p(dir.path(), "part.csv");
-    let args = ["table", "--n-max", "7", "--digits", "12", "--threads", "2", "--quiet"];
+    let args = [
+        "table",
+        "--n-max",
+        "7",
+        "--digits",
+        "12",
+        "--threads",
+        "2",
+        "--quiet",
+    ];
     let o = kzero(&[&args[..], &["--out", &full]].concat());
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let full_text = fs::read_to_string(&full).unwrap();
@@ -248,7 +304,17 @@ fn resume_after_kill_equals_an_uninterrupted_run() {
 fn json_tables_have_meta_and_rows_and_resume_from_the_journal() {
     let dir = tempfile::tempdir().unwrap();
     let out = p(dir.path(), "t.json");
-    let args = ["table", "--n-max", "3", "--digits", "10", "--format", "json", "--threads", "2"];
+    let args = [
+        "table",
+        "--n-max",
+        "3",
+        "--digits",
+        "10",
+        "--format",
+        "json",
+        "--threads",
+        "2",
+    ];
     let o = kzero(&[&args[..], &["--out", &out]].concat());
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&fs::read_to_string(&out).unwrap()).unwrap();
@@ -257,7 +323,10 @@ fn json_tables_have_meta_and_rows_and_resume_from_the_journal() {
     let rows = v["rows"].as_array().unwrap();
     assert_eq!(rows.len(), 6);
     assert_eq!(rows[0]["n"], 1);
-    assert!(rows[0]["ln_k0"].as_str().unwrap().starts_with("2.9841285557"));
+    assert!(rows[0]["ln_k0"]
+        .as_str()
+        .unwrap()
+        .starts_with("2.9841285557"));
     assert!(!Path::new(&format!("{out}.partial")).exists());
 
     // A crashed JSON run leaves its CSV journal; --resume completes it.
@@ -273,7 +342,12 @@ fn json_tables_have_meta_and_rows_and_resume_from_the_journal() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let w: serde_json::Value = serde_json::from_str(&fs::read_to_string(&out2).unwrap()).unwrap();
     let a: Vec<&serde_json::Value> = rows.iter().map(|r| &r["ln_k0"]).collect();
-    let b: Vec<&serde_json::Value> = w["rows"].as_array().unwrap().iter().map(|r| &r["ln_k0"]).collect();
+    let b: Vec<&serde_json::Value> = w["rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| &r["ln_k0"])
+        .collect();
     assert_eq!(a, b);
     assert!(!Path::new(&format!("{out2}.partial")).exists());
 }
@@ -334,11 +408,17 @@ fn bad_files_exit_2_and_are_left_untouched() {
     let o = kzero(&["table", "--n-max", "2", "--digits", "10", "--out", &good]);
     assert_bad_input(&o, "existing --out");
     // Resume with other settings.
-    let o = kzero(&["table", "--n-max", "3", "--digits", "10", "--out", &good, "--resume"]);
+    let o = kzero(&[
+        "table", "--n-max", "3", "--digits", "10", "--out", &good, "--resume",
+    ]);
     assert_bad_input(&o, "resume with other n_max");
-    let o = kzero(&["table", "--n-max", "2", "--digits", "11", "--out", &good, "--resume"]);
+    let o = kzero(&[
+        "table", "--n-max", "2", "--digits", "11", "--out", &good, "--resume",
+    ]);
     assert_bad_input(&o, "resume with other digits");
-    let o = kzero(&["table", "--n-max", "2", "--digits", "10", "--shard", "1/2", "--out", &good, "--resume"]);
+    let o = kzero(&[
+        "table", "--n-max", "2", "--digits", "10", "--shard", "1/2", "--out", &good, "--resume",
+    ]);
     assert_bad_input(&o, "resume with another shard");
     assert_eq!(fs::read_to_string(&good).unwrap(), good_text);
 
@@ -346,17 +426,28 @@ fn bad_files_exit_2_and_are_left_untouched() {
         ("foreign.csv", b"name,value\nx,1\n".to_vec()),
         ("binary.csv", vec![0xff, 0xfe, 0x00, 0x41]),
         ("empty.csv", Vec::new()),
-        ("truncated.csv", good_text.as_bytes()[..good_text.len() / 3].to_vec()),
+        (
+            "truncated.csv",
+            good_text.as_bytes()[..good_text.len() / 3].to_vec(),
+        ),
         ("cutheader.csv", good_text.as_bytes()[..20].to_vec()),
-        ("badrow.csv", format!("{good_text}9,0,abc,1e-3,green,10,64,0.1\n").into_bytes()),
+        (
+            "badrow.csv",
+            format!("{good_text}9,0,abc,1e-3,green,10,64,0.1\n").into_bytes(),
+        ),
         ("foreign.json", b"{\"a\": 1}".to_vec()),
-        ("truncated.json", b"{\"meta\": {\"format\": \"kzero-table\"".to_vec()),
+        (
+            "truncated.json",
+            b"{\"meta\": {\"format\": \"kzero-table\"".to_vec(),
+        ),
     ];
     for (name, bytes) in &files {
         let path = dir.path().join(name);
         fs::write(&path, bytes).unwrap();
         let ps = path.to_string_lossy().to_string();
-        let o = kzero(&["table", "--n-max", "2", "--digits", "10", "--out", &ps, "--resume"]);
+        let o = kzero(&[
+            "table", "--n-max", "2", "--digits", "10", "--out", &ps, "--resume",
+        ]);
         assert_bad_input(&o, &format!("resume from {name}"));
         assert_eq!(&fs::read(&path).unwrap(), bytes, "{name} was modified");
         let out = p(dir.path(), "merged.csv");
@@ -380,7 +471,13 @@ fn bad_files_exit_2_and_are_left_untouched() {
     let nowhere: PathBuf = dir.path().join("no/such/folder/t.csv");
     let o = kzero(&["table", "--n-max", "2", "--out", &nowhere.to_string_lossy()]);
     assert_bad_input(&o, "output in a missing folder");
-    let o = kzero(&["table", "--n-max", "2", "--plot", &dir.path().join("nope/p.svg").to_string_lossy()]);
+    let o = kzero(&[
+        "table",
+        "--n-max",
+        "2",
+        "--plot",
+        &dir.path().join("nope/p.svg").to_string_lossy(),
+    ]);
     assert_bad_input(&o, "plot in a missing folder");
     let o = kzero(&["merge", &good, "--out", &nowhere.to_string_lossy()]);
     assert_bad_input(&o, "merge output in a missing folder");
@@ -392,7 +489,9 @@ fn state_json_carries_the_interface_fields() {
     let o = kzero(&["state", "2", "1", "--digits", "15", "--json"]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
-    for k in ["n", "l", "ln_k0", "abs_err", "digits", "method", "bits", "seconds", "nodes", "terms"] {
+    for k in [
+        "n", "l", "ln_k0", "abs_err", "digits", "method", "bits", "seconds", "nodes", "terms",
+    ] {
         assert!(v.get(k).is_some(), "missing {k}");
     }
     let s = v["ln_k0"].as_str().unwrap();
@@ -414,7 +513,16 @@ fn radial_and_oscillator_match_closed_forms() {
     let exact = 256.0 / (81.0 * 6f64.sqrt());
     let got: f64 = v["value"].as_str().unwrap().parse().unwrap();
     assert!((got - exact).abs() < 1e-15);
-    assert_eq!(v["value"].as_str().unwrap().split('.').nth(1).unwrap().len(), 30);
+    assert_eq!(
+        v["value"]
+            .as_str()
+            .unwrap()
+            .split('.')
+            .nth(1)
+            .unwrap()
+            .len(),
+        30
+    );
     let o = kzero(&["oscillator", "1", "0", "2", "1", "--json"]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
@@ -426,13 +534,18 @@ fn radial_and_oscillator_match_closed_forms() {
 fn sweep_reports_every_setting_and_plots() {
     let dir = tempfile::tempdir().unwrap();
     let svg = p(dir.path(), "sweep.svg");
-    let o = kzero(&["sweep", "2", "0", "--digits", "10,15,25", "--plot", &svg, "--json"]);
+    let o = kzero(&[
+        "sweep", "2", "0", "--digits", "10,15,25", "--plot", &svg, "--json",
+    ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
     let rows = v["rows"].as_array().unwrap();
     assert_eq!(rows.len(), 3);
     for r in &rows[..2] {
-        assert_eq!(r["covered"], true, "estimate does not cover the actual error: {r}");
+        assert_eq!(
+            r["covered"], true,
+            "estimate does not cover the actual error: {r}"
+        );
     }
     assert!(rows[2]["actual_err"].is_null());
     let text = fs::read_to_string(&svg).unwrap();
@@ -458,12 +571,68 @@ fn check_runs_the_bundled_checks() {
     let o = kzero(&["check", "--digits", "18", "--json"]);
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
     let lines = v.as_array().unwrap();
-    let find = |q: &str| lines.iter().find(|l| l["quantity"] == q).unwrap_or_else(|| panic!("{q} missing"));
+    let find = |q: &str| {
+        lines
+            .iter()
+            .find(|l| l["quantity"] == q)
+            .unwrap_or_else(|| panic!("{q} missing"))
+    };
     // Drake & Swainson 1990 (via CODATA 2018) and Bethe, Brown & Stehn 1950.
     for q in ["ln_k0(1,0)", "ln_k0(2,0)", "ln_k0(2,1)", "k0_ry(2,0)"] {
         assert_eq!(find(q)["pass"], true, "{q}");
     }
     let all_pass = lines.iter().all(|l| l["pass"] == true);
     assert_eq!(code(&o), if all_pass { 0 } else { 3 });
-    assert!(all_pass, "failing checks: {:?}", lines.iter().filter(|l| l["pass"] != true).collect::<Vec<_>>());
+    assert!(
+        all_pass,
+        "failing checks: {:?}",
+        lines
+            .iter()
+            .filter(|l| l["pass"] != true)
+            .collect::<Vec<_>>()
+    );
+}
+
+#[test]
+fn both_methods_in_state_and_table_agree() {
+    let o = kzero(&[
+        "state", "2", "0", "--digits", "15", "--method", "both", "--json",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    for k in [
+        "ln_k0",
+        "abs_err",
+        "ln_k0_spectral",
+        "abs_err_spectral",
+        "agreement_digits",
+    ] {
+        assert!(v.get(k).is_some(), "missing {k}");
+    }
+    assert!(v["agreement_digits"].as_u64().unwrap() >= 15);
+    let o = kzero(&[
+        "table",
+        "--n-max",
+        "3",
+        "--digits",
+        "10",
+        "--method",
+        "both",
+        "--threads",
+        "2",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = stdout(&o);
+    assert!(text.contains(
+        "\nn,l,ln_k0,abs_err,method,digits,bits,seconds,ln_k0_spectral,abs_err_spectral,agreement_digits\n"
+    ));
+    let rows = data_lines(&text);
+    assert_eq!(rows.len(), 6);
+    for r in rows {
+        let f: Vec<&str> = r.split(',').collect();
+        assert_eq!(f[4], "both");
+        let (g, s): (f64, f64) = (f[2].parse().unwrap(), f[8].parse().unwrap());
+        assert!((g - s).abs() < 1e-10, "{r}");
+        assert!(f[10].parse::<u32>().unwrap() >= 10, "{r}");
+    }
 }
