@@ -91,15 +91,10 @@ pub struct ShiftArgs {
     #[arg(long)]
     pub table: bool,
     /// Largest n of --table (1..=200).
-    #[arg(
-        long,
-        value_name = "N",
-        requires = "table",
-        allow_negative_numbers = true
-    )]
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub n_max: Option<i64>,
     /// Table format (with --table).
-    #[arg(long, value_enum, requires = "table")]
+    #[arg(long, value_enum)]
     pub format: Option<ShiftFormat>,
 }
 
@@ -242,6 +237,11 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
         };
         return render_table(args, n_max, format, &nucleus, &settings);
     }
+    if args.n_max.is_some() || args.format.is_some() {
+        return Err(AppError::BadInput(
+            "--n-max and --format belong to --table".to_string(),
+        ));
+    }
     let (n, l, j) =
         match (&args.n, &args.l, &args.j) {
             (Some(n), Some(l), Some(j)) => (n, l, j),
@@ -306,6 +306,13 @@ fn fmt_coef(x: f64) -> String {
     }
 }
 
+/// A radius in fm with at most 5 decimals, trailing zeros dropped.
+fn radius_text(r: f64) -> String {
+    let s = format!("{r:.5}");
+    let s = s.trim_end_matches('0');
+    s.strip_suffix('.').unwrap_or(s).to_string()
+}
+
 fn mass_text(nuc: &Nucleus) -> String {
     match nuc.mass_me {
         Some(m) => format!("{m} m_e"),
@@ -323,7 +330,7 @@ fn level_text(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) 
         nuc.name,
         nuc.z,
         mass_text(nuc),
-        nuc.radius_fm
+        radius_text(nuc.radius_fm)
     );
     let _ = writeln!(t, "NOTE: {TRUNCATION_NOTE}");
     let _ = writeln!(t);
@@ -586,7 +593,7 @@ fn render_table(
         ("nucleus".into(), nucleus.name.clone()),
         ("z".into(), nucleus.z.to_string()),
         ("mass_me".into(), mass_text(nucleus)),
-        ("radius_fm".into(), nucleus.radius_fm.to_string()),
+        ("radius_fm".into(), radius_text(nucleus.radius_fm)),
         ("nucleus_source".into(), nucleus.source.clone()),
         ("constants".into(), "CODATA 2018".into()),
         (
@@ -788,6 +795,8 @@ mod tests {
             &["2", "0", "1/2", "--table", "--n-max", "2"],
             &["--table", "--n-max", "0"],
             &["--table", "--n-max", "201"],
+            &["2", "0", "1/2", "--n-max", "3"],
+            &["2", "0", "1/2", "--format", "json"],
         ] {
             let e = run(&args(bad_args)).unwrap_err();
             assert_eq!(e.exit_code(), 2, "{bad_args:?}: {e}");
