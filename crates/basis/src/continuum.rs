@@ -325,7 +325,33 @@ impl BoundFreeKernel {
                 nu.to_f64()
             )));
         }
-        self.with_precision(prec, |p| self.bound_at(&Float::with_val(p, nu), p))
+        self.with_precision(prec, |p| self.bound_at(&Float::with_val(p, nu), None, p))
+    }
+
+    /// The bound-bound integral sqrt(n'^3/Z^2) int u_n'L f dr for an integer
+    /// n' >= L+1, n' != n, from the same closed form as
+    /// [`BoundFreeKernel::bound_continued`] (for n' < n with integer powers of
+    /// the then negative 1 - z). An MPFR alternative to the exact rational
+    /// integrals of [`crate::radial`], whose cost grows like n^2 instead of
+    /// about n^4 for large n.
+    ///
+    /// # Accuracy
+    /// As [`BoundFreeKernel::continuum`].
+    ///
+    /// # Errors
+    /// [`BasisError::InvalidArgument`] for n' <= L or n' = n; precision as above.
+    pub fn bound_bound(&self, n_prime: u32, prec: u32) -> Result<RadialValue, BasisError> {
+        check_prec(prec)?;
+        if n_prime <= self.big_l || n_prime == self.state.n() {
+            return Err(BasisError::InvalidArgument(format!(
+                "bound-bound closed form needs n' > L = {} and n' != n = {}, got {n_prime}",
+                self.big_l,
+                self.state.n()
+            )));
+        }
+        self.with_precision(prec, |p| {
+            self.bound_at(&Float::with_val(p, n_prime), Some(n_prime), p)
+        })
     }
 
     /// Runs `f` at increasing working precision until the measured loss
@@ -457,7 +483,7 @@ impl BoundFreeKernel {
         (value, magn)
     }
 
-    fn bound_at(&self, nu: &Float, p: u32) -> (Float, f64) {
+    fn bound_at(&self, nu: &Float, integer: Option<u32>, p: u32) -> (Float, f64) {
         let l = self.big_l;
         let z = Float::with_val(p, self.state.z());
         let kap = Float::with_val(p, &self.state.kappa());
@@ -479,9 +505,15 @@ impl BoundFreeKernel {
         }
         let fl = Float::with_val(p, &factorial(2 * l + 1));
         b /= Float::with_val(p, &fl * &fl);
-        let ln_omz = Float::with_val(p, omz.ln_ref());
         let mut norm = b.sqrt();
-        norm *= Float::with_val(p, &ln_omz * nu).exp();
+        match integer {
+            // (1-z)^nu with 1 - z < 0 for nu < n: integer power
+            Some(m) => norm *= Float::with_val(p, (&omz).pow(m)),
+            None => {
+                let ln_omz = Float::with_val(p, omz.ln_ref());
+                norm *= Float::with_val(p, &ln_omz * nu).exp();
+            }
+        }
         norm *= Float::with_val(p, &self.radicand).sqrt();
         let mut tq: Vec<Float> = Vec::with_capacity(nmax);
         let mut cur = Float::with_val(p, 1);

@@ -9,10 +9,16 @@
 //! velocity |p|^2 D, length |r|^2 D^3, acceleration |grad V|^2 / D.
 //!
 //! ## Pieces
-//! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n)): exact rational
-//!   squared radial integrals from [`kzero_basis::radial`] and
-//!   [`kzero_basis::exact`]; only the logarithm is rounded. The degenerate
-//!   n' = n terms vanish exactly (D = 0 and p = 0) and are skipped.
+//! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n)): for n <=
+//!   [`EXACT_MAX_N`], exact rational squared radial integrals from
+//!   [`kzero_basis::radial`] and [`kzero_basis::exact`] (only the logarithm
+//!   is rounded); for larger n, whose exact integrals cost about n^4 big-integer
+//!   operations each, the MPFR closed form
+//!   [`kzero_basis::continuum::BoundFreeKernel::bound_bound`] (Gordon's
+//!   formula in the form shared with the tail and the continuum, checked
+//!   against the exact integrals in the basis tests), evaluated at each run's
+//!   working precision. The degenerate n' = n terms vanish exactly (D = 0, and
+//!   p = 0 in the velocity and acceleration forms) and are skipped.
 //! * **Rydberg tail n' > N1**: the summand is n'^-3 G(1/n'^2) with G analytic
 //!   up to its singularity at 1/n'^2 = 1/n^2 (G is the threshold-continued
 //!   density of [`kzero_basis::continuum::BoundFreeKernel::bound_continued`],
@@ -55,10 +61,15 @@ use kzero_basis::continuum::{BoundFreeKernel, DipoleForm};
 use kzero_basis::gradient::{gradient_function, Channel};
 use kzero_basis::radial::{radial_integral, reduced_radial_function};
 use kzero_basis::BoundState;
+use rug::ops::Pow;
 use rug::{Float, Rational};
 use std::time::Instant;
 
 const METHOD: &str = "spectral";
+
+/// Largest n whose bound terms use exact rational matrix elements; above,
+/// the MPFR closed form (cost about n^2 per term instead of n^4).
+pub const EXACT_MAX_N: u32 = 60;
 
 /// What is summed over the spectrum, in velocity-form language.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -229,6 +240,8 @@ struct Problem {
     form: DipoleForm,
     weight: SpectralWeight,
     kernels: Vec<(BoundFreeKernel, Rational)>,
+    /// Bound terms from the MPFR closed form instead of exact rationals.
+    closed: bool,
 }
 
 impl Problem {
@@ -280,6 +293,29 @@ impl Problem {
             abs_sum += v.to_f64().abs();
             bound += v;
         }
+        let mut closed_terms = 0;
+        if self.closed {
+            let n = self.state.n();
+            let en = self.state.energy();
+            for (kern, wl) in &self.kernels {
+                for np in kern.big_l() + 1..=p.n1 {
+                    if np == n {
+                        continue;
+                    }
+                    let i = kern.bound_bound(np, b)?;
+                    let m =
+                        BoundState::new(i64::from(np), i64::from(kern.big_l()), Rational::from(1))?;
+                    let d = Float::with_val(b, &Rational::from(&m.energy() - &en));
+                    let mut v = Float::with_val(b, i.value.square_ref()) * wl;
+                    v /= Float::with_val(b, np).pow(3u32);
+                    v *= pow_float(&d, self.shift(), b);
+                    v *= weight_f(self.weight, &d, b);
+                    abs_sum += v.to_f64().abs();
+                    bound += v;
+                    closed_terms += 1;
+                }
+            }
+        }
         // tail
         let a = p.n1 + 1;
         let mut tails = Vec::new();
@@ -328,9 +364,6 @@ impl Problem {
             ends[side] = t * sign;
         }
         let (tlo, thi) = (ends[0], ends[1]);
-        if std::env::var("KZ_DBG").is_ok() {
-            eprintln!("ends {tlo} {thi} eps {eps:e}");
-        }
         let mut sums: Vec<Float> = Vec::new();
         let mut acc = Float::with_val(b, 0); // sum of w f over all nodes so far
         let mut abs_acc = 0.0f64;
@@ -349,12 +382,6 @@ impl Problem {
             }
             let h = Float::with_val(b, Float::i_exp(1, -(level as i32)));
             sums.push(Float::with_val(b, &acc * &h));
-            if std::env::var("KZ_DBG").is_ok() {
-                eprintln!(
-                    "bits {b} level {level} nodes {nodes} sum {:.50}",
-                    sums.last().unwrap()
-                );
-            }
             if sums.len() >= 2 {
                 let m = sums.len();
                 cont_est = Float::with_val(53, &sums[m - 1] - &sums[m - 2])
@@ -384,7 +411,7 @@ impl Problem {
             abs_sum,
             level,
             nodes,
-            terms: exact.len() + tail_terms,
+            terms: exact.len() + closed_terms + tail_terms,
         })
     }
 }
@@ -452,10 +479,17 @@ fn sum_with_goal(
         form,
         weight,
         kernels,
+        closed: n > EXACT_MAX_N,
     };
     let n1 = split_point(n);
-    let exact = exact_terms(&prob.state, form, 1, n1)?;
-    let extra = exact_terms(&prob.state, form, n1 + 1, n1 + 4)?;
+    let (exact, extra) = if prob.closed {
+        (Vec::new(), Vec::new())
+    } else {
+        (
+            exact_terms(&prob.state, form, 1, n1)?,
+            exact_terms(&prob.state, form, n1 + 1, n1 + 4)?,
+        )
+    };
     let digits_bits = -goal.log2();
     let mut bits = (digits_bits + 32.0).ceil() as u32;
     let mut cheb = cheb_order(n, n1 + 1, digits_bits + 8.0);
