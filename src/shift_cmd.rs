@@ -77,7 +77,7 @@ pub struct ShiftArgs {
     /// nuclear-size term (default: the preset's value; 1.2 fm A^(1/3) with --mass).
     #[arg(long, value_name = "FM", allow_negative_numbers = true)]
     pub radius: Option<f64>,
-    /// Requested digits of ln k0 (5..=200).
+    /// Requested digits of ln k0 (5..=200; default 15, far more than the shifts need).
     #[arg(long, value_name = "D", allow_negative_numbers = true)]
     pub digits: Option<i64>,
     /// Print JSON instead of text (with --table: same as --format json).

