@@ -61,7 +61,9 @@ pub fn a40_bethe(level: &Level, ln_k0: f64) -> f64 {
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
 /// coefficients (from memory); same as PHYSICS.md section 6. In the reduced-mass
 /// treatment of that source this part carries (m_r/m_e)^2 instead of
-/// (m_r/m_e)^3 (from memory).
+/// (m_r/m_e)^3 (from memory). That is also what the physics gives: the
+/// anomalous-moment spin-orbit coupling a Z alpha / (m_e m_r r^3) L.s, with
+/// <r^-3> proportional to m_r^3, scales as m_r^2 / m_e.
 ///
 /// # Accuracy
 /// Closed form evaluated in f64: relative rounding error below 1e-15.
