@@ -9,11 +9,13 @@
 //! velocity |p|^2 D, length |r|^2 D^3, acceleration |grad V|^2 / D.
 //!
 //! ## Pieces
-//! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n)): for n <=
-//!   [`EXACT_MAX_N`], exact rational squared radial integrals from
-//!   [`kzero_basis::radial`] and [`kzero_basis::exact`] (only the logarithm
-//!   is rounded); for larger n, whose exact integrals cost about n^4 big-integer
-//!   operations each, the MPFR closed form
+//! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n)): exact rational
+//!   squared radial integrals (only the logarithm is rounded): the length
+//!   form by Gordon's formula ([`kzero_basis::gordon::radial_dipole`]), the
+//!   velocity and acceleration forms for n <= [`EXACT_MAX_N`] by direct exact
+//!   integration ([`kzero_basis::radial`], [`kzero_basis::exact`]). For larger
+//!   n, whose direct exact integrals cost about n^4 big-integer operations
+//!   each, these two forms use the MPFR closed form
 //!   [`kzero_basis::continuum::BoundFreeKernel::bound_bound`] (Gordon's
 //!   formula in the form shared with the tail and the continuum, checked
 //!   against the exact integrals in the basis tests), evaluated at each run's
@@ -58,6 +60,7 @@ use crate::error::BetheError;
 use crate::settings::{validate_state, Settings};
 use crate::value::{BetheValue, Gauge, Method};
 use kzero_basis::continuum::{BoundFreeKernel, DipoleForm};
+use kzero_basis::gordon::radial_dipole;
 use kzero_basis::gradient::{gradient_function, Channel};
 use kzero_basis::radial::{radial_integral, reduced_radial_function};
 use kzero_basis::BoundState;
@@ -67,8 +70,10 @@ use std::time::Instant;
 
 const METHOD: &str = "spectral";
 
-/// Largest n whose bound terms use exact rational matrix elements; above,
-/// the MPFR closed form (cost about n^2 per term instead of n^4).
+/// Largest n whose bound terms use exact rational matrix elements in the
+/// velocity and acceleration forms (direct exact integration); above, the
+/// MPFR closed form (cost about n^2 per term instead of n^4). The length
+/// form always uses the exact Gordon formula.
 pub const EXACT_MAX_N: u32 = 60;
 
 /// What is summed over the spectrum, in velocity-form language.
@@ -139,7 +144,8 @@ fn exact_terms(
         for np in n_from.max(big_l + 1)..=n_to {
             let m = BoundState::new(i64::from(np), i64::from(big_l), state.z().clone())?;
             let i = match form {
-                DipoleForm::Length => radial_integral(&m, state, 1)?,
+                // Gordon's closed formula: exact, and about n/2 terms
+                DipoleForm::Length => radial_dipole(&m, state)?,
                 DipoleForm::Velocity => {
                     reduced_radial_function(&m).integral_with(g.as_ref().expect("velocity"), 0)?
                 }
@@ -479,7 +485,7 @@ fn sum_with_goal(
         form,
         weight,
         kernels,
-        closed: n > EXACT_MAX_N,
+        closed: n > EXACT_MAX_N && form != DipoleForm::Length,
     };
     let n1 = split_point(n);
     let (exact, extra) = if prob.closed {
