@@ -112,6 +112,16 @@ Sharding:
   cost (deterministic: the same K/M always gives the same states). Run every
   K = 1..M (for example as a job array), then `kzero merge` the parts.
 
+Cluster recipe (Slurm job array; the same pattern works with any scheduler):
+  #SBATCH --array=1-16
+  #SBATCH --cpus-per-task=4
+  OUT=part-${SLURM_ARRAY_TASK_ID}.csv
+  kzero table --n-max 200 --digits 20 --threads 4 --quiet \\
+      --shard ${SLURM_ARRAY_TASK_ID}/16 --out $OUT $([ -e $OUT ] && echo --resume)
+  # after the array (for example with --dependency=afterok:<array job>):
+  kzero merge part-*.csv --out table.csv
+  A requeued task that finds its part file continues it with --resume.
+
 Determinism:
   ln_k0 and abs_err do not depend on --threads, sharding or resuming. The
   seconds column is wall time.";
@@ -332,13 +342,41 @@ pub fn journal_path(out: &Path, format: Format) -> PathBuf {
     }
 }
 
+/// Whether a file holds a JSON document (first non-blank byte `{`).
+fn looks_like_json(path: &Path) -> bool {
+    fs::read(path)
+        .ok()
+        .and_then(|b| b.into_iter().find(|c| !c.is_ascii_whitespace()))
+        == Some(b'{')
+}
+
 fn load_for_resume(out: &Path, jpath: &Path, format: Format) -> Result<(Table, PathBuf), AppError> {
     match format {
-        Format::Csv => Ok((tablefile::read_table(out)?, out.to_path_buf())),
+        Format::Csv => {
+            if looks_like_json(out) {
+                return Err(AppError::BadInput(format!(
+                    "--resume: {} is a JSON table; resume it with --format json",
+                    out.display()
+                )));
+            }
+            Ok((tablefile::read_table(out)?, out.to_path_buf()))
+        }
         Format::Json => {
             if jpath.exists() {
+                if looks_like_json(jpath) {
+                    return Err(AppError::BadInput(format!(
+                        "--resume: {} is not a kzero CSV journal",
+                        jpath.display()
+                    )));
+                }
                 Ok((tablefile::read_table(jpath)?, jpath.to_path_buf()))
             } else if out.exists() {
+                if !looks_like_json(out) {
+                    return Err(AppError::BadInput(format!(
+                        "--resume --format json: {} is not a JSON table (resume a CSV table with --format csv)",
+                        out.display()
+                    )));
+                }
                 Ok((tablefile::read_table(out)?, out.to_path_buf()))
             } else {
                 Err(AppError::BadInput(format!(

@@ -455,6 +455,25 @@ fn bad_files_exit_2_and_are_left_untouched() {
         assert_bad_input(&o, &format!("merge with {name}"));
         assert!(!Path::new(&out).exists());
     }
+    // A table resumed in the other format is refused, the file untouched.
+    let js = p(dir.path(), "done.json");
+    let o = kzero(&[
+        "table", "--n-max", "2", "--digits", "10", "--json", "--out", &js,
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let js_text = fs::read_to_string(&js).unwrap();
+    let o = kzero(&[
+        "table", "--n-max", "2", "--digits", "10", "--out", &js, "--resume",
+    ]);
+    assert_bad_input(&o, "resume a JSON table as CSV");
+    assert_eq!(fs::read_to_string(&js).unwrap(), js_text);
+    let o = kzero(&[
+        "table", "--n-max", "2", "--digits", "10", "--json", "--out", &good, "--resume",
+    ]);
+    assert_bad_input(&o, "resume a CSV table as JSON");
+    assert_eq!(fs::read_to_string(&good).unwrap(), good_text);
+    assert!(!Path::new(&format!("{good}.partial")).exists());
+
     // Missing and unreadable (a folder) inputs.
     let missing = p(dir.path(), "missing.csv");
     let o = kzero(&["table", "--n-max", "2", "--out", &missing, "--resume"]);
