@@ -84,6 +84,27 @@ pub fn catch<T>(f: impl FnOnce() -> Result<T, AppError>) -> Result<T, AppError> 
     }
 }
 
+/// One line from a clap error report: the message and its details, without
+/// the usage block and tips.
+fn clap_summary(text: &str) -> String {
+    let mut parts = Vec::new();
+    for line in text.lines() {
+        let t = line.trim();
+        if t.starts_with("Usage:") || t.starts_with("For more information") {
+            break;
+        }
+        if t.is_empty() || t.starts_with("tip:") {
+            continue;
+        }
+        parts.push(t.strip_prefix("error: ").unwrap_or(t).to_string());
+    }
+    if parts.is_empty() {
+        "invalid arguments".to_string()
+    } else {
+        parts.join(" ")
+    }
+}
+
 fn run(cli: Cli) -> Result<(), AppError> {
     match &cli.command {
         Command::State(a) => state_cmd::run(a),
@@ -111,17 +132,14 @@ fn main() {
                     std::process::exit(0);
                 }
                 ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand => {
-                    eprint!("{}", e.render());
+                    eprintln!("kzero: a subcommand is required (see kzero --help)");
                     std::process::exit(2);
                 }
                 _ => {
-                    let text = e.render().to_string();
-                    let first = text
-                        .lines()
-                        .find(|l| !l.trim().is_empty())
-                        .unwrap_or("error: invalid arguments");
-                    let first = first.strip_prefix("error: ").unwrap_or(first);
-                    eprintln!("kzero: {first} (see kzero --help)");
+                    eprintln!(
+                        "kzero: {} (see kzero --help)",
+                        clap_summary(&e.render().to_string())
+                    );
                     std::process::exit(2);
                 }
             }

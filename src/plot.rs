@@ -18,68 +18,123 @@ fn range_with_margin(lo: f64, hi: f64) -> (f64, f64) {
     (lo - 0.05 * span, hi + 0.05 * span)
 }
 
+type Curves = BTreeMap<u32, Vec<(f64, f64)>>;
+
+fn draw_curves<DB: DrawingBackend>(
+    area: &DrawingArea<DB, plotters::coord::Shift>,
+    title: &str,
+    curves: &Curves,
+    xr: (f64, f64),
+    first_color: usize,
+    legend: SeriesLabelPosition,
+) -> Result<(), AppError> {
+    let ys = curves.values().flatten().map(|p| p.1);
+    let (ymin, ymax) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| {
+        (a.min(y), b.max(y))
+    });
+    let (y0, y1) = range_with_margin(ymin, ymax);
+    let mut chart = ChartBuilder::on(area)
+        .caption(title, ("sans-serif", 20))
+        .margin(15)
+        .x_label_area_size(45)
+        .y_label_area_size(80)
+        .build_cartesian_2d(xr.0..xr.1, y0..y1)
+        .map_err(plot_err)?;
+    chart
+        .configure_mesh()
+        .x_desc("n")
+        .y_desc("ln k0 (energies in Z^2 Ry)")
+        .draw()
+        .map_err(plot_err)?;
+    let show_legend = curves.len() <= 12;
+    for (i, (l, pts)) in curves.iter().enumerate() {
+        let color = Palette99::pick(first_color + i).to_rgba();
+        let s = chart
+            .draw_series(LineSeries::new(pts.iter().copied(), color.stroke_width(2)))
+            .map_err(plot_err)?;
+        if show_legend {
+            s.label(format!("l = {l}")).legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
+            });
+        }
+        chart
+            .draw_series(pts.iter().map(|&p| Circle::new(p, 3, color.filled())))
+            .map_err(plot_err)?;
+    }
+    if show_legend {
+        chart
+            .configure_series_labels()
+            .position(legend)
+            .background_style(WHITE.mix(0.85))
+            .border_style(BLACK)
+            .draw()
+            .map_err(plot_err)?;
+    }
+    Ok(())
+}
+
 /// Plots ln k0 against n, one curve per l, and writes the SVG to `path`
-/// (atomically).
+/// (atomically). S states (about 2.7 to 3) and l >= 1 (small, negative) are
+/// drawn in two panels with their own scales when both are present.
 ///
 /// # Errors
 /// Drawing or I/O failures (exit 1).
 pub fn table_plot(rows: &[Row], path: &Path) -> Result<(), AppError> {
-    let mut curves: BTreeMap<u32, Vec<(f64, f64)>> = BTreeMap::new();
+    let mut s_curve: Curves = BTreeMap::new();
+    let mut rest: Curves = BTreeMap::new();
     for r in rows {
         if let Ok(v) = r.ln_k0.parse::<f64>() {
-            curves.entry(r.l).or_default().push((f64::from(r.n), v));
+            let target = if r.l == 0 { &mut s_curve } else { &mut rest };
+            target.entry(r.l).or_default().push((f64::from(r.n), v));
         }
     }
     let xs = rows.iter().map(|r| f64::from(r.n));
     let (xmin, xmax) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
         (a.min(x), b.max(x))
     });
-    let ys = curves.values().flatten().map(|p| p.1);
-    let (ymin, ymax) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| {
-        (a.min(y), b.max(y))
-    });
-    let (x0, x1) = range_with_margin(xmin, xmax);
-    let (y0, y1) = range_with_margin(ymin, ymax);
+    let xr = range_with_margin(xmin, xmax);
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (900, 600)).into_drawing_area();
+        let both = !s_curve.is_empty() && !rest.is_empty();
+        let height = if both { 900 } else { 600 };
+        let root = SVGBackend::with_string(&mut svg, (900, height)).into_drawing_area();
         root.fill(&WHITE).map_err(plot_err)?;
-        let mut chart = ChartBuilder::on(&root)
-            .caption("Bethe logarithm ln k0(n, l)", ("sans-serif", 22))
-            .margin(15)
-            .x_label_area_size(45)
-            .y_label_area_size(70)
-            .build_cartesian_2d(x0..x1, y0..y1)
-            .map_err(plot_err)?;
-        chart
-            .configure_mesh()
-            .x_desc("n")
-            .y_desc("ln k0 (energies in Z^2 Ry)")
-            .draw()
-            .map_err(plot_err)?;
-        let show_legend = curves.len() <= 12;
-        for (i, (l, pts)) in curves.iter().enumerate() {
-            let color = Palette99::pick(i).to_rgba();
-            let s = chart
-                .draw_series(LineSeries::new(pts.iter().copied(), color.stroke_width(2)))
-                .map_err(plot_err)?;
-            if show_legend {
-                s.label(format!("l = {l}")).legend(move |(x, y)| {
-                    PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
-                });
-            }
-            chart
-                .draw_series(pts.iter().map(|&p| Circle::new(p, 3, color.filled())))
-                .map_err(plot_err)?;
-        }
-        if show_legend {
-            chart
-                .configure_series_labels()
-                .position(SeriesLabelPosition::LowerRight)
-                .background_style(WHITE.mix(0.85))
-                .border_style(BLACK)
-                .draw()
-                .map_err(plot_err)?;
+        if both {
+            let (top, bottom) = root.split_vertically(400);
+            draw_curves(
+                &top,
+                "Bethe logarithm ln k0(n, 0)",
+                &s_curve,
+                xr,
+                0,
+                SeriesLabelPosition::UpperRight,
+            )?;
+            draw_curves(
+                &bottom,
+                "Bethe logarithm ln k0(n, l), l >= 1",
+                &rest,
+                xr,
+                1,
+                SeriesLabelPosition::LowerLeft,
+            )?;
+        } else if !s_curve.is_empty() {
+            draw_curves(
+                &root,
+                "Bethe logarithm ln k0(n, 0)",
+                &s_curve,
+                xr,
+                0,
+                SeriesLabelPosition::UpperRight,
+            )?;
+        } else {
+            draw_curves(
+                &root,
+                "Bethe logarithm ln k0(n, l)",
+                &rest,
+                xr,
+                1,
+                SeriesLabelPosition::LowerLeft,
+            )?;
         }
         root.present().map_err(plot_err)?;
     }
