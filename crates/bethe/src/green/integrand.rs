@@ -9,9 +9,18 @@
 //! S_up = Dsum_up ln(w0) - int_0^n I(nu) dnu,   I = (f_up - 2 Dsum_up nu^2) / nu^3
 //! ```
 //!
-//! is the upper-spectrum part of S = sum_m |p_nm|^2 D_m ln|D_m|. Near nu = 0,
-//! I = I_an + I_log ln(nu) with I_an and I_log analytic, which the first
-//! panel integrates with a logarithmic product rule.
+//! is the upper-spectrum part of S = sum_m |p_nm|^2 D_m ln|D_m|. Writing
+//! A = c D and using w + D = (n'^2 - nu^2)/(2 nu^2 n'^2),
+//!
+//! ```text
+//! I = [f - 2 Dsum nu^2]/nu^3 - sum_lower A [1/(n' - nu) - 1/(n' + nu)]
+//! ```
+//!
+//! The sampled integrand I' drops the image terms A/(n' + nu) (integrated in
+//! closed form, A ln((n + n')/n')), so that it has no poles near nu = 0 on
+//! the negative axis. Near nu = 0, I' = I_an + I_log ln(nu) with I_an and
+//! I_log analytic, which the first panel integrates with a logarithmic
+//! product rule.
 
 use super::channel::ChannelFloat;
 use super::meixner::{channel_j, NuPoint};
@@ -28,15 +37,11 @@ pub struct PoleFloat {
 }
 
 impl PoleFloat {
-    /// The term c D / (D + w) as k nu^2 / (n'^2 - nu^2) with k = 2 c D n'^2:
-    /// returns (k, n'^2).
+    /// (A, n') with A = c D: the lower state contributes the simple pole
+    /// A / (n' - nu) to the integrand.
     fn split(&self) -> (Float, Float) {
         let prec = self.cd.prec();
-        let n2 = u64::from(self.nprime) * u64::from(self.nprime);
-        (
-            Float::with_val(prec, &self.cd * (2 * n2)),
-            Float::with_val(prec, n2),
-        )
+        (self.cd.clone(), Float::with_val(prec, self.nprime))
     }
 }
 
@@ -49,10 +54,10 @@ pub struct Problem {
     pub channels: Vec<ChannelFloat>,
     /// Lower-state terms of all channels.
     pub poles: Vec<PoleFloat>,
-    /// The same as (2 c D n'^2, n'^2) pairs.
+    /// The same as (c D, n') pairs.
     pub pole_split: Vec<(Float, Float)>,
-    /// 2 * Dsum_up (exact value rounded).
-    pub two_dsum_up: Float,
+    /// 2 * Dsum (2 * 2/n^3 for S states, else 0).
+    pub two_dsum: Float,
 }
 
 /// Integrand value at one node.
@@ -70,7 +75,7 @@ impl Problem {
         n: u32,
         channels: Vec<ChannelFloat>,
         poles: Vec<PoleFloat>,
-        two_dsum_up: Float,
+        two_dsum: Float,
     ) -> Self {
         let pole_split = poles.iter().map(PoleFloat::split).collect();
         Problem {
@@ -78,7 +83,7 @@ impl Problem {
             channels,
             poles,
             pole_split,
-            two_dsum_up,
+            two_dsum,
         }
     }
 
@@ -110,33 +115,33 @@ impl Problem {
         meter.term(&p2);
         meter.term(&wj);
         let mut f = Float::with_val(prec, &p2 - &wj);
-        // sum_lower c D/(D + w) = nu^2 sum_lower k / (n'^2 - nu^2), in place
-        let mut acc = Float::with_val(prec, 0);
-        let mut t = Float::new(prec);
-        let mut biggest = Float::with_val(prec, 0);
-        for (k, n2) in &self.pole_split {
-            t.assign(n2);
-            t -= &nu2;
-            t.recip_mut();
-            t *= k;
-            if t.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
-                biggest.assign(&t);
-            }
-            acc += &t;
-        }
-        acc *= &nu2;
-        biggest *= &nu2;
-        meter.term(&biggest);
-        f -= &acc;
-        let sub = Float::with_val(prec, &self.two_dsum_up * &nu2);
+        let sub = Float::with_val(prec, &self.two_dsum * &nu2);
         meter.term(&sub);
         f -= sub;
         meter.result(&f);
         let nu3 = Float::with_val(prec, &nu2 * nu);
         // f = f_reg + (w * jlog) ln mu
         let lc = Float::with_val(prec, &w * &jlog) / &nu3;
+        let mut value = f / &nu3;
+        // minus sum_lower A / (n' - nu), A = c D: the poles of the lower states
+        let mut acc = Float::with_val(prec, 0);
+        let mut t = Float::new(prec);
+        let mut biggest = Float::with_val(prec, 0);
+        for (a, np) in &self.pole_split {
+            t.assign(np - nu);
+            t.recip_mut();
+            t *= a;
+            if t.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
+                biggest.assign(&t);
+            }
+            acc += &t;
+        }
+        meter.term(&value);
+        meter.term(&biggest);
+        value -= &acc;
+        meter.result(&value);
         Sample {
-            value: f / &nu3,
+            value,
             log_coef: lc,
         }
     }

@@ -98,7 +98,7 @@ impl StateData {
                 .map(|c| ChannelFloat::new(c, prec))
                 .collect(),
             poles,
-            Float::with_val(prec, Rational::from(&self.dsum_up * 2u32)),
+            Float::with_val(prec, Rational::from(&self.dsum * 2u32)),
         )
     }
 
@@ -112,6 +112,15 @@ impl StateData {
                 s += cd * ln_abs_d;
             }
         }
+        // image terms of the lower-state poles: - sum A ln((n + n')/n')
+        for ch in &self.chans {
+            for p in &ch.poles {
+                let cd = Float::with_val(prec, Rational::from(&p.c * &p.d));
+                let ratio =
+                    Float::with_val(prec, Rational::from((self.n + p.nprime, p.nprime))).ln();
+                s -= cd * ratio;
+            }
+        }
         let nn = u64::from(self.n) * u64::from(self.n);
         let ln_w0 = Float::with_val(prec, Rational::from((1u64, 2 * nn))).ln();
         s += Float::with_val(prec, &self.dsum_up) * ln_w0;
@@ -121,15 +130,20 @@ impl StateData {
     }
 }
 
-/// Panel boundaries on [nu1, n]: each panel [b, e] satisfies e <= 2b (the
-/// branch point nu = 0 is at least one width away) and n + 1 - e >= e - b (so
-/// is the pole at nu = n + 1).
-fn panels(n: u32) -> (f64, Vec<(f64, f64)>) {
+/// The first panel [0, nu1] and the panels on [nu1, n]: each panel [b, e]
+/// satisfies e <= 2b (the branch point nu = 0 is at least one width away) and
+/// n + 1 - e >= e - b (so is the pole at nu = n + 1).
+fn panels(n: u32, first_pole: Option<u32>) -> (f64, Vec<(f64, f64)>) {
     let nf = f64::from(n);
-    // The first panel stays well inside the distance to the nearest image
-    // pole of the subtracted lower-state terms (at nu = -n', n' >= 1); the
-    // odd factor keeps nodes off the integers (exact poles of single terms).
-    let nu1 = (0.3 * nf).min(0.5) * 1.013_7;
+    // The first panel (logarithmic product rule) is kept short: its
+    // integrand pieces I_an, I_log have singularities at distances of order
+    // one (lower-state structure, large L), and it stops short of the first
+    // lower-state pole; the odd factor keeps nodes and boundaries off the
+    // integers (poles of single terms).
+    let mut nu1 = (0.3 * nf).min(0.5) * 1.013_7;
+    if let Some(p) = first_pole {
+        nu1 = nu1.min((f64::from(p) - 0.5) * 0.987_3);
+    }
     let mut out = Vec::new();
     let mut b = nu1;
     while b < nf {
@@ -147,17 +161,24 @@ fn panels(n: u32) -> (f64, Vec<(f64, f64)>) {
 /// (first panel, other panels).
 fn node_counts(bits: u32, level: u32) -> (usize, usize) {
     let f = 1.5f64.powi(level as i32);
-    let n0 = ((f64::from(bits) / 6.0 + 6.0) * f).ceil() as usize;
-    let n1 = ((f64::from(bits) / 4.5 + 6.0) * f).ceil() as usize;
+    let n0 = ((f64::from(bits) / 5.0 + 6.0) * f).ceil() as usize;
+    let n1 = ((f64::from(bits) / 5.0 + 6.0) * f).ceil() as usize;
     // even counts: no node at a panel midpoint
     (n0 + n0 % 2, n1 + n1 % 2)
 }
 
 /// One evaluation of ln k0 at fixed nodes and bits. Returns (value, loss bits, nodes).
 fn evaluate(sd: &StateData, bits: u32, level: u32, prec: u32) -> (Float, i32, usize) {
+    // precisions are quantized so that cached quadrature rules are shared
+    let prec = quantize(prec);
     let prob = sd.problem(prec);
     let (n0, n1) = node_counts(bits, level);
-    let (nu1, pans) = panels(sd.n);
+    let first_pole = sd
+        .chans
+        .iter()
+        .flat_map(|c| c.poles.iter().map(|p| p.nprime))
+        .min();
+    let (nu1, pans) = panels(sd.n, first_pole);
     let r0 = quad::rule(n0, prec);
     let r1 = quad::rule(n1, prec);
     let nu1f = Float::with_val(prec, nu1);
@@ -187,7 +208,8 @@ fn evaluate(sd: &StateData, bits: u32, level: u32, prec: u32) -> (Float, i32, us
     let mut nodes = first.len();
     for &(b, e) in &pans {
         let bf = Float::with_val(prec, b);
-        let h = Float::with_val(prec, e - b);
+        // width in MPFR: the f64 difference would leave gaps between panels
+        let h = Float::with_val(prec, Float::with_val(prec, e) - &bf);
         let part: Vec<(Float, i32)> =
             r1.x.par_iter()
                 .zip(r1.w.par_iter())
@@ -209,11 +231,16 @@ fn evaluate(sd: &StateData, bits: u32, level: u32, prec: u32) -> (Float, i32, us
     (s * n3 / 2u32, loss, nodes)
 }
 
+/// Rounds a precision up to a multiple of 32 bits.
+fn quantize(prec: u32) -> u32 {
+    prec.div_ceil(32) * 32
+}
+
 /// Measures the bits the integrand loses to cancellation: evaluates it at a
 /// spread of nodes at two precisions and compares. Returns a guard (bits to
 /// add to the goal bits) covering the worst loss seen plus a margin.
 fn pilot_guard(sd: &StateData, bits: u32) -> u32 {
-    let p_lo = bits + 64;
+    let p_lo = quantize(bits + 64);
     let p_hi = p_lo + 160;
     let lo = sd.problem(p_lo);
     let hi = sd.problem(p_hi);
@@ -289,7 +316,7 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
             }
             break (v, loss, nodes);
         };
-        let prec_b = bits + guard + 32;
+        let prec_b = quantize(bits + guard + 32);
         let (vb, loss_b, nodes_b) = evaluate(&sd, bits, level + 1, prec_b);
         if !va.is_finite() || !vb.is_finite() {
             guard += 64;
