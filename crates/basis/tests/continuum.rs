@@ -84,6 +84,35 @@ fn continuation_matches_exact_bound_bound() {
     }
 }
 
+/// The integer-n' closed form (below and above n) against the exact
+/// integrals, including n' < n where 1 - z < 0.
+#[test]
+fn bound_bound_closed_form_matches_exact() {
+    for &(n, l) in &[(4i64, 1i64), (12, 0), (40, 6)] {
+        let s = BoundState::hydrogen(n, l).unwrap();
+        for ch in Channel::open(l as u32) {
+            let big_l = ch.big_l(l as u32) as i64;
+            for form in FORMS {
+                let k = BoundFreeKernel::new(&s, ch, form).unwrap();
+                for np in [big_l + 1, n - 1, n + 1, n + 7] {
+                    if np <= big_l || np == n {
+                        continue;
+                    }
+                    let m = BoundState::hydrogen(np, big_l).unwrap();
+                    let sc = Float::with_val(P, np * np * np).sqrt();
+                    let want = exact(&m, &s, ch, form) * sc;
+                    let got = k.bound_bound(np as u32, P).unwrap().value;
+                    assert!(
+                        rel(&want, &got) < 1e-70,
+                        "({n},{l}) L={big_l} {form:?} n'={np}: {want} vs {got}"
+                    );
+                }
+                assert!(k.bound_bound(n as u32, P).is_err());
+            }
+        }
+    }
+}
+
 /// p = i[H, r] and grad V = i[H, p]: in the continuum, velocity = -D length
 /// and acceleration = -D velocity (D = E - E_n), to the working precision,
 /// from near threshold to very high energy.
