@@ -460,7 +460,7 @@ fn open_journal_for_resume(jpath: &Path, from: &Path, loaded: &Table) -> Result<
 
 /// What happened in a run, apart from the rows.
 struct Outcome {
-    failures: Vec<String>,
+    failures: Vec<((u32, u32), AppError)>,
     disagreements: Vec<String>,
 }
 
@@ -552,7 +552,7 @@ fn compute_all(
                     }
                     table.rows.push(row);
                 }
-                Err(e) => outcome.failures.push(format!("(n={n}, l={l}): {e}")),
+                Err(e) => outcome.failures.push(((n, l), e)),
             }
             let secs = start.elapsed().as_secs_f64().max(1e-9);
             bar.set_position((done_cost / total_cost * 1e6) as u64);
@@ -587,7 +587,9 @@ fn finish(outcome: Outcome, out: Option<&Path>, format: Format) -> Result<(), Ap
     for d in &outcome.disagreements {
         eprintln!("kzero: methods disagree at {d}");
     }
-    if let Some(first) = outcome.failures.first() {
+    let mut failures = outcome.failures;
+    failures.sort_by_key(|(k, _)| *k);
+    if let Some(((n, l), first)) = failures.first() {
         let hint = match (out, format) {
             (Some(o), Format::Json) => format!(
                 "; rows so far kept in {}, rerun with --resume",
@@ -598,12 +600,24 @@ fn finish(outcome: Outcome, out: Option<&Path>, format: Format) -> Result<(), Ap
             }
             (None, _) => String::new(),
         };
-        let more = if outcome.failures.len() > 1 {
-            format!(" (and {} more failed states)", outcome.failures.len() - 1)
+        let more = if failures.len() > 1 {
+            format!(" (and {} more failed states)", failures.len() - 1)
         } else {
             String::new()
         };
-        return Err(AppError::Other(format!("state {first}{more}{hint}")));
+        let msg = format!("state (n={n}, l={l}): {first}{more}{hint}");
+        // Bad input (exit 2) only when every failure is bad input, for
+        // example a gauge not available for these states.
+        return Err(
+            if failures
+                .iter()
+                .all(|(_, e)| matches!(e, AppError::BadInput(_)))
+            {
+                AppError::BadInput(msg)
+            } else {
+                AppError::Other(msg)
+            },
+        );
     }
     if !outcome.disagreements.is_empty() {
         return Err(AppError::CheckFailed(format!(

@@ -238,11 +238,41 @@ fn wait_for_rows(path: &Path, rows: usize, child: &mut std::process::Child) -> b
     false
 }
 
+/// Starts a table run, interrupts it with `signal` once a few rows are in,
+/// and returns the text left on disk plus its finished rows. If the machine
+/// finishes first, cuts the file back to a crash state by hand.
+fn interrupted_run(args: &[&str], part: &str, signal: &str, total: usize) -> (String, Vec<String>) {
+    let mut child = Command::new(BIN)
+        .args([args, &["--out", part]].concat())
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let got_rows = wait_for_rows(Path::new(part), 3, &mut child);
+    let _ = Command::new("kill")
+        .args([signal, &child.id().to_string()])
+        .status();
+    let status = child.wait().unwrap();
+    let mut text = fs::read_to_string(part).unwrap();
+    let mut finished = data_lines(&text);
+    if !got_rows || finished.len() >= total {
+        eprintln!("note: the run ended before {signal}; crash state made by hand");
+        let header_end = text.find("\nn,l,").unwrap() + 1;
+        let header_end = header_end + text[header_end..].find('\n').unwrap() + 1;
+        let keep: Vec<String> = finished.iter().take(5).cloned().collect();
+        text = format!("{}{}\n", &text[..header_end], keep.join("\n"));
+        finished = keep;
+    } else {
+        assert!(!status.success(), "the run was not interrupted by {signal}");
+    }
+    assert!(finished.len() < total, "the run was not interrupted");
+    (text, finished)
+}
+
 #[test]
 fn resume_after_kill_equals_an_uninterrupted_run() {
     let dir = tempfile::tempdir().unwrap();
     let full = p(dir.path(), "full.csv");
-    let part = p(dir.path(), "part.csv");
     let args = [
         "table",
         "--n-max",
@@ -259,45 +289,35 @@ fn resume_after_kill_equals_an_uninterrupted_run() {
     let total = data_lines(&full_text).len();
     assert_eq!(total, 28);
 
-    let mut child = Command::new(BIN)
-        .args([&args[..], &["--out", &part]].concat())
-        .stdout(Stdio::null())
-        .stderr(Stdio::null())
-        .spawn()
-        .unwrap();
-    let got_rows = wait_for_rows(Path::new(&part), 3, &mut child);
-    let _ = child.kill(); // SIGKILL on Unix
-    let _ = child.wait();
-    let mut text = fs::read_to_string(&part).unwrap();
-    let mut finished = data_lines(&text);
-    if !got_rows || finished.len() >= total {
-        // The machine was fast enough to finish first: cut the file back to a
-        // crash state by hand (header and the first rows).
-        let header_end = text.find("\nn,l,").unwrap() + 1;
-        let header_end = header_end + text[header_end..].find('\n').unwrap() + 1;
-        let keep: Vec<String> = finished.iter().take(5).cloned().collect();
-        text = format!("{}{}\n", &text[..header_end], keep.join("\n"));
-        finished = keep;
-    }
-    assert!(finished.len() < total, "the run was not interrupted");
-    // A write torn by the kill: a partial last line.
-    text.push_str("7,3,-0.0012");
-    fs::write(&part, &text).unwrap();
+    // kill -9, then Ctrl-C (SIGINT), each followed by --resume.
+    for (signal, torn) in [("-KILL", true), ("-INT", false)] {
+        let part = p(dir.path(), &format!("part{signal}.csv"));
+        let (mut text, finished) = interrupted_run(&args, &part, signal, total);
+        if torn {
+            // A write torn by the kill: a partial last line.
+            text.push_str("7,3,-0.0012");
+        }
+        fs::write(&part, &text).unwrap();
 
-    let o = kzero(&[&args[..], &["--out", &part, "--resume"]].concat());
-    assert_eq!(code(&o), 0, "{}", stderr(&o));
-    let resumed = fs::read_to_string(&part).unwrap();
-    assert_eq!(value_columns(&resumed), value_columns(&full_text));
-    // Finished rows were not recomputed: kept byte for byte, time included.
-    let rows = data_lines(&resumed);
-    for f in &finished {
-        assert!(rows.contains(f), "row {f} was recomputed or lost");
+        let o = kzero(&[&args[..], &["--out", &part, "--resume"]].concat());
+        assert_eq!(code(&o), 0, "{}", stderr(&o));
+        let resumed = fs::read_to_string(&part).unwrap();
+        assert_eq!(
+            value_columns(&resumed),
+            value_columns(&full_text),
+            "after {signal}"
+        );
+        // Finished rows were not recomputed: kept byte for byte, time included.
+        let rows = data_lines(&resumed);
+        for f in &finished {
+            assert!(rows.contains(f), "row {f} was recomputed or lost");
+        }
+        assert!(resumed.contains("# resumed_utc: "));
+        // Resuming a complete table computes nothing and changes no value.
+        let o = kzero(&[&args[..], &["--out", &part, "--resume"]].concat());
+        assert_eq!(code(&o), 0, "{}", stderr(&o));
+        assert_eq!(data_lines(&fs::read_to_string(&part).unwrap()), rows);
     }
-    assert!(resumed.contains("# resumed_utc: "));
-    // Resuming a complete table computes nothing and changes no value.
-    let o = kzero(&[&args[..], &["--out", &part, "--resume"]].concat());
-    assert_eq!(code(&o), 0, "{}", stderr(&o));
-    assert_eq!(data_lines(&fs::read_to_string(&part).unwrap()), rows);
 }
 
 #[test]
