@@ -627,3 +627,54 @@ fn finish(outcome: Outcome, out: Option<&Path>, format: Format) -> Result<(), Ap
     }
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn settings(n_max: u32) -> TableSettings {
+        TableSettings {
+            n_min: 1,
+            n_max,
+            l: LSelect::All,
+            digits: 20,
+            method: MethodChoice::Green,
+            gauge: GaugeChoice::Velocity,
+        }
+    }
+
+    #[test]
+    fn shards_are_disjoint_cover_everything_and_are_balanced() {
+        let s = settings(40);
+        let states = s.states();
+        for m in [1u32, 2, 3, 7] {
+            let mut seen = std::collections::BTreeSet::new();
+            let mut loads = Vec::new();
+            let mut max_cost: f64 = 0.0;
+            for k in 1..=m {
+                let part = plan(&states, &s, Shard { k, m });
+                // expensive first
+                assert!(part.windows(2).all(|w| w[0].1 >= w[1].1));
+                for (key, c) in &part {
+                    assert!(seen.insert(*key), "state {key:?} in two shards");
+                    max_cost = max_cost.max(*c);
+                }
+                loads.push(part.iter().map(|(_, c)| c).sum::<f64>());
+            }
+            assert_eq!(seen.len(), states.len());
+            let hi = loads.iter().cloned().fold(0.0, f64::max);
+            let lo = loads.iter().cloned().fold(f64::INFINITY, f64::min);
+            // Greedy LPT: parts differ by at most the largest single cost.
+            assert!(hi - lo <= max_cost * (1.0 + 1e-12), "m={m}: {loads:?}");
+        }
+    }
+
+    #[test]
+    fn plan_is_deterministic() {
+        let s = settings(25);
+        let states = s.states();
+        let a = plan(&states, &s, Shard { k: 2, m: 5 });
+        let b = plan(&states, &s, Shard { k: 2, m: 5 });
+        assert_eq!(a, b);
+    }
+}
