@@ -610,16 +610,16 @@ pub fn ln_k0(n: i64, l: i64, gauge: Gauge, settings: &Settings) -> Result<BetheV
     })
 }
 
-/// Relative cost of [`ln_k0`] for (n, l) at `digits` (arbitrary units,
-/// comparable with itself only; for load balancing).
+/// Relative cost of [`ln_k0`] for (n, l) at `digits` (for load balancing;
+/// comparable with itself only). Fitted to measured run times: roughly
+/// seconds on one core of the reference machine of benches/README.md, within
+/// a factor of about 2 for n <= 200 and digits <= 200.
 pub fn cost_estimate(n: u32, l: u32, digits: u32) -> f64 {
-    let n = f64::from(n.max(1));
     let channels = if l == 0 { 1.0 } else { 2.0 };
-    let bits = f64::from(digits) * 3.33 + 64.0 + 3.0 * n;
-    let mult = (bits / 64.0).powf(1.6);
-    let nodes = 3.0 * 60.0 * (f64::from(digits) / 20.0).sqrt().max(0.5);
-    let bound_free = channels * (n + 2.0).powi(2) * mult * (nodes + 3.0 * 40.0);
-    let n1 = (n + 10.0).max(1.3 * n);
-    let exact = channels * n1 * n1 * n * (n1 / 64.0).max(1.0);
-    bound_free + exact
+    let d = f64::from(digits.max(1)).powf(1.4);
+    // the bound-side polynomial has n - l terms: the closed forms cost ~ its square
+    let m = f64::from(n.saturating_sub(l)) + 20.0;
+    // plus the bound and tail terms, about 1.3 n of them
+    let terms = 3.3 * f64::from(n.max(1));
+    1.16e-5 * channels * d * (m.powf(1.7) + terms)
 }
