@@ -68,7 +68,10 @@ pub const MIN_PREC: u32 = 53;
 /// Checks a working precision against [`MIN_PREC`].
 pub fn check_prec(bits: u32) -> Result<(), BasisError> {
     if bits < MIN_PREC {
-        Err(BasisError::PrecisionTooLow { bits, min: MIN_PREC })
+        Err(BasisError::PrecisionTooLow {
+            bits,
+            min: MIN_PREC,
+        })
     } else {
         Ok(())
     }

@@ -79,7 +79,7 @@ impl PolyExp {
         }
         let ints: Vec<Integer> = coeffs
             .iter()
-            .map(|c| Integer::from(c.numer() * Integer::from(&lcm / c.denom())))
+            .map(|c| c.numer() * Integer::from(&lcm / c.denom()))
             .collect();
         let mut f = PolyExp {
             kappa,

@@ -16,10 +16,10 @@ pub fn radial_function(state: &BoundState) -> PolyExp {
     let n = state.n();
     let l = state.l();
     let nr = n - l - 1;
-    let two_kappa = Rational::from(state.kappa() * 2u32);
+    let two_kappa = state.kappa() * 2u32;
     // N^2 = (2Z/n)^3 (n-l-1)! / (2n (n+l)!)
-    let norm2 = Rational::from(two_kappa.clone().pow(3u32))
-        * Rational::from((factorial(nr), factorial(n + l) * 2u32 * n));
+    let norm2 =
+        two_kappa.clone().pow(3u32) * Rational::from((factorial(nr), factorial(n + l) * 2u32 * n));
     // Laguerre L_nr^{(2l+1)}(x) = sum_i (-1)^i C(n+l, nr-i) x^i / i!, x = 2 kappa r
     let mut coeffs = vec![Rational::new(); (n) as usize];
     for i in 0..=nr {
@@ -27,7 +27,7 @@ pub fn radial_function(state: &BoundState) -> PolyExp {
         if i % 2 == 1 {
             c = -c;
         }
-        c *= Rational::from(two_kappa.clone().pow(l + i));
+        c *= two_kappa.clone().pow(l + i);
         coeffs[(l + i) as usize] = c;
     }
     PolyExp::from_rational(state.kappa(), norm2, &coeffs)

@@ -34,9 +34,7 @@ impl MatchedExpansion {
     /// gamma_i at `prec` bits.
     pub fn gamma(&self, i: usize, prec: u32) -> Float {
         let alpha = 2 * self.big_l + 1;
-        let r = Rational::from(
-            &self.radicand * Rational::from((factorial(i as u32), factorial(i as u32 + alpha))),
-        );
+        let r = Rational::from((factorial(i as u32), factorial(i as u32 + alpha))) * &self.radicand;
         Float::with_val(prec, &r).sqrt() * &self.coef[i]
     }
 }
@@ -77,8 +75,7 @@ pub fn matched_expansion(f: &PolyExp, big_l: u32) -> Result<MatchedExpansion, Ba
     for q in 0..=qmax {
         let p = q + big_l + 1;
         let cp = &c[(p - 1) as usize];
-        let v = Rational::from(cp / Rational::from(two_kappa.clone().pow(p)))
-            * Rational::from(factorial(alpha + q));
+        let v = cp / two_kappa.clone().pow(p) * Rational::from(factorial(alpha + q));
         d.push(v);
     }
     // coef_i = (-1)^i sum_{q >= i} D'_q C(q, i)

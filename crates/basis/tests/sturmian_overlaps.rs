@@ -74,7 +74,7 @@ fn matched_scale_agrees_with_exact_expansion() {
 ///           sum_i (-1)^i C(k+a, k-i)/i! (s+i)!/beta^(s+i+1),  s = L+1+p.
 fn gamma_exact(f: &PolyExp, big_l: u32, k: u32, nu: &Rational, prec: u32) -> Float {
     let a = 2 * big_l + 1;
-    let beta = Rational::from((Rational::from(nu * &f.kappa) + 1u32) / 2u32);
+    let beta = (Rational::from(nu * &f.kappa) + 1u32) / 2u32;
     let half_nu = Rational::from(nu / 2u32);
     let mut sum = Rational::new();
     for (p, c) in f.coeffs.iter().enumerate() {
@@ -86,14 +86,14 @@ fn gamma_exact(f: &PolyExp, big_l: u32, k: u32, nu: &Rational, prec: u32) -> Flo
         let mut inner = Rational::new();
         for i in 0..=k {
             let mut t = Rational::from((binomial(k + a, k - i) * factorial(s + i), factorial(i)));
-            t /= Rational::from(beta.clone().pow(s + i + 1));
+            t /= beta.clone().pow(s + i + 1);
             if i % 2 == 1 {
                 inner -= t;
             } else {
                 inner += t;
             }
         }
-        sum += inner * Rational::from(half_nu.clone().pow(p + 1)) * c;
+        sum += inner * half_nu.clone().pow(p + 1) * c;
     }
     sum *= &f.scale;
     let nk2 = Rational::from((factorial(k), factorial(k + a)));

@@ -52,13 +52,12 @@ pub fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
         let g = gradient_function(&st, dir)?;
         let exp = matched_expansion(&g, big_l)?;
         let alpha = 2 * big_l + 1;
-        let s2 =
-            Rational::from(&exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha)));
+        let s2 = &exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha));
         let mut poles = Vec::new();
         for np in (big_l + 1)..n {
             let lower = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
             let r = radial_integral(&lower, &st, 1)?;
-            let d = Rational::from(lower.energy() - st.energy());
+            let d = lower.energy() - st.energy();
             // |p|^2 = D^2 |r|^2 (radial), times the angular weight
             let c = Rational::from(&d * &d) * r.square() * dir.weight(l);
             poles.push(Pole { nprime: np, c, d });

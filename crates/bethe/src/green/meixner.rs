@@ -121,7 +121,7 @@ pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
     let prec = p.nu.prec();
     let beta = ch.beta;
     let zp = &p.zp;
-    let a = Float::with_val(prec, (ch.big_l + 1) as u32 - Float::with_val(prec, &p.nu));
+    let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, &p.nu));
     let m = ch.coef.len();
     if m == 0 {
         return JValue {
@@ -246,7 +246,7 @@ pub fn channel_j_direct(ch: &ChannelFloat, p: &NuPoint, kmax: usize) -> Float {
     let beta = ch.beta;
     let zp = &p.zp;
     let m = ch.coef.len();
-    let a = Float::with_val(prec, (ch.big_l + 1) as u32 - Float::with_val(prec, &p.nu));
+    let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, &p.nu));
     let mtau = Float::with_val(prec, -&p.tau);
     // B''_j = sum_i coef_i C(i,j) (-tau)^(i-j); v_j = j! (1-z)^j B''_j / (beta)_j
     let mut v = Vec::with_capacity(m);

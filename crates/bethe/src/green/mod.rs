@@ -50,7 +50,6 @@ use std::time::Instant;
 /// Exact, precision-independent data of one state.
 struct StateData {
     n: u32,
-    l: u32,
     chans: Vec<ChannelData>,
     /// Dsum = 2/n^3 for l = 0, else 0.
     dsum: Rational,
@@ -74,7 +73,6 @@ impl StateData {
         }
         Ok(StateData {
             n,
-            l,
             chans,
             dsum,
             dsum_up,
@@ -108,7 +106,7 @@ impl StateData {
         for ch in &self.chans {
             for p in &ch.poles {
                 let cd = Float::with_val(prec, Rational::from(&p.c * &p.d));
-                let ln_abs_d = Float::with_val(prec, Rational::from(-p.d.clone())).ln();
+                let ln_abs_d = Float::with_val(prec, -p.d.clone()).ln();
                 s += cd * ln_abs_d;
             }
         }
