@@ -43,6 +43,26 @@ fn published_values() {
     }
 }
 
+/// Further n = 3 and 4 entries of the same table, recalled from memory (so
+/// compared with a looser 2e-15).
+#[test]
+fn more_table_values_from_memory() {
+    let table = [
+        (3, 0, "2.767663612491822"),  // from memory (CODATA 2018 table)
+        (3, 1, "-0.038190229385312"), // from memory (CODATA 2018 table)
+        (3, 2, "-0.005232148140883"), // from memory (CODATA 2018 table)
+        (4, 1, "-0.041954894598086"), // from memory (CODATA 2018 table)
+        (4, 2, "-0.006740938876975"), // from memory (CODATA 2018 table)
+        (4, 3, "-0.001733661482126"), // from memory (CODATA 2018 table)
+    ];
+    let settings = Settings::with_digits(18);
+    for (n, l, want) in table {
+        let v = ln_k0(n, l, Gauge::Length, &settings).unwrap();
+        let d = diff(&v.value, &f(want));
+        assert!(d < 2e-15, "({n},{l}): {} vs {want}", v.value_string());
+    }
+}
+
 /// The three forms agree within their error estimates.
 #[test]
 fn gauges_agree() {
