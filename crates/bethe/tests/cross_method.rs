@@ -39,8 +39,14 @@ fn run(states: Vec<(i64, i64)>) {
 
 #[test]
 fn all_states_up_to_n12() {
-    let max = if std::env::var("KZERO_HEAVY").is_ok() { 30 } else { 12 };
-    run((1..=max).flat_map(|n| (0..n).map(move |l| (n, l))).collect());
+    let max = if std::env::var("KZERO_HEAVY").is_ok() {
+        30
+    } else {
+        12
+    };
+    run((1..=max)
+        .flat_map(|n| (0..n).map(move |l| (n, l)))
+        .collect());
 }
 
 #[test]

@@ -9,7 +9,9 @@ fn value(n: i64, l: i64, digits: u32) -> kzero_bethe::BetheValue {
 }
 
 fn diff(a: &Float, b: &Float) -> f64 {
-    Float::with_val(a.prec().max(b.prec()), a - b).abs().to_f64()
+    Float::with_val(a.prec().max(b.prec()), a - b)
+        .abs()
+        .to_f64()
 }
 
 /// Drake & Swainson, Phys. Rev. A 41, 1243 (1990), as tabulated in the CODATA
@@ -81,7 +83,10 @@ fn physical_shape() {
     let p: Vec<f64> = (1..n).map(|l| value(n, l, 12).value.to_f64()).collect();
     assert!(p.iter().all(|v| *v < 0.0), "{p:?}");
     for w in p.windows(2) {
-        assert!(w[1].abs() < w[0].abs(), "|ln k0(10,l)| not shrinking: {p:?}");
+        assert!(
+            w[1].abs() < w[0].abs(),
+            "|ln k0(10,l)| not shrinking: {p:?}"
+        );
     }
 }
 

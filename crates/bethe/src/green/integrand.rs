@@ -23,7 +23,7 @@
 //! product rule.
 
 use super::channel::ChannelFloat;
-use super::meixner::{channel_j, NuPoint};
+use super::meixner::{channel_j_with, NuPoint};
 use super::meter::Meter;
 use rug::{Assign, Float};
 
@@ -101,9 +101,29 @@ impl Problem {
         ) / (Float::with_val(prec, &nu2 * 2u32) * nn);
         let mut jsum = Float::with_val(prec, 0);
         let mut jlog = Float::with_val(prec, 0);
-        for ch in &self.channels {
+        // channels come as [L = l-1, L = l+1]: evaluate the upper one first;
+        // its Phi(z,1,a+2) gives Phi(z,1,a) = 1/a + z/(a+1) + z^2 Phi(z,1,a+2)
+        let mut phi_up: Option<Float> = None;
+        for ch in self.channels.iter().rev() {
             let mut m = Meter::new();
-            let jv = channel_j(ch, &pt, &mut m);
+            let hint = match (
+                &phi_up,
+                ch.big_l + 2 == self.channels.last().map_or(0, |c| c.big_l),
+            ) {
+                (Some(pu), true) => {
+                    let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, nu));
+                    let a1 = Float::with_val(prec, &a + 1u32);
+                    let mut v = Float::with_val(prec, &pt.zp.z * &pt.zp.z) * pu;
+                    v += Float::with_val(prec, &pt.zp.z / &a1);
+                    v += Float::with_val(prec, a.recip_ref());
+                    Some(v)
+                }
+                _ => None,
+            };
+            let (jv, phi) = channel_j_with(ch, &pt, &mut m, hint.as_ref());
+            if phi_up.is_none() {
+                phi_up = phi;
+            }
             meter.merge(&m);
             meter.term(&jv.j);
             jsum += &jv.j;

@@ -118,16 +118,28 @@ impl Rec {
 /// partly recorded in `meter`; the caller measures the rest by comparing
 /// precisions (see `pilot_guard` in the parent module).
 pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
+    channel_j_with(ch, p, meter, None).0
+}
+
+/// As [`channel_j`], with Phi(z, 1, L+1-nu) supplied by the caller when known;
+/// also returns the Phi used (None on the series route).
+pub fn channel_j_with(
+    ch: &ChannelFloat,
+    p: &NuPoint,
+    meter: &mut Meter,
+    phi_hint: Option<&Float>,
+) -> (JValue, Option<Float>) {
     let prec = p.nu.prec();
     let beta = ch.beta;
     let zp = &p.zp;
     let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, &p.nu));
     let m = ch.coef.len();
     if m == 0 {
-        return JValue {
+        let zero = JValue {
             j: Float::with_val(prec, 0),
             log_coef: Float::with_val(prec, 0),
         };
+        return (zero, None);
     }
     // eta_i = coef_i (-tau)^i
     let mtau = Float::with_val(prec, -&p.tau);
@@ -151,7 +163,7 @@ pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
         mm.push(next);
     }
     // rho_0 = m(a)
-    let st = meixner_stieltjes(beta, &a, zp, meter);
+    let (st, phi_used) = meixner_stieltjes(beta, &a, zp, meter, phi_hint);
     let rho = second_kind(&mut rec, &a, zp, &st.value, m, meter);
     // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i
     let mut s_prev = Float::with_val(prec, 0);
@@ -176,10 +188,11 @@ pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
     // P(-a) = S_{M}; log part of T = P(-a)^2 * log_coef(m)
     let p2 = Float::with_val(prec, &s_prev * &s_prev);
     let scale = Float::with_val(prec, &ch.ws2 * &p.nu);
-    JValue {
+    let jv = JValue {
         j: Float::with_val(prec, &t * &scale),
         log_coef: Float::with_val(prec, p2 * &st.log_coef) * scale,
-    }
+    };
+    (jv, phi_used)
 }
 
 /// rho_i, i = 0..m, from rho_0 = m(a): forward recurrence when it is stable

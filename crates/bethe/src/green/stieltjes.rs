@@ -48,7 +48,16 @@ pub struct ZPoint {
 /// C(k+beta-1, beta-1) by (k+a) leaves a polynomial part summed in closed form
 /// plus C(beta-1-a, beta-1) Phi(z,1,a). Cancellation in either route is
 /// recorded in `meter` (bits lost); the result has about prec - loss bits.
-pub fn meixner_stieltjes(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> WithLog {
+/// `phi_hint`, when given, is Phi(z, 1, a) already computed by the caller
+/// (for instance from the other channel by the recurrence in a); the Phi used
+/// is returned beside m(a) (None on the series route, which needs none).
+pub fn meixner_stieltjes(
+    beta: u32,
+    a: &Float,
+    pt: &ZPoint,
+    meter: &mut Meter,
+    phi_hint: Option<&Float>,
+) -> (WithLog, Option<Float>) {
     let prec = a.prec();
     if pt.z < Z_SERIES {
         // r = C(beta-1-a, beta-1) = prod_{j=1}^{beta-1} (j - a) / j
@@ -59,10 +68,11 @@ pub fn meixner_stieltjes(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -
         }
         let y_beta = Float::with_val(prec, pt.one_minus_z.clone().pow(beta));
         let chi = Float::with_val(prec, Float::with_val(prec, a * &pt.mu).exp());
-        return WithLog {
+        let m = WithLog {
             value: series(beta, a, pt, meter),
             log_coef: r * y_beta * chi,
         };
+        return (m, None);
     }
     // q_{beta-2} = 1/(beta-1); q_{i-1} = q_i (i+1-a)/i; r = q_0 (1-a)
     let b = beta as usize;
@@ -81,17 +91,26 @@ pub fn meixner_stieltjes(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -
         poly *= y;
         meter.term(&poly);
     }
-    let phi = lerch_phi(a, pt, meter);
+    let phi = match phi_hint {
+        Some(v) => WithLog {
+            value: v.clone(),
+            log_coef: Float::with_val(prec, Float::with_val(prec, a * &pt.mu).exp()),
+        },
+        None => lerch_phi(a, pt, meter),
+    };
     let y_beta = Float::with_val(prec, y.clone().pow(beta));
     let ry = Float::with_val(prec, &r * &y_beta);
     let tail = Float::with_val(prec, &ry * &phi.value);
     meter.term(&tail);
     let value = Float::with_val(prec, &poly + &tail);
     meter.result(&value);
-    WithLog {
-        value,
-        log_coef: Float::with_val(prec, &ry * &phi.log_coef),
-    }
+    (
+        WithLog {
+            value,
+            log_coef: Float::with_val(prec, &ry * &phi.log_coef),
+        },
+        Some(phi.value),
+    )
 }
 
 /// Direct summation of the defining series (fast for small z).
@@ -138,7 +157,12 @@ pub fn lerch_phi(a: &Float, pt: &ZPoint, meter: &mut Meter) -> WithLog {
     // choose a' in (0, max(1, 8/mu)] by shifting a by an integer s
     let top = (8.0 / muf).max(1.0);
     let mut value;
-    if af <= 0.0 {
+    // the direct series costs about (prec ln 2 / mu) cheap terms; the
+    // Bernoulli route about nodes(prec, mu) exponentials (~40 terms each)
+    let direct_terms = f64::from(prec + 16) * std::f64::consts::LN_2 / muf + (-af).max(0.0);
+    if direct_terms < 40.0 * bernoulli_nodes(prec, muf, af.min(top)) as f64 {
+        value = phi_series(a, pt, meter);
+    } else if af <= 0.0 {
         // shift up: Phi(a) = sum_{k<s} z^k/(k+a) + z^s Phi(a+s), a+s in (0,1]
         let s = (-af).floor() as u32 + 1;
         let ap = Float::with_val(prec, a + s);
@@ -204,15 +228,31 @@ fn phi_series(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     sum
 }
 
+/// Gauss nodes for the integral of the Bernoulli route at `prec` bits,
+/// rounded up to a short ladder of sizes so that cached rules are reused.
+fn bernoulli_nodes(prec: u32, muf: f64, af: f64) -> usize {
+    let bits_per_node = 2.0 * (4.0 * std::f64::consts::PI / muf + 1.0).log2();
+    let nb = ((f64::from(prec) + 24.0) / bits_per_node).ceil() as usize
+        + (af.max(0.0) * muf).ceil() as usize
+        + 4;
+    let mut size = 8usize;
+    loop {
+        if size >= nb {
+            return size;
+        }
+        let mid = size + size / 2;
+        if mid >= nb {
+            return mid;
+        }
+        size *= 2;
+    }
+}
+
 /// e^(a mu) [ -ln mu - gamma - psi(a) + int_{-mu}^0 (G(t)-1)/t dt ] for a > 0.
 fn phi_bernoulli(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let prec = a.prec();
     let mu = &pt.mu;
-    let muf = mu.to_f64();
-    let amu = a.to_f64() * muf;
-    let bits_per_node = 2.0 * (4.0 * std::f64::consts::PI / muf + 1.0).log2();
-    let mut nb = ((prec as f64 + 24.0) / bits_per_node).ceil() as usize + amu.ceil() as usize + 4;
-    nb = nb.div_ceil(4) * 4;
+    let nb = bernoulli_nodes(prec, mu.to_f64(), a.to_f64());
     let rule = quad::rule(nb, prec);
     let mut integral = Float::with_val(prec, 0);
     for (x, w) in rule.x.iter().zip(&rule.w) {
@@ -287,7 +327,7 @@ mod tests {
                     let pt = point(zs, prec);
                     let a = Float::with_val(prec, Float::parse(aval).unwrap());
                     let mut m = Meter::new();
-                    let closed = meixner_stieltjes(beta, &a, &pt, &mut m).value;
+                    let closed = meixner_stieltjes(beta, &a, &pt, &mut m, None).0.value;
                     let mut m2 = Meter::new();
                     let direct = series(beta, &a, &pt, &mut m2);
                     let rel = Float::with_val(prec, (closed - &direct) / &direct)
