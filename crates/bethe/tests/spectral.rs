@@ -165,6 +165,20 @@ fn larger_n() {
     assert!(c.abs_err < 1e-20 && c.value < 0 && c.value > -1e-3);
 }
 
+/// The extremes of the accepted digits range work (5 digits: the working
+/// precision must not fall below MPFR's 53-bit floor).
+#[test]
+fn digits_range_ends() {
+    for d in [5u32, 6] {
+        let v = ln_k0(1, 0, Gauge::Velocity, &Settings::with_digits(d)).unwrap();
+        // Drake & Swainson (1990), via CODATA 2018 (Tiesinga et al. 2021)
+        assert!(diff(&v.value, &f("2.984128555765498")) < 10f64.powi(-(d as i32)));
+        assert!(v.abs_err < 10f64.powi(-(d as i32)));
+    }
+    let v = ln_k0(2, 1, Gauge::Length, &Settings::with_digits(60)).unwrap();
+    assert!(v.abs_err < 1e-60);
+}
+
 #[test]
 fn bad_input_is_a_typed_error() {
     let s = Settings::default();

@@ -515,7 +515,7 @@ fn sum_with_goal(
         )
     };
     let digits_bits = -goal.log2();
-    let mut bits = (digits_bits + 32.0).ceil() as u32;
+    let mut bits = ((digits_bits + 32.0).ceil() as u32).max(64);
     let mut cheb = cheb_order(n, n1 + 1, digits_bits + 8.0);
     let mut min_level = 2u32;
     let mut best = f64::INFINITY;
