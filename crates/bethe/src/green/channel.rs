@@ -3,7 +3,7 @@
 //! the photon-energy path.
 
 use kzero_basis::gradient::{gradient_function, Channel as Dir};
-use kzero_basis::radial::radial_integral;
+use kzero_basis::gordon::radial_dipole;
 use kzero_basis::sturmian::matched_expansion;
 use kzero_basis::BoundState;
 use rug::{Float, Rational};
@@ -56,7 +56,8 @@ pub fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
         let mut poles = Vec::new();
         for np in (big_l + 1)..n {
             let lower = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
-            let r = radial_integral(&lower, &st, 1)?;
+            // exact <n' L| r |n l> by Gordon's closed formula
+            let r = radial_dipole(&lower, &st)?;
             let d = lower.energy() - st.energy();
             // |p|^2 = D^2 |r|^2 (radial), times the angular weight
             let c = Rational::from(&d * &d) * r.square() * dir.weight(l);
