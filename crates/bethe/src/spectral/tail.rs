@@ -91,3 +91,32 @@ pub fn sum(cheb: &[Float], a: u32, prec: u32) -> Float {
 }
 
 use rug::ops::Pow;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// sum_{n >= a} n^-3 / (1 - 1/n^2) = sum 1/((n-1) n (n+1)) telescopes to
+    /// 1/(2 a (a-1)) (common practice): the interpolated, zeta-summed tail must
+    /// reproduce it to the interpolation accuracy.
+    #[test]
+    fn telescoping_tail() {
+        let prec = 256;
+        for a in [2u32, 5, 40] {
+            let k = 60;
+            let a2 = Float::with_val(prec, a * a);
+            let vals: Vec<Float> = nodes(k, prec)
+                .iter()
+                .map(|u| {
+                    let w = Float::with_val(prec, u / &a2);
+                    (Float::with_val(prec, 1) - w).recip()
+                })
+                .collect();
+            let c = coefficients(&vals, prec);
+            let got = sum(&c, a, prec);
+            let want = Float::with_val(prec, 1) / (2 * a * (a - 1));
+            let rel = Float::with_val(prec, &got - &want).abs() / &want;
+            assert!(rel < 1e-30, "a = {a}: {got} vs {want}");
+        }
+    }
+}
