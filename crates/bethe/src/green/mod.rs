@@ -159,8 +159,10 @@ fn panels(n: u32, first_pole: Option<u32>) -> (f64, Vec<(f64, f64)>) {
 /// (first panel, other panels).
 fn node_counts(bits: u32, level: u32) -> (usize, usize) {
     let f = 1.5f64.powi(level as i32);
-    let n0 = ((f64::from(bits) / 5.0 + 6.0) * f).ceil() as usize;
-    let n1 = ((f64::from(bits) / 5.0 + 6.0) * f).ceil() as usize;
+    // about 6 bits per node on the worst panels (convergence factor near
+    // 5.8 per node pair with margin); the A/B comparison catches a shortfall
+    let n0 = ((f64::from(bits) / 6.0 + 6.0) * f).ceil() as usize;
+    let n1 = ((f64::from(bits) / 6.0 + 6.0) * f).ceil() as usize;
     // even counts: no node at a panel midpoint
     (n0 + n0 % 2, n1 + n1 % 2)
 }
@@ -239,13 +241,13 @@ fn quantize(prec: u32) -> u32 {
 /// add to the goal bits) covering the worst loss seen plus a margin.
 fn pilot_guard(sd: &StateData, bits: u32) -> u32 {
     let p_lo = quantize(bits + 64);
-    let p_hi = p_lo + 160;
+    let p_hi = p_lo + 128;
     let lo = sd.problem(p_lo);
     let hi = sd.problem(p_hi);
     let nf = f64::from(sd.n);
     // log-spaced over (0, n): the losses vary smoothly with nu
-    let points: Vec<f64> = (0..24)
-        .map(|i| nf * 10f64.powf(-4.0 + 4.0 * (f64::from(i) + 0.5) / 24.0) * 0.998_7)
+    let points: Vec<f64> = (0..16)
+        .map(|i| nf * 10f64.powf(-4.0 + 4.0 * (f64::from(i) + 0.5) / 16.0) * 0.998_7)
         .collect();
     let losses: Vec<i32> = points
         .par_iter()
