@@ -2,8 +2,8 @@
 //! expansion, its angular weight and the lower bound states that put poles on
 //! the photon-energy path.
 
-use kzero_basis::gradient::{gradient_function, Channel as Dir};
 use kzero_basis::gordon::radial_dipole;
+use kzero_basis::gradient::{gradient_function, Channel as Dir};
 use kzero_basis::sturmian::matched_expansion;
 use kzero_basis::BoundState;
 use rug::{Float, Rational};
