@@ -105,6 +105,22 @@ fn fail(quantity: String, source: String, expected: String, why: String) -> Chec
     }
 }
 
+/// A failed line about the whole file `name` (unreadable, missing column).
+fn file_fail(name: &str, why: String) -> CheckLine {
+    fail(format!("file {name}"), name.into(), "-".into(), why)
+}
+
+/// A failed line for the record at 0-based index `i` of file `name` that
+/// the CSV reader could not read.
+fn record_fail(name: &str, i: usize, e: &csv::Error) -> CheckLine {
+    fail(
+        format!("{name} record {}", i + 1),
+        name.into(),
+        "-".into(),
+        format!("malformed line: {e}"),
+    )
+}
+
 fn compare(
     quantity: String,
     source: String,
@@ -185,12 +201,7 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Ctx) -> Vec<CheckLine> {
     let headers = match rdr.headers() {
         Ok(h) => h.clone(),
         Err(e) => {
-            out.push(fail(
-                format!("file {name}"),
-                name.into(),
-                "-".into(),
-                format!("unreadable CSV: {e}"),
-            ));
+            out.push(file_fail(name, format!("unreadable CSV: {e}")));
             return out;
         }
     };
@@ -198,27 +209,16 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Ctx) -> Vec<CheckLine> {
     if col("quantity").is_none() && col("measured_mhz").is_some() {
         return run_interval_file(name, &mut rdr, &headers, ctx);
     }
-    for req in ["quantity", "n", "l", "expected", "tolerance", "source"] {
-        if col(req).is_none() {
-            out.push(fail(
-                format!("file {name}"),
-                name.into(),
-                "-".into(),
-                format!("missing column '{req}'"),
-            ));
-            return out;
-        }
+    let cols = ["quantity", "n", "l", "expected", "tolerance", "source"];
+    if let Some(missing) = cols.iter().find(|c| col(c).is_none()) {
+        out.push(file_fail(name, format!("missing column '{missing}'")));
+        return out;
     }
     for (i, rec) in rdr.records().enumerate() {
         let rec = match rec {
             Ok(r) => r,
             Err(e) => {
-                out.push(fail(
-                    format!("{name} record {}", i + 1),
-                    name.into(),
-                    "-".into(),
-                    format!("malformed line: {e}"),
-                ));
+                out.push(record_fail(name, i, &e));
                 continue;
             }
         };
@@ -357,24 +357,14 @@ fn run_interval_file(
         "source",
     ];
     if let Some(missing) = cols.iter().find(|c| col(c).is_none()) {
-        out.push(fail(
-            format!("file {name}"),
-            name.into(),
-            "-".into(),
-            format!("missing column '{missing}'"),
-        ));
+        out.push(file_fail(name, format!("missing column '{missing}'")));
         return out;
     }
     for (i, rec) in rdr.records().enumerate() {
         let rec = match rec {
             Ok(r) => r,
             Err(e) => {
-                out.push(fail(
-                    format!("{name} record {}", i + 1),
-                    name.into(),
-                    "-".into(),
-                    format!("malformed line: {e}"),
-                ));
+                out.push(record_fail(name, i, &e));
                 continue;
             }
         };

@@ -616,18 +616,12 @@ fn parse_csv(text: &str) -> Result<Table, String> {
             return Err(format!("provenance line '{key}' is missing"));
         }
     }
-    let shard_text = prov
-        .iter()
-        .find(|(k, _)| k == "shard")
-        .map(|(_, v)| v.clone())
-        .unwrap_or_default();
-    let shard = Shard::parse(&shard_text)?;
+    let shard = shard_of(&prov)?;
     let mut rows = Vec::with_capacity(rows_raw.len());
     for (o, line) in rows_raw {
         let lineno = text[..o].matches('\n').count() + 1;
-        let r = Row::parse_csv(line, &settings).map_err(|e| format!("line {lineno}: {e}"))?;
-        check_row(&r, &settings).map_err(|e| format!("line {lineno}: {e}"))?;
-        rows.push(r);
+        let r = Row::parse_csv(line, &settings);
+        rows.push(checked_row(r, &settings, &format!("line {lineno}"))?);
     }
     Ok(Table {
         prov,
@@ -636,6 +630,29 @@ fn parse_csv(text: &str) -> Result<Table, String> {
         rows,
         torn_at,
     })
+}
+
+/// The shard named by the `shard` provenance entry (an empty text when it
+/// is absent, which `Shard::parse` judges).
+fn shard_of(prov: &[(String, String)]) -> Result<Shard, String> {
+    Shard::parse(
+        prov.iter()
+            .find(|(k, _)| k == "shard")
+            .map(|(_, v)| v.as_str())
+            .unwrap_or_default(),
+    )
+}
+
+/// A parsed row that also passes `check_row`; either error is prefixed
+/// with `place` (the line or row number in the file).
+fn checked_row(
+    parsed: Result<Row, String>,
+    settings: &TableSettings,
+    place: &str,
+) -> Result<Row, String> {
+    let r = parsed.map_err(|e| format!("{place}: {e}"))?;
+    check_row(&r, settings).map_err(|e| format!("{place}: {e}"))?;
+    Ok(r)
 }
 
 fn parse_json(text: &str) -> Result<Table, String> {
@@ -693,21 +710,15 @@ fn parse_json(text: &str) -> Result<Table, String> {
             return Err(format!("meta.{key} is missing"));
         }
     }
-    let shard = Shard::parse(
-        prov.iter()
-            .find(|(k, _)| k == "shard")
-            .map(|(_, v)| v.as_str())
-            .unwrap_or_default(),
-    )?;
+    let shard = shard_of(&prov)?;
     let rows_v = doc
         .get("rows")
         .and_then(Value::as_array)
         .ok_or("no \"rows\" array")?;
     let mut rows = Vec::with_capacity(rows_v.len());
     for (i, v) in rows_v.iter().enumerate() {
-        let r = Row::from_json(v, &settings).map_err(|e| format!("row {}: {e}", i + 1))?;
-        check_row(&r, &settings).map_err(|e| format!("row {}: {e}", i + 1))?;
-        rows.push(r);
+        let r = Row::from_json(v, &settings);
+        rows.push(checked_row(r, &settings, &format!("row {}", i + 1))?);
     }
     Ok(Table {
         prov,

@@ -485,13 +485,8 @@ impl BoundFreeKernel {
             cur *= a;
             cur /= 2 * l + 2 + qq;
         }
-        let mag_t: Vec<Float> = tq
-            .iter()
-            .map(|t| Float::with_val(53, t.abs_ref()))
-            .collect();
         // X_N = sum_q (-1)^q C(N,q) T_q for all N (difference table)
-        let xs = binomial_transform(tq, |a, b| *a -= b);
-        let ms = binomial_transform(mag_t, |a, b| *a += b);
+        let (xs, ms) = difference_tables(tq, |t| Float::with_val(53, t.abs_ref()));
         let mut total = Float::with_val(p, 0);
         let mut mag = Float::with_val(53, 0);
         // e^{iN phi} incrementally
@@ -514,13 +509,7 @@ impl BoundFreeKernel {
             pref *= s;
             pref /= &rho;
         }
-        let value = total * &norm;
-        let magn = if mag.is_zero() {
-            f64::NEG_INFINITY
-        } else {
-            (mag * Float::with_val(53, norm.abs_ref())).log2().to_f64()
-        };
-        (value, magn)
+        scale_by_norm(total, mag, &norm)
     }
 
     fn bound_at(&self, nu: &Float, integer: Option<u32>, p: u32) -> (Float, f64) {
@@ -563,12 +552,7 @@ impl BoundFreeKernel {
             cur *= Float::with_val(p, nu + (l + 1 + qq)) * &zz;
             cur /= 2 * l + 2 + qq;
         }
-        let mag_t: Vec<Float> = tq
-            .iter()
-            .map(|t| Float::with_val(53, t.abs_ref()))
-            .collect();
-        let xs = binomial_transform(tq, |a, b| *a -= b);
-        let ms = binomial_transform(mag_t, |a, b| *a += b);
+        let (xs, ms) = difference_tables(tq, |t| Float::with_val(53, t.abs_ref()));
         let mut total = Float::with_val(p, 0);
         let mut mag = Float::with_val(53, 0);
         let s0 = 2 * l + 1;
@@ -587,13 +571,7 @@ impl BoundFreeKernel {
             pref /= &lam;
             pref /= &omz;
         }
-        let value = total * &norm;
-        let magn = if mag.is_zero() {
-            f64::NEG_INFINITY
-        } else {
-            (mag * Float::with_val(53, norm.abs_ref())).log2().to_f64()
-        };
-        (value, magn)
+        scale_by_norm(total, mag, &norm)
     }
 }
 
@@ -718,6 +696,31 @@ pub fn continuum_function(
     Err(BasisError::InvalidArgument(
         "continuum function lost all precision".into(),
     ))
+}
+
+/// The signed difference table X_N = sum_q (-1)^q C(N,q) T_q of the terms
+/// `tq` (all N at once), with the same table built from |T_q| and all signs
+/// positive: the bound on the magnitudes that cancel in each X_N.
+fn difference_tables<T>(tq: Vec<T>, abs: impl Fn(&T) -> Float) -> (Vec<T>, Vec<Float>)
+where
+    T: Clone + for<'a> std::ops::SubAssign<&'a T>,
+{
+    let mag_t: Vec<Float> = tq.iter().map(abs).collect();
+    let xs = binomial_transform(tq, |a, b| *a -= b);
+    let ms = binomial_transform(mag_t, |a, b| *a += b);
+    (xs, ms)
+}
+
+/// The sum `total` scaled by the normalization `norm`, with log2 of the
+/// magnitude bound `mag * |norm|` (negative infinity when the bound is zero).
+fn scale_by_norm(total: Float, mag: Float, norm: &Float) -> (Float, f64) {
+    let value = total * norm;
+    let magn = if mag.is_zero() {
+        f64::NEG_INFINITY
+    } else {
+        (mag * Float::with_val(53, norm.abs_ref())).log2().to_f64()
+    };
+    (value, magn)
 }
 
 /// X_N = sum_q (-1)^q C(N,q) T_q (with `sub`) or sum_q C(N,q) T_q (with an
