@@ -27,22 +27,14 @@ use super::meixner::{channel_j_with, NuPoint};
 use super::meter::Meter;
 use rug::{Assign, Float};
 
-/// A lower-state term rounded to the working precision.
+/// A lower state rounded to the working precision: it contributes the
+/// simple pole A / (n' - nu) to the integrand, A = c D.
 #[derive(Debug, Clone)]
 pub struct PoleFloat {
-    /// n'.
-    pub nprime: u32,
-    /// c D (hartree times the dipole weight).
+    /// n' (as a float, for the pole position).
+    pub nprime: Float,
+    /// A = c D (hartree times the dipole weight).
     pub cd: Float,
-}
-
-impl PoleFloat {
-    /// (A, n') with A = c D: the lower state contributes the simple pole
-    /// A / (n' - nu) to the integrand.
-    fn split(&self) -> (Float, Float) {
-        let prec = self.cd.prec();
-        (self.cd.clone(), Float::with_val(prec, self.nprime))
-    }
 }
 
 /// Everything the integrand needs, at one working precision.
@@ -54,8 +46,6 @@ pub struct Problem {
     pub channels: Vec<ChannelFloat>,
     /// Lower-state terms of all channels.
     pub poles: Vec<PoleFloat>,
-    /// The same as (c D, n') pairs.
-    pub pole_split: Vec<(Float, Float)>,
     /// 2 * Dsum (2 * 2/n^3 for S states, else 0).
     pub two_dsum: Float,
 }
@@ -70,23 +60,6 @@ pub struct Sample {
 }
 
 impl Problem {
-    /// Assembles a problem, precomputing the pole terms.
-    pub fn new(
-        n: u32,
-        channels: Vec<ChannelFloat>,
-        poles: Vec<PoleFloat>,
-        two_dsum: Float,
-    ) -> Self {
-        let pole_split = poles.iter().map(PoleFloat::split).collect();
-        Problem {
-            n,
-            channels,
-            poles,
-            pole_split,
-            two_dsum,
-        }
-    }
-
     /// I(nu) and its logarithmic coefficient. `meter` records cancellation.
     pub fn sample(&self, nu: &Float, meter: &mut Meter) -> Sample {
         let prec = nu.prec();
@@ -147,10 +120,10 @@ impl Problem {
         let mut acc = Float::with_val(prec, 0);
         let mut t = Float::new(prec);
         let mut biggest = Float::with_val(prec, 0);
-        for (a, np) in &self.pole_split {
-            t.assign(np - nu);
+        for pole in &self.poles {
+            t.assign(&pole.nprime - nu);
             t.recip_mut();
-            t *= a;
+            t *= &pole.cd;
             if t.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
                 biggest.assign(&t);
             }

@@ -84,39 +84,34 @@ impl StateData {
         for ch in &self.chans {
             for p in &ch.poles {
                 poles.push(PoleFloat {
-                    nprime: p.nprime,
+                    nprime: Float::with_val(prec, p.nprime),
                     cd: Float::with_val(prec, Rational::from(&p.c * &p.d)),
                 });
             }
         }
-        Problem::new(
-            self.n,
-            self.chans
+        Problem {
+            n: self.n,
+            channels: self
+                .chans
                 .iter()
                 .map(|c| ChannelFloat::new(c, prec))
                 .collect(),
             poles,
-            Float::with_val(prec, Rational::from(&self.dsum * 2u32)),
-        )
+            two_dsum: Float::with_val(prec, Rational::from(&self.dsum * 2u32)),
+        }
     }
 
-    /// Sum over lower states of c D ln|D|, plus Dsum_up ln w0 and Dsum ln 2.
+    /// Sum over lower states of c D ln|D| and of their image terms
+    /// -c D ln((n + n')/n'), plus Dsum_up ln w0 and Dsum ln 2.
     fn exact_part(&self, prec: u32) -> Float {
         let mut s = Float::with_val(prec, 0);
         for ch in &self.chans {
             for p in &ch.poles {
                 let cd = Float::with_val(prec, Rational::from(&p.c * &p.d));
                 let ln_abs_d = Float::with_val(prec, -p.d.clone()).ln();
-                s += cd * ln_abs_d;
-            }
-        }
-        // image terms of the lower-state poles: - sum A ln((n + n')/n')
-        for ch in &self.chans {
-            for p in &ch.poles {
-                let cd = Float::with_val(prec, Rational::from(&p.c * &p.d));
-                let ratio =
+                let ln_ratio =
                     Float::with_val(prec, Rational::from((self.n + p.nprime, p.nprime))).ln();
-                s -= cd * ratio;
+                s += cd * (ln_abs_d - ln_ratio);
             }
         }
         let nn = u64::from(self.n) * u64::from(self.n);
