@@ -20,9 +20,9 @@ fn diff(a: &Float, b: &Float) -> f64 {
 #[test]
 fn published_values_n1_n2() {
     for (n, l, published) in [
-        (1, 0, "2.984128555765498"),
-        (2, 0, "2.811769893120563"),
-        (2, 1, "-0.030016708630213"),
+        (1, 0, "2.984128555765498"),  // Drake & Swainson 1990, via CODATA 2018
+        (2, 0, "2.811769893120563"),  // Drake & Swainson 1990, via CODATA 2018
+        (2, 1, "-0.030016708630213"), // Drake & Swainson 1990, via CODATA 2018
     ] {
         let r = value(n, l, 20);
         let p = Float::with_val(128, Float::parse(published).unwrap());
@@ -38,6 +38,7 @@ fn published_values_n1_n2() {
 fn mean_excitation_energy_2s() {
     let r = value(2, 0, 10);
     let k0 = r.value.to_f64().exp();
+    // 16.646(7) Ry: Bethe, Brown & Stehn, Phys. Rev. 77, 370 (1950)
     assert!((16.639..=16.653).contains(&k0), "k0(2s) = {k0} Ry");
 }
 
@@ -80,7 +81,7 @@ fn physical_shape() {
     for w in s.windows(3) {
         assert!(w[0] - w[1] > w[1] - w[2], "steps not shrinking: {s:?}");
     }
-    assert!(s.iter().all(|v| (2.7..3.0).contains(v)));
+    assert!(s.iter().all(|v| (2.7..3.0).contains(v))); // common practice (PHYSICS.md section 1)
     let far = value(40, 0, 12).value.to_f64();
     assert!(far < s[7] && far > 2.7, "ln k0(40,0) = {far}");
     let n = 10;
