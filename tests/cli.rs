@@ -117,9 +117,9 @@ fn table_is_sorted_complete_and_carries_provenance() {
     assert_eq!(keys, vec![(1, 0), (2, 0), (2, 1), (3, 0), (3, 1), (3, 2)]);
     // Published values (Drake & Swainson 1990 via CODATA 2018), 12 digits asked.
     let v = |i: usize| -> f64 { rows[i].split(',').nth(2).unwrap().parse().unwrap() };
-    assert!((v(0) - 2.984128555765498).abs() < 1e-12);
-    assert!((v(2) - -0.030016708630213).abs() < 1e-12);
-    // 14 decimals (digits + 2).
+    assert!((v(0) - 2.984128555765498).abs() < 1e-12); // Drake & Swainson 1990, via CODATA 2018
+    assert!((v(2) - -0.030016708630213).abs() < 1e-12); // Drake & Swainson 1990, via CODATA 2018
+                                                        // 14 decimals (digits + 2).
     assert_eq!(
         rows[0]
             .split(',')
@@ -346,7 +346,7 @@ fn json_tables_have_meta_and_rows_and_resume_from_the_journal() {
     assert!(rows[0]["ln_k0"]
         .as_str()
         .unwrap()
-        .starts_with("2.9841285557"));
+        .starts_with("2.9841285557")); // Drake & Swainson 1990, via CODATA 2018
     assert!(!Path::new(&format!("{out}.partial")).exists());
 
     // A crashed JSON run leaves its CSV journal; --resume completes it.
@@ -566,7 +566,7 @@ fn radial_and_oscillator_match_closed_forms() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
     // 2^13/3^9 = 8192/19683 = 0.41619671797998272621...
-    assert_eq!(v["f"], "0.41619671797998272621");
+    assert_eq!(v["f"], "0.41619671797998272621"); // 2^13/3^9 exactly (closed form)
 }
 
 #[test]
