@@ -15,12 +15,26 @@
 //! This module has the closed-form coefficients only; the remainders G_SE and
 //! G_VP (which need an all-order numerical evaluation) are left out by design.
 //!
-//! Provenance of each formula is written beside it. The text of the CODATA
-//! 2018 paper could not be retrieved for a line-by-line comparison while
-//! this module was written, so the formulas are recalled from that source
-//! ("from memory"); A41, A40 and V40 also match the project's physics brief,
-//! and the whole set is checked numerically against the measured hydrogen
-//! n = 2 Lamb shift in the tests (data-checks/lamb_shift.csv).
+//! # Provenance
+//! The formulas are written as given in the CODATA 2018 adjustment. Its text
+//! was not available in the project's reference corpus, so no line-by-line
+//! comparison with it has been made: every formula taken from it is marked
+//! "from memory" beside the function. What holds them instead (all in
+//! `tests/coefficients.rs` and `tests/lamb_shift.rs` of this crate):
+//!
+//! - magnetic part of A40: derived again from the Schwinger moment
+//!   a_e = alpha/(2 pi) and the exact <r^-3> of kzero-basis, every level with
+//!   n <= 12;
+//! - V40: derived again from the short-range (contact) form of the Uehling
+//!   potential and the exact |psi(0)|^2 of kzero-basis, n <= 10;
+//! - A41 and the -(4/3) ln k0 of A40: the same numbers as in Bethe's
+//!   nonrelativistic estimate ([`crate::cutoff_estimate`]);
+//! - V61: Kotochigova and Mohr (2005), Eq. (5), whose text was seen;
+//! - A50, V50, A61: equivalent original forms and published special values
+//!   (from memory);
+//! - the whole set: the measured Lamb shifts of H (n = 2) and He4+ (n = 2 and
+//!   n = 4) within the stated truncation uncertainty
+//!   (data-checks/lamb_shift.csv).
 
 use crate::level::Level;
 
@@ -59,7 +73,8 @@ pub fn a40_bethe(level: &Level, ln_k0: f64) -> f64 {
 /// kappa the Dirac quantum number ([`Level::kappa`]).
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
-/// coefficients (from memory); same as PHYSICS.md section 6. In the reduced-mass
+/// coefficients (from memory); same as PHYSICS.md section 6. Derived again in
+/// the tests from the Schwinger moment (see the module notes). In the reduced-mass
 /// treatment of that source this part carries (m_r/m_e)^2 instead of
 /// (m_r/m_e)^3 (from memory). That is also what the physics gives: the
 /// anomalous-moment spin-orbit coupling a Z alpha / (m_e m_r r^3) L.s, with
@@ -140,7 +155,8 @@ pub fn a61(level: &Level) -> f64 {
 /// V40 = -(4/15) delta_l0 (Uehling potential, leading order).
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), vacuum
-/// polarization (from memory); same as PHYSICS.md section 6.
+/// polarization (from memory); same as PHYSICS.md section 6. Derived again in
+/// the tests from the contact form of the Uehling potential.
 ///
 /// # Accuracy
 /// Closed form evaluated in f64: relative rounding error below 1e-15.
