@@ -3,7 +3,10 @@
 //! Every value below is the 2018 CODATA recommended value (Tiesinga, Mohr,
 //! Newell and Taylor, Rev. Mod. Phys. 93, 025010 (2021); NIST listing
 //! "Fundamental Physical Constants --- Complete Listing, 2018 CODATA
-//! adjustment"), written with all the digits of that listing. Their
+//! adjustment", the allascii.txt table), written with all the digits of that
+//! listing and compared with it value by value (alpha, m_e c^2, h, e, the
+//! reduced Compton wavelength, the p, d and alpha mass ratios, A_r(e), r_p,
+//! r_d). Their
 //! standard uncertainties (relative 1e-10 or smaller for everything but the
 //! charge radii) are far below the truncation uncertainty of the shifts and
 //! are not propagated.
