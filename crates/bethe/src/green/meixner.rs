@@ -208,14 +208,45 @@ fn second_kind(
     let prec = a.prec();
     let beta = rec.beta;
     let lz = -zp.z.to_f64().log2();
-    let forward_loss = lz * m as f64;
+    let growth = RootRatio::new(beta, a.to_f64(), zp.z.to_f64(), zp.one_minus_z.to_f64());
+    let forward_loss: f64 = (1..m).map(|i| growth.bits(i)).sum();
     let mut rho = Vec::with_capacity(m);
     rho.push(rho0.clone());
     if m == 1 {
         return rho;
     }
     let zb = Float::with_val(prec, &zp.z * beta);
-    if forward_loss <= 24.0 {
+    // Miller: start far enough above m that the dominant solution has died
+    // out by 2^-(prec + 40) at m (accumulated local ratios); the asymptotic
+    // ratio 1/z bounds the start.
+    // the first index above m where the dominant solution has died out by
+    // 2^-need (accumulated local ratios; the asymptotic ratio 1/z bounds
+    // it), or None when that takes more than `limit` extra steps
+    let miller_top = |need: f64, limit: usize| {
+        let cap = m + ((need / lz.max(1e-9)).ceil() as usize).min(limit + 1) + 16;
+        let mut top = m;
+        let mut acc = 0.0;
+        while acc < need && top < cap {
+            acc += growth.bits(top);
+            top += 1;
+        }
+        let top = (top + 16).min(cap);
+        (top - m <= limit).then_some(top)
+    };
+    // forward when it loses little, or when a Miller run would cost more
+    // than the precision the forward loss needs (slow decay: small beta with
+    // z near 1); the loss is then recorded so that the caller's guard covers
+    // it. The choice does not depend on the working precision, so that the
+    // pilot (two precisions) sees the same route as the quadrature and
+    // measures its loss.
+    let top = if forward_loss <= FORWARD_LOSS_MAX {
+        None
+    } else {
+        miller_top(MILLER_DECISION_BITS, miller_budget(forward_loss, m))
+            .and_then(|_| miller_top(f64::from(prec) + 40.0, usize::MAX / 2))
+    };
+    if top.is_none() {
+        meter.loss(forward_loss.ceil() as i32);
         // rho_1 = rho_0 - (1-z)(1 - a rho_0)/(z beta)
         let one_m_arho = Float::with_val(prec, 1u32 - Float::with_val(prec, a * rho0));
         let r1 = Float::with_val(
@@ -231,9 +262,7 @@ fn second_kind(
         }
         return rho;
     }
-    // Miller: start far above m, recur down, normalize to rho_0.
-    let extra = ((prec as f64 + 40.0) / lz.max(1e-6)).ceil() as usize + 16;
-    let top = m + extra;
+    let top = top.unwrap_or(m);
     let mut y_hi = Float::with_val(prec, 0); // y_{i+1}
     let mut y = Float::with_val(prec, 1); // y_i, starting at i = top
     let mut store: Vec<Float> = vec![Float::with_val(prec, 0); m];
@@ -250,6 +279,72 @@ fn second_kind(
         rho.push(Float::with_val(prec, v * &norm));
     }
     rho
+}
+
+/// Largest estimated loss (bits) of the forward recurrence for rho before
+/// the backward (Miller) route is taken.
+const FORWARD_LOSS_MAX: f64 = 48.0;
+
+/// Damping (bits) of the dominant solution assumed when the length of a
+/// Miller run is compared with the forward route (a fixed value, so that the
+/// route does not depend on the working precision).
+const MILLER_DECISION_BITS: f64 = 300.0;
+
+/// Most extra steps for which the backward (Miller) route is cheaper than
+/// the forward route with `forward_loss` more bits on the whole node.
+///
+/// Cost model (MPFR operations, at a reference precision of 192 bits):
+/// a node costs about 12 m operations per channel, and precision costs grow
+/// like bits^1.6, so `forward_loss` extra bits cost
+/// 12 m ((192 + loss)/192)^1.6 - 12 m; a Miller run costs about 5
+/// operations per extra step.
+fn miller_budget(forward_loss: f64, m: usize) -> usize {
+    let penalty = 12.0 * m as f64 * (((192.0 + forward_loss) / 192.0).powf(1.6) - 1.0);
+    (penalty / 5.0) as usize
+}
+
+/// Local growth of the two solutions of the Meixner recurrence
+/// z (i+beta) X_{i+1} = [i + (i+beta) z + (1-z) a] X_i - i X_{i-1}: at step
+/// i the solutions grow like the roots t+ > t- of
+/// z (i+beta) t^2 - [i + (i+beta) z + (1-z) a] t + i = 0, so a forward pass
+/// amplifies the error of the minimal solution by about t+/t- per step, and
+/// a backward (Miller) pass damps the dominant one by the same factor.
+struct RootRatio {
+    beta: f64,
+    a: f64,
+    z: f64,
+    one_minus_z: f64,
+}
+
+impl RootRatio {
+    fn new(beta: u32, a: f64, z: f64, one_minus_z: f64) -> Self {
+        RootRatio {
+            beta: f64::from(beta),
+            a,
+            z,
+            one_minus_z,
+        }
+    }
+
+    /// log2(t+/t-) at step i >= 1 (0 where the roots are complex).
+    ///
+    /// # Accuracy
+    /// A local (Poincare-Perron) estimate in f64: it follows the actual
+    /// growth when the coefficients vary slowly with i, and is used only to
+    /// choose a route and a starting index, never in a value.
+    fn bits(&self, i: usize) -> f64 {
+        let i = i as f64;
+        let q = self.z * (i + self.beta);
+        let b = i + q + self.one_minus_z * self.a;
+        let disc = b * b - 4.0 * q * i;
+        if disc <= 0.0 || i <= 0.0 {
+            return 0.0;
+        }
+        let r = disc.sqrt();
+        // t+ / t- = (b + r)^2 / (4 q i), written without cancellation
+        let big = b.abs() + r;
+        (big * big / (4.0 * q * i)).log2().max(0.0)
+    }
 }
 
 /// Reference evaluation by direct summation over k of the overlaps (no

@@ -32,6 +32,12 @@ impl Meter {
         self.max_term_exp = None;
     }
 
+    /// Records a loss (bits) known from elsewhere, e.g. the estimated error
+    /// amplification of an unstable recurrence.
+    pub fn loss(&mut self, bits: i32) {
+        self.loss_bits = self.loss_bits.max(bits);
+    }
+
     /// Merges another meter's worst loss into this one.
     pub fn merge(&mut self, other: &Meter) {
         self.loss_bits = self.loss_bits.max(other.loss_bits);

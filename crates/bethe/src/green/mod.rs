@@ -19,14 +19,22 @@
 //! at nu = n + 1.
 //!
 //! ## Error estimate
-//! Two evaluations: level A (nodes N, bits p) and level B (about 1.5 N nodes,
-//! p + 32 bits). B is returned; |A - B| is the error estimate (it estimates
-//! the error of the cruder A, so it is conservative for B as long as the
-//! quadrature converges). Working bits p = goal bits + guard, where the guard
-//! is the cancellation measured at every node of a pilot pass (see
-//! [`meter`]); if the measured loss exceeds the guard, the pass is repeated
-//! with more bits. If |A - B| misses the goal the node count grows, up to a
-//! fixed number of tries, and then [`BetheError::NoConvergence`] is returned.
+//! Panel by panel: a pair of Gauss rules (N nodes at p bits, and about
+//! 1.25 N + 4 nodes at p + 32 bits) is compared; the finer value is kept and
+//! |difference| estimates the error of the cruder one, so it is conservative
+//! for the value kept as long as the rule converges. Each panel must meet an
+//! equal share of the goal; the estimate returned is the sum over panels. N
+//! starts from the panel's size (seen by a pilot) and the convergence rate
+//! seen on the previous panel, and grows (at an assumed 4 bits per node)
+//! while the difference misses the share.
+//!
+//! Working bits p = goal bits + guard, per panel. The guard is the loss to
+//! cancellation measured by a pilot (the integrand at 20 photon energies at
+//! two precisions), on the absolute scale of ln k0, plus a margin; the
+//! meter of every node ([`meter`]) raises it when it sees more, and the
+//! 32-bit offset within a pair exposes rounding errors both missed. A panel
+//! that does not converge makes the call fail with
+//! [`BetheError::NoConvergence`]; no number is returned then.
 
 pub mod channel;
 pub mod integrand;
@@ -123,10 +131,21 @@ impl StateData {
     }
 }
 
+/// One quadrature panel of the nu integral.
+#[derive(Debug, Clone, Copy)]
+struct Panel {
+    /// Left end (0 for the first panel).
+    b: f64,
+    /// Right end.
+    e: f64,
+    /// The first panel [0, nu1], integrated with the logarithmic product rule.
+    first: bool,
+}
+
 /// The first panel [0, nu1] and the panels on [nu1, n]: each panel [b, e]
 /// satisfies e <= 2b (the branch point nu = 0 is at least one width away) and
 /// n + 1 - e >= e - b (so is the pole at nu = n + 1).
-fn panels(n: u32, first_pole: Option<u32>) -> (f64, Vec<(f64, f64)>) {
+fn panels(n: u32, first_pole: Option<u32>) -> Vec<Panel> {
     let nf = f64::from(n);
     // The first panel (logarithmic product rule) is kept short: its
     // integrand pieces I_an, I_log have singularities at distances of order
@@ -137,93 +156,133 @@ fn panels(n: u32, first_pole: Option<u32>) -> (f64, Vec<(f64, f64)>) {
     if let Some(p) = first_pole {
         nu1 = nu1.min((f64::from(p) - 0.5) * 0.987_3);
     }
-    let mut out = Vec::new();
+    let mut out = vec![Panel {
+        b: 0.0,
+        e: nu1,
+        first: true,
+    }];
     let mut b = nu1;
     while b < nf {
         let mut e = (2.0 * b).min((nf + 1.0 + b) / 2.0);
         if e > nf - 1e-9 || nf - e < 0.05 * (e - b) {
             e = nf;
         }
-        out.push((b, e));
+        out.push(Panel { b, e, first: false });
         b = e;
     }
-    (nu1, out)
+    out
 }
 
-/// Node counts for a goal of `bits` at refinement `level` (0, 1, ...):
-/// (first panel, other panels).
-fn node_counts(bits: u32, level: u32) -> (usize, usize) {
-    let f = 1.5f64.powi(level as i32);
-    // about 6 bits per node on the worst panels (convergence factor near
-    // 5.8 per node pair with margin); the A/B comparison catches a shortfall
-    let n0 = ((f64::from(bits) / 6.0 + 6.0) * f).ceil() as usize;
-    let n1 = ((f64::from(bits) / 6.0 + 6.0) * f).ceil() as usize;
-    // even counts: no node at a panel midpoint
-    (n0 + n0 % 2, n1 + n1 % 2)
+/// Assumed convergence rate of Gauss–Legendre on a panel, in bits per node:
+/// with the nearest singularity one panel width beyond an end (the panel
+/// layout of [`panels`]) the error falls like (3 + sqrt 8)^(-2N), about 5.1
+/// bits per node; 4 leaves room for the logarithmic first panel and for
+/// constants.
+const BITS_PER_NODE: f64 = 4.0;
+
+/// Fewest and most nodes on one panel.
+const MIN_NODES: usize = 4;
+const MAX_NODES: usize = 600;
+
+/// Most pairs of rules tried on one panel before giving up.
+const MAX_TRIES: u32 = 8;
+
+/// Rounds a node count up to an even number (no node at a panel midpoint)
+/// within [MIN_NODES, MAX_NODES].
+fn even_nodes(k: f64) -> usize {
+    let k = (k.ceil().max(0.0) as usize).clamp(MIN_NODES, MAX_NODES);
+    k + k % 2
 }
 
-/// One evaluation of ln k0 at fixed nodes and bits. Returns (value, loss bits, nodes).
-fn evaluate(sd: &StateData, bits: u32, level: u32, prec: u32) -> (Float, i32, usize) {
-    // precisions are quantized so that cached quadrature rules are shared
-    let prec = quantize(prec);
-    let prob = sd.problem(prec);
-    let (n0, n1) = node_counts(bits, level);
-    let first_pole = sd
-        .chans
-        .iter()
-        .flat_map(|c| c.poles.iter().map(|p| p.nprime))
-        .min();
-    let (nu1, pans) = panels(sd.n, first_pole);
-    let r0 = quad::rule(n0, prec);
-    let r1 = quad::rule(n1, prec);
-    let nu1f = Float::with_val(prec, nu1);
-    let ln_nu1 = Float::with_val(prec, nu1f.ln_ref());
-    // first panel: int_0^nu1 I = nu1 [sum w_i I_an + sum (W_i + w_i ln nu1) I_log]
-    let first: Vec<(Float, i32)> = r0
-        .x
-        .par_iter()
-        .zip(r0.w.par_iter().zip(r0.wlog.par_iter()))
-        .map(|(x, (w, wl))| {
-            let nu = Float::with_val(prec, x * &nu1f);
-            let mut m = Meter::new();
-            let s = prob.sample(&nu, &mut m);
-            let ln_nu = Float::with_val(prec, nu.ln_ref());
-            let an = Float::with_val(prec, &s.value - Float::with_val(prec, &s.log_coef * &ln_nu));
-            let wlt = Float::with_val(prec, wl + Float::with_val(prec, w * &ln_nu1));
-            let c = Float::with_val(prec, &an * w) + Float::with_val(prec, &s.log_coef * &wlt);
-            (c, m.loss_bits)
-        })
-        .collect();
-    let mut integral = Float::with_val(prec, 0);
-    let mut loss = 0;
-    for (c, l) in &first {
-        integral += Float::with_val(prec, c * &nu1f);
+/// The finer rule of a pair whose cruder rule has `nodes` nodes: enough
+/// more nodes that its error is far below the cruder one's, so that their
+/// difference estimates the cruder rule's error.
+fn finer_nodes(nodes: usize) -> usize {
+    even_nodes((nodes + (nodes / 4).max(4)) as f64)
+}
+
+/// Nodes expected to bring an integral of size about 2^mag_exp to an
+/// absolute error below `tol`, at `rate` bits per node, with `margin` bits
+/// to spare.
+fn nodes_for(mag_exp: i32, tol: f64, rate: f64, margin: f64) -> usize {
+    let bits = f64::from(mag_exp) - tol.log2() + margin;
+    even_nodes(bits / rate)
+}
+
+/// Default rate (bits per node) for the first guess on a panel; later
+/// panels use the rate seen on the previous one (geometrically alike panels
+/// converge alike), within [`BITS_PER_NODE`] and [`MAX_RATE`].
+const FIRST_GUESS_RATE: f64 = 5.0;
+/// The first guess on the first panel (logarithmic product rule, slower).
+const FIRST_PANEL_RATE: f64 = 3.5;
+const MAX_RATE: f64 = 12.0;
+
+/// Binary exponent of |x| (x = m 2^e, 1/2 <= |m| < 1), with zero and
+/// non-finite values mapped to a very negative exponent.
+fn exp2_of(x: &Float) -> i32 {
+    x.get_exp().unwrap_or(-(1 << 20))
+}
+
+/// Binary exponent of the factor n^3/2 that turns the integral into ln k0.
+fn ln_k0_scale_exp(n: u32) -> i32 {
+    let n3 = f64::from(n).powi(3) / 2.0;
+    n3.log2().ceil() as i32
+}
+
+/// The integral of the sampled integrand over one panel with `nodes` nodes at
+/// `prob`'s precision. Returns (integral, loss bits).
+///
+/// The loss is on the absolute scale of ln k0: a node whose computation
+/// lost `k` bits to cancellation and whose contribution to ln k0 is about
+/// 2^e has a rounding error of about 2^(k + e - prec) on ln k0, and the loss
+/// reported is the largest k + e over the nodes, so that 2^(loss - prec)
+/// is the rounding level of the panel (up to the number of nodes).
+fn panel_integral(prob: &Problem, panel: &Panel, nodes: usize) -> (Float, i32) {
+    let prec = prob.two_dsum.prec();
+    let scale_exp = ln_k0_scale_exp(prob.n);
+    let r = quad::rule(nodes, prec);
+    let bf = Float::with_val(prec, panel.b);
+    // width in MPFR: the f64 difference would leave gaps between panels
+    let h = Float::with_val(prec, Float::with_val(prec, panel.e) - &bf);
+    let parts: Vec<(Float, i32)> = if panel.first {
+        // int_0^nu1 I = nu1 [sum w_i I_an + sum (W_i + w_i ln nu1) I_log]
+        let ln_h = Float::with_val(prec, h.ln_ref());
+        r.x.par_iter()
+            .zip(r.w.par_iter().zip(r.wlog.par_iter()))
+            .map(|(x, (w, wl))| {
+                let nu = Float::with_val(prec, x * &h);
+                let mut m = Meter::new();
+                let s = prob.sample(&nu, &mut m);
+                let ln_nu = Float::with_val(prec, nu.ln_ref());
+                let an =
+                    Float::with_val(prec, &s.value - Float::with_val(prec, &s.log_coef * &ln_nu));
+                let wlt = Float::with_val(prec, wl + Float::with_val(prec, w * &ln_h));
+                let pa = Float::with_val(prec, &an * w);
+                let pl = Float::with_val(prec, &s.log_coef * &wlt);
+                let big = exp2_of(&pa).max(exp2_of(&pl)) + exp2_of(&h) + scale_exp;
+                (pa + pl, m.loss_bits + big)
+            })
+            .collect()
+    } else {
+        r.x.par_iter()
+            .zip(r.w.par_iter())
+            .map(|(x, w)| {
+                let nu = Float::with_val(prec, &bf + Float::with_val(prec, x * &h));
+                let mut m = Meter::new();
+                let s = prob.sample(&nu, &mut m);
+                let c = Float::with_val(prec, &s.value * w);
+                let big = exp2_of(&c) + exp2_of(&h) + scale_exp;
+                (c, m.loss_bits + big)
+            })
+            .collect()
+    };
+    let mut sum = Float::with_val(prec, 0);
+    let mut loss = i32::MIN;
+    for (c, l) in &parts {
+        sum += c;
         loss = loss.max(*l);
     }
-    let mut nodes = first.len();
-    for &(b, e) in &pans {
-        let bf = Float::with_val(prec, b);
-        // width in MPFR: the f64 difference would leave gaps between panels
-        let h = Float::with_val(prec, Float::with_val(prec, e) - &bf);
-        let part: Vec<(Float, i32)> =
-            r1.x.par_iter()
-                .zip(r1.w.par_iter())
-                .map(|(x, w)| {
-                    let nu = Float::with_val(prec, &bf + Float::with_val(prec, x * &h));
-                    let mut m = Meter::new();
-                    let s = prob.sample(&nu, &mut m);
-                    (Float::with_val(prec, &s.value * w), m.loss_bits)
-                })
-                .collect();
-        for (c, l) in &part {
-            integral += Float::with_val(prec, c * &h);
-            loss = loss.max(*l);
-        }
-        nodes += part.len();
-    }
-    let s = sd.exact_part(prec) - integral;
-    let n3 = u64::from(sd.n).pow(3);
-    (s * n3 / 2u32, loss, nodes)
+    (sum * h, loss)
 }
 
 /// Rounds a precision up to a multiple of 32 bits.
@@ -231,39 +290,252 @@ fn quantize(prec: u32) -> u32 {
     prec.div_ceil(32) * 32
 }
 
-/// Measures the bits the integrand loses to cancellation: evaluates it at a
-/// spread of nodes at two precisions and compares. Returns a guard (bits to
-/// add to the goal bits) covering the worst loss seen plus a margin.
-fn pilot_guard(sd: &StateData, bits: u32) -> u32 {
+/// One point of the pilot: photon-energy variable, loss bits, and the binary
+/// exponent of the node's contribution scale (n^3/2) nu |I(nu)|.
+#[derive(Debug, Clone, Copy)]
+struct PilotPoint {
+    nu: f64,
+    loss: i32,
+    mag: i32,
+}
+
+/// Loss profile of the integrand: evaluates it at a spread of photon
+/// energies at two precisions and compares. Returns the points with nu
+/// increasing.
+///
+/// The loss is measured on the absolute scale of ln k0 (as in
+/// [`panel_integral`]): the difference of the two evaluations at nu, times
+/// (n^3/2) nu (the weight of a log-spaced sample), is the absolute error the
+/// node would bring into ln k0 at the lower precision. A node whose value is
+/// far below the others may lose all its relative digits without costing
+/// any bits of ln k0.
+fn pilot_profile(sd: &StateData, bits: u32) -> Vec<PilotPoint> {
     let p_lo = quantize(bits + 64);
     let p_hi = p_lo + 128;
     let lo = sd.problem(p_lo);
     let hi = sd.problem(p_hi);
     let nf = f64::from(sd.n);
-    // log-spaced over (0, n): the losses vary smoothly with nu
-    let points: Vec<f64> = (0..16)
-        .map(|i| nf * 10f64.powf(-4.0 + 4.0 * (f64::from(i) + 0.5) / 16.0) * 0.998_7)
+    let scale = nf.powi(3) / 2.0;
+    // log-spaced over [1e-5, 0.99 n] (down to the smallest nodes of the
+    // first panel): the losses vary smoothly with nu; the odd factor keeps
+    // the points off the integers
+    let lo_nu = 1e-5;
+    let hi_nu = 0.99 * nf;
+    let count = 24;
+    let points: Vec<f64> = (0..count)
+        .map(|i| {
+            let t = f64::from(i) / f64::from(count - 1);
+            lo_nu * (hi_nu / lo_nu).powf(t) * 0.998_7
+        })
         .collect();
-    let losses: Vec<i32> = points
+    let found: Vec<(i32, i32)> = points
         .par_iter()
         .map(|&x| {
             let mut m = Meter::new();
             let a = lo.sample(&Float::with_val(p_lo, x), &mut m).value;
             let mut m2 = Meter::new();
-            let b = hi.sample(&Float::with_val(p_hi, x), &mut m2).value;
-            if !a.is_finite() || !b.is_finite() || b.is_zero() {
-                return p_lo as i32;
+            let hi_sample = hi.sample(&Float::with_val(p_hi, x), &mut m2);
+            let b = hi_sample.value;
+            if !a.is_finite() || !b.is_finite() {
+                return (p_lo as i32 + 64, 0);
             }
+            // contribution scale of the node: (n^3/2) nu |I| (log-spaced points)
+            let weight = Float::with_val(p_hi, x) * scale;
+            let mag = exp2_of(&Float::with_val(p_hi, &b * &weight));
             let d = Float::with_val(p_hi, Float::with_val(p_hi, &a) - &b).abs();
+            // the first panel splits I into I_an + I_log ln nu: each part
+            // carries its own rounding
+            let log_part = Float::with_val(p_hi, &hi_sample.log_coef * x.ln()) * &weight;
+            let metered = m.loss_bits + mag.max(exp2_of(&log_part));
             if d.is_zero() {
-                return m.loss_bits;
+                return (metered, mag);
             }
-            let rel_exp = d.get_exp().unwrap_or(0) - b.get_exp().unwrap_or(0);
-            (p_lo as i32 + rel_exp).max(m.loss_bits)
+            // absolute error on ln k0 at p_lo is |d| (n^3/2) nu = 2^(loss - p_lo)
+            let seen = p_lo as i32 + exp2_of(&Float::with_val(p_hi, &d * &weight));
+            (seen.max(metered), mag)
         })
         .collect();
-    let worst = losses.into_iter().max().unwrap_or(0).max(0) as u32;
-    worst + 40
+    points
+        .into_iter()
+        .zip(found)
+        .map(|(nu, (loss, mag))| PilotPoint { nu, loss, mag })
+        .collect()
+}
+
+/// Pilot points that speak for a panel: those within a factor 2 of it (all
+/// points below 2 nu1 for the first panel), else the nearest one.
+fn panel_points(profile: &[PilotPoint], panel: &Panel) -> Vec<PilotPoint> {
+    let (lo, hi) = (panel.b / 2.0, panel.e * 2.0);
+    let inside: Vec<PilotPoint> = profile
+        .iter()
+        .filter(|p| (lo..=hi).contains(&p.nu) || (panel.first && p.nu <= hi))
+        .copied()
+        .collect();
+    if !inside.is_empty() {
+        return inside;
+    }
+    let mid = 0.5 * (panel.b + panel.e);
+    profile
+        .iter()
+        .min_by(|a, b| {
+            let da = (a.nu - mid).abs();
+            let db = (b.nu - mid).abs();
+            da.partial_cmp(&db).unwrap_or(std::cmp::Ordering::Equal)
+        })
+        .copied()
+        .into_iter()
+        .collect()
+}
+
+/// Safety margin (bits) on top of the worst pilot loss of a panel. The pair
+/// of rules of [`converge_panel`] differs by 32 bits, so rounding errors the
+/// pilot missed show up in their difference.
+const GUARD_MARGIN: i32 = 24;
+
+/// Starting plan of one panel: (guard bits, pilot magnitude exponent of
+/// the panel's contribution to ln k0).
+fn panel_plan(profile: &[PilotPoint], panel: &Panel) -> (u32, i32) {
+    let pts = panel_points(profile, panel);
+    let worst = pts.iter().map(|p| p.loss).max().unwrap_or(0);
+    // the panel's contribution is about its largest node scale, times the
+    // ratio of its width to the log-spacing of the points (at most 2 here)
+    let mag = pts.iter().map(|p| p.mag).max().unwrap_or(0) + 1;
+    let guard = (worst.max(0) + GUARD_MARGIN) as u32;
+    (guard, mag)
+}
+
+/// Problems at several working precisions, built on first use.
+struct Problems<'a> {
+    sd: &'a StateData,
+    built: Vec<Problem>,
+}
+
+impl<'a> Problems<'a> {
+    fn new(sd: &'a StateData) -> Self {
+        Problems {
+            sd,
+            built: Vec::new(),
+        }
+    }
+
+    fn at(&mut self, prec: u32) -> &Problem {
+        let i = match self.built.iter().position(|p| p.two_dsum.prec() == prec) {
+            Some(i) => i,
+            None => {
+                self.built.push(self.sd.problem(prec));
+                self.built.len() - 1
+            }
+        };
+        &self.built[i]
+    }
+}
+
+/// One converged panel: the integral of the finer rule, its error estimate
+/// on the scale of ln k0, and the nodes and bits it took.
+struct PanelResult {
+    value: Float,
+    err: f64,
+    nodes: usize,
+    prec: u32,
+    /// Bits per node the cruder rule of the accepted pair reached relative
+    /// to the panel's size (a lower bound of the convergence rate).
+    rate: f64,
+}
+
+/// Integrates one panel to an error (on the scale of ln k0) below `tol`.
+///
+/// A pair of rules is compared: the cruder (N nodes, p bits) and the finer
+/// ([`finer_nodes`], p + 32 bits); their difference estimates the error of
+/// the cruder rule, and the finer value is returned. While the estimate
+/// misses `tol`, the next pair reuses the finer rule as its cruder one when
+/// its error is expected to meet the tolerance (at [`BITS_PER_NODE`]), and
+/// otherwise starts from the node count that rate predicts.
+///
+/// # Errors
+/// `Err(best)` with the smallest error estimate reached when the panel does
+/// not converge within [`MAX_TRIES`] pairs.
+fn converge_panel(
+    probs: &mut Problems,
+    panel: &Panel,
+    bits: u32,
+    mut guard: u32,
+    mut nodes_a: usize,
+    tol: f64,
+) -> Result<PanelResult, f64> {
+    let n = probs.sd.n;
+    let scale = f64::from(n).powi(3) / 2.0;
+    let mut best = f64::INFINITY;
+    let mut last_err = f64::INFINITY;
+    // the two rules of a pair are at base and base + 32 bits, in either order
+    let mut base = quantize(bits + guard);
+    let mut prec_a = base;
+    let mut coarse: Option<(Float, i32)> = None;
+    for _ in 0..MAX_TRIES {
+        let prec_b = if prec_a == base { base + 32 } else { base };
+        let (va, loss_a) = match coarse.take() {
+            Some(c) => c,
+            None => panel_integral(probs.at(prec_a), panel, nodes_a),
+        };
+        if loss_a + 16 > guard as i32 || !va.is_finite() {
+            // the meter saw more cancellation than the pilot: more bits
+            guard = (loss_a.max(guard as i32) + GUARD_MARGIN) as u32;
+            base = quantize(bits + guard);
+            prec_a = base;
+            continue;
+        }
+        let nodes_b = finer_nodes(nodes_a);
+        let (vb, loss_b) = panel_integral(probs.at(prec_b), panel, nodes_b);
+        let loss = loss_a.max(loss_b);
+        if loss + 16 > guard as i32 || !vb.is_finite() {
+            guard = (loss.max(guard as i32) + GUARD_MARGIN) as u32;
+            base = quantize(bits + guard);
+            prec_a = base;
+            continue;
+        }
+        let diff = Float::with_val(prec_a.max(prec_b), &va - &vb)
+            .abs()
+            .to_f64()
+            * scale;
+        // floor: rounding level of the pair after the measured loss
+        let floor = 2f64.powi(loss - base as i32);
+        let err = diff.max(floor) * 2.0;
+        best = best.min(err);
+        if err < tol {
+            let size = Float::with_val(prec_b, vb.abs_ref()).to_f64() * scale;
+            let rate = (size.max(err).log2() - err.log2()) / nodes_a as f64;
+            return Ok(PanelResult {
+                value: vb,
+                err,
+                nodes: nodes_b,
+                prec: prec_a.max(prec_b),
+                rate,
+            });
+        }
+        if nodes_b >= MAX_NODES {
+            break;
+        }
+        if err > last_err * 2f64.powi(-8) {
+            // more nodes did not help: rounding, not the rule, sets the
+            // difference; start again with more bits
+            last_err = f64::INFINITY;
+            guard += 32;
+            base = quantize(bits + guard);
+            prec_a = base;
+            continue;
+        }
+        last_err = err;
+        // expected error of the finer rule at the assumed rate
+        let gained = BITS_PER_NODE * (nodes_b - nodes_a) as f64;
+        if err.log2() - gained < tol.log2() - 4.0 {
+            coarse = Some((vb, loss_b));
+            nodes_a = nodes_b;
+            prec_a = prec_b;
+        } else {
+            let more = (err.log2() - tol.log2() + 4.0) / BITS_PER_NODE;
+            nodes_a = even_nodes(nodes_a as f64 + more).max(finer_nodes(nodes_b));
+        }
+    }
+    Err(best)
 }
 
 /// Relative cost of [`ln_k0`] for (n, l) at `digits` (arbitrary units, for
@@ -299,50 +571,75 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
     let goal = 10f64.powi(-(digits as i32));
     // goal bits on ln k0, plus one decimal of margin
     let bits = ((f64::from(digits) + 2.0) * std::f64::consts::LOG2_10).ceil() as u32 + 8;
-    let mut guard = pilot_guard(&sd, bits);
-    let mut best = f64::INFINITY;
-    for level in 0..4u32 {
-        // pass A, repeated with more bits while the measured loss eats the guard
-        let (va, loss_a, _) = loop {
-            let (v, loss, nodes) = evaluate(&sd, bits, level, bits + guard);
-            if loss.max(0) as u32 + 16 > guard {
-                guard = loss.max(0) as u32 + 40;
-                continue;
-            }
-            break (v, loss, nodes);
+    let profile = pilot_profile(&sd, bits);
+    let first_pole = sd
+        .chans
+        .iter()
+        .flat_map(|c| c.poles.iter().map(|p| p.nprime))
+        .min();
+    let pans = panels(sd.n, first_pole);
+    // each panel gets an equal share of the error budget
+    let tol = goal / pans.len() as f64;
+    let mut probs = Problems::new(&sd);
+    let mut values: Vec<Float> = Vec::with_capacity(pans.len());
+    let (mut err, mut nodes, mut prec) = (0.0, 0usize, 0u32);
+    let mut rate = FIRST_GUESS_RATE;
+    for panel in &pans {
+        let (guard, mag) = panel_plan(&profile, panel);
+        let start = if panel.first {
+            // the product-rule panel converges more slowly (log factor)
+            nodes_for(mag, tol, FIRST_PANEL_RATE, 4.0)
+        } else {
+            nodes_for(mag, tol, rate, 4.0)
         };
-        let prec_b = quantize(bits + guard + 32);
-        let (vb, loss_b, nodes_b) = evaluate(&sd, bits, level + 1, prec_b);
-        if !va.is_finite() || !vb.is_finite() {
-            guard += 64;
-            continue;
+        match converge_panel(&mut probs, panel, bits, guard, start, tol) {
+            Ok(r) => {
+                if !panel.first {
+                    rate = r.rate.clamp(BITS_PER_NODE, MAX_RATE);
+                }
+                err += r.err;
+                nodes += r.nodes;
+                prec = prec.max(r.prec);
+                values.push(r.value);
+            }
+            Err(panel_best) => {
+                return Err(BetheError::NoConvergence {
+                    method: "green",
+                    n,
+                    l,
+                    achieved: panel_best * pans.len() as f64,
+                    goal,
+                })
+            }
         }
-        let diff = Float::with_val(prec_b, &va - &vb).abs().to_f64();
-        // floor: rounding level of the working precision after the measured loss
-        let floor = 2f64.powi(-(prec_b as i32 - loss_a.max(loss_b).max(0)));
-        let err = diff.max(floor) * 2.0;
-        best = best.min(err);
-        if err < goal {
-            let terms = sd.chans.iter().map(|c| c.coef.len()).sum();
-            return Ok(BetheValue {
-                n,
-                l,
-                value: vb,
-                abs_err: err,
-                digits,
-                method: Method::Green,
-                bits: prec_b,
-                nodes: nodes_b,
-                terms,
-                seconds: t0.elapsed().as_secs_f64(),
-            });
-        }
+    }
+    // panels may differ in precision: sum at the highest
+    let mut s = sd.exact_part(prec);
+    for v in &values {
+        s -= v;
+    }
+    let n3 = u64::from(sd.n).pow(3);
+    let value = Float::with_val(prec, s * n3 / 2u32);
+    if err < goal {
+        let terms = sd.chans.iter().map(|c| c.coef.len()).sum();
+        return Ok(BetheValue {
+            n,
+            l,
+            value,
+            abs_err: err,
+            digits,
+            method: Method::Green,
+            bits: prec,
+            nodes,
+            terms,
+            seconds: t0.elapsed().as_secs_f64(),
+        });
     }
     Err(BetheError::NoConvergence {
         method: "green",
         n,
         l,
-        achieved: best,
+        achieved: err,
         goal,
     })
 }
