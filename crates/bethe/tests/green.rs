@@ -52,6 +52,8 @@ fn error_estimate_covers_higher_precision() {
         (2, 1),
         (20, 0),
         (50, 3),
+        // first-panel rounding once stalled the node refinement here
+        (100, 16),
         (200, 0),
         (200, 1),
         (200, 199),
