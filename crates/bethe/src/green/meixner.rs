@@ -116,7 +116,7 @@ impl Rec {
 /// # Accuracy
 /// Cancellation (in m(a), in the forward recurrence and in the final sum) is
 /// partly recorded in `meter`; the caller measures the rest by comparing
-/// precisions (see `pilot_guard` in the parent module).
+/// precisions (see `pilot_profile` in the parent module).
 pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
     channel_j_with(ch, p, meter, None).0
 }

@@ -223,10 +223,14 @@ fn exp2_of(x: &Float) -> i32 {
     x.get_exp().unwrap_or(-(1 << 20))
 }
 
-/// Binary exponent of the factor n^3/2 that turns the integral into ln k0.
+/// The factor n^3/2 that turns the integral into ln k0.
+fn ln_k0_scale(n: u32) -> f64 {
+    f64::from(n).powi(3) / 2.0
+}
+
+/// Binary exponent of [`ln_k0_scale`].
 fn ln_k0_scale_exp(n: u32) -> i32 {
-    let n3 = f64::from(n).powi(3) / 2.0;
-    n3.log2().ceil() as i32
+    ln_k0_scale(n).log2().ceil() as i32
 }
 
 /// The integral of the sampled integrand over one panel with `nodes` nodes at
@@ -315,7 +319,7 @@ fn pilot_profile(sd: &StateData, bits: u32) -> Vec<PilotPoint> {
     let lo = sd.problem(p_lo);
     let hi = sd.problem(p_hi);
     let nf = f64::from(sd.n);
-    let scale = nf.powi(3) / 2.0;
+    let scale = ln_k0_scale(sd.n);
     // log-spaced over [1e-5, 0.99 n] (down to the smallest nodes of the
     // first panel): the losses vary smoothly with nu; the odd factor keeps
     // the points off the integers
@@ -462,34 +466,41 @@ fn converge_panel(
     mut nodes_a: usize,
     tol: f64,
 ) -> Result<PanelResult, f64> {
-    let n = probs.sd.n;
-    let scale = f64::from(n).powi(3) / 2.0;
+    let scale = ln_k0_scale(probs.sd.n);
     let mut best = f64::INFINITY;
     let mut last_err = f64::INFINITY;
-    // the two rules of a pair are at base and base + 32 bits, in either order
-    let mut base = quantize(bits + guard);
-    let mut prec_a = base;
+    // the two rules of a pair are at base = bits + guard and base + 32 bits,
+    // in either order; `a_high` says the cruder one is at base + 32
+    let mut a_high = false;
     let mut coarse: Option<(Float, i32)> = None;
+    // a loss that eats the guard (the meter saw more cancellation than the
+    // pilot), or a non-finite value: the guard to start again with
+    let short_of_bits = |loss: i32, v: &Float, guard: u32| {
+        (loss + 16 > guard as i32 || !v.is_finite())
+            .then(|| (loss.max(guard as i32) + GUARD_MARGIN) as u32)
+    };
     for _ in 0..MAX_TRIES {
-        let prec_b = if prec_a == base { base + 32 } else { base };
+        let base = quantize(bits + guard);
+        let (prec_a, prec_b) = if a_high {
+            (base + 32, base)
+        } else {
+            (base, base + 32)
+        };
         let (va, loss_a) = match coarse.take() {
             Some(c) => c,
             None => panel_integral(probs.at(prec_a), panel, nodes_a),
         };
-        if loss_a + 16 > guard as i32 || !va.is_finite() {
-            // the meter saw more cancellation than the pilot: more bits
-            guard = (loss_a.max(guard as i32) + GUARD_MARGIN) as u32;
-            base = quantize(bits + guard);
-            prec_a = base;
+        if let Some(g) = short_of_bits(loss_a, &va, guard) {
+            guard = g;
+            a_high = false;
             continue;
         }
         let nodes_b = finer_nodes(nodes_a);
         let (vb, loss_b) = panel_integral(probs.at(prec_b), panel, nodes_b);
         let loss = loss_a.max(loss_b);
-        if loss + 16 > guard as i32 || !vb.is_finite() {
-            guard = (loss.max(guard as i32) + GUARD_MARGIN) as u32;
-            base = quantize(bits + guard);
-            prec_a = base;
+        if let Some(g) = short_of_bits(loss, &vb, guard) {
+            guard = g;
+            a_high = false;
             continue;
         }
         let diff = Float::with_val(prec_a.max(prec_b), &va - &vb)
@@ -519,8 +530,7 @@ fn converge_panel(
             // difference; start again with more bits
             last_err = f64::INFINITY;
             guard += 32;
-            base = quantize(bits + guard);
-            prec_a = base;
+            a_high = false;
             continue;
         }
         last_err = err;
@@ -529,7 +539,7 @@ fn converge_panel(
         if err.log2() - gained < tol.log2() - 4.0 {
             coarse = Some((vb, loss_b));
             nodes_a = nodes_b;
-            prec_a = prec_b;
+            a_high = !a_high;
         } else {
             let more = (err.log2() - tol.log2() + 4.0) / BITS_PER_NODE;
             nodes_a = even_nodes(nodes_a as f64 + more).max(finer_nodes(nodes_b));
