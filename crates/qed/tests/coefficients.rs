@@ -33,6 +33,7 @@ fn a40_magnetic_is_the_schwinger_moment_spin_orbit_energy() {
                 let j = j2 as f64 / 2.0;
                 let lf = l as f64;
                 let ls = (j * (j + 1.0) - lf * (lf + 1.0) - 0.75) / 2.0;
+                // a_e = alpha/(2 pi), Schwinger (1948); spin-orbit form: common practice
                 let derived = 0.5 * (n as f64).powi(3) * r3 * ls;
                 let got = k::a40_magnetic(&lv(n, l, j2));
                 assert!(
@@ -50,15 +51,16 @@ fn a40_magnetic_is_the_schwinger_moment_spin_orbit_energy() {
 /// (Jentschura & Pachucki, Phys. Rev. A 54, 1853 (1996); from memory).
 #[test]
 fn a61_two_p_special_values() {
-    assert!((k::a61(&lv(2, 1, 1)) - 103.0 / 180.0).abs() < 1e-15);
-    assert!((k::a61(&lv(2, 1, 3)) - 29.0 / 90.0).abs() < 1e-15);
+    // 103/180 and 29/90: Jentschura & Pachucki (1996), from memory
+    assert!((k::a61(&lv(2, 1, 1)) - 103.0 / 180.0).abs() < 1e-15); // from memory
+    assert!((k::a61(&lv(2, 1, 3)) - 29.0 / 90.0).abs() < 1e-15); // from memory
 }
 
 /// A61(2S) = (16/3) ln 2 + 67/30 (from memory), an equivalent closed form of
 /// the general-n S-state expression.
 #[test]
 fn a61_two_s_special_value() {
-    let expect = 16.0 / 3.0 * std::f64::consts::LN_2 + 67.0 / 30.0;
+    let expect = 16.0 / 3.0 * std::f64::consts::LN_2 + 67.0 / 30.0; // from memory
     assert!((k::a61(&lv(2, 0, 1)) - expect).abs() < 1e-14);
 }
 
@@ -68,9 +70,9 @@ fn a61_two_s_special_value() {
 fn order_five_coefficients_in_their_original_forms() {
     let pi = std::f64::consts::PI;
     let s = lv(3, 0, 1);
-    let a50 = 4.0 * pi * (139.0 / 128.0 - 0.5 * std::f64::consts::LN_2);
+    let a50 = 4.0 * pi * (139.0 / 128.0 - 0.5 * std::f64::consts::LN_2); // from memory
     assert!((k::a50(&s) - a50).abs() < 1e-14);
-    assert!((k::v50(&s) - 5.0 * pi / 48.0).abs() < 1e-15);
+    assert!((k::v50(&s) - 5.0 * pi / 48.0).abs() < 1e-15); // from memory
     assert_eq!(k::a50(&lv(3, 1, 1)), 0.0);
 }
 
@@ -89,6 +91,7 @@ fn v40_is_the_uehling_contact_term() {
         // |psi(0)|^2 = R(0)^2 / (4 pi) in units of (a_0/Z)^-3.
         let psi0_sq = r0 * r0 / (4.0 * std::f64::consts::PI);
         // Coefficient of (alpha/pi)(Z alpha)^4 m / n^3: -(4/15) pi n^3 |psi(0)|^2.
+        // Uehling contact term -(4/15) alpha (Z alpha) / m^2 delta(r): common practice
         let derived = -4.0 / 15.0 * std::f64::consts::PI * (n as f64).powi(3) * psi0_sq;
         let got = k::v40(&lv(n, 0, 1));
         assert!((got - derived).abs() < 1e-14, "n={n}: {got} vs {derived}");

@@ -20,9 +20,13 @@ fn published_ln_k0(n: u32, l: u32) -> BetheLog {
     BetheLog::new(n, l, v, 1e-15).unwrap()
 }
 
-fn shift(nucleus: &Nucleus, n: u32, l: u32, j2: u32) -> LevelShift {
+fn shift_with(nucleus: &Nucleus, n: u32, l: u32, j2: u32, ln_k0: &BetheLog) -> LevelShift {
     let level = Level::new(n.into(), l.into(), j2.into()).unwrap();
-    level_shift(&level, nucleus, &published_ln_k0(n, l)).unwrap()
+    level_shift(&level, nucleus, ln_k0).unwrap()
+}
+
+fn shift(nucleus: &Nucleus, n: u32, l: u32, j2: u32) -> LevelShift {
+    shift_with(nucleus, n, l, j2, &published_ln_k0(n, l))
 }
 
 /// ln k0(n, l) from the Green's-function engine at 20 digits.
@@ -34,11 +38,12 @@ fn engine_ln_k0(n: u32, l: u32) -> BetheLog {
 
 /// The shift of a level with the published ln k0 for n <= 2, else the engine's.
 fn shift_any_n(nucleus: &Nucleus, n: u32, l: u32, j2: u32) -> LevelShift {
-    if n <= 2 {
-        return shift(nucleus, n, l, j2);
-    }
-    let level = Level::new(n.into(), l.into(), j2.into()).unwrap();
-    level_shift(&level, nucleus, &engine_ln_k0(n, l)).unwrap()
+    let ln_k0 = if n <= 2 {
+        published_ln_k0(n, l)
+    } else {
+        engine_ln_k0(n, l)
+    };
+    shift_with(nucleus, n, l, j2, &ln_k0)
 }
 
 #[test]
