@@ -112,6 +112,13 @@ fn file_fail(name: &str, why: String) -> CheckLine {
 
 /// A failed line for the record at 0-based index `i` of file `name` that
 /// the CSV reader could not read.
+/// A failing line for the first of `cols` that the header lacks, if any.
+fn missing_column(name: &str, headers: &csv::StringRecord, cols: &[&str]) -> Option<CheckLine> {
+    cols.iter()
+        .find(|c| !headers.iter().any(|h| h == **c))
+        .map(|missing| file_fail(name, format!("missing column '{missing}'")))
+}
+
 fn record_fail(name: &str, i: usize, e: &csv::Error) -> CheckLine {
     fail(
         format!("{name} record {}", i + 1),
@@ -210,8 +217,8 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Ctx) -> Vec<CheckLine> {
         return run_interval_file(name, &mut rdr, &headers, ctx);
     }
     let cols = ["quantity", "n", "l", "expected", "tolerance", "source"];
-    if let Some(missing) = cols.iter().find(|c| col(c).is_none()) {
-        out.push(file_fail(name, format!("missing column '{missing}'")));
+    if let Some(fail) = missing_column(name, &headers, &cols) {
+        out.push(fail);
         return out;
     }
     for (i, rec) in rdr.records().enumerate() {
@@ -356,8 +363,8 @@ fn run_interval_file(
         "measured_unc_mhz",
         "source",
     ];
-    if let Some(missing) = cols.iter().find(|c| col(c).is_none()) {
-        out.push(file_fail(name, format!("missing column '{missing}'")));
+    if let Some(fail) = missing_column(name, headers, &cols) {
+        out.push(fail);
         return out;
     }
     for (i, rec) in rdr.records().enumerate() {
