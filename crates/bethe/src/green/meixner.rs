@@ -22,19 +22,19 @@ use rug::{Assign, Float};
 
 /// Photon-energy point data for the node nu (shared by both channels).
 #[derive(Debug, Clone)]
-pub struct NuPoint {
+pub(crate) struct NuPoint {
     /// nu (bohr-like scale of the Sturmians), 0 < nu < n.
-    pub nu: Float,
+    pub(crate) nu: Float,
     /// tau = (nu - n)/(nu + n).
-    pub tau: Float,
+    pub(crate) tau: Float,
     /// z, 1 - z and mu = -ln z.
-    pub zp: ZPoint,
+    pub(crate) zp: ZPoint,
 }
 
 impl NuPoint {
     /// Builds the point for state principal number `n` without cancellation:
     /// 1 - z = 4 n nu / (n + nu)^2, mu = 2 ln((n + nu)/(n - nu)).
-    pub fn new(n: u32, nu: &Float) -> Self {
+    pub(crate) fn new(n: u32, nu: &Float) -> Self {
         let prec = nu.prec();
         let np = Float::with_val(prec, nu + n);
         let nm = Float::with_val(prec, nu - n);
@@ -53,11 +53,11 @@ impl NuPoint {
 /// J_L at one node, with the coefficient of -ln(mu) separated:
 /// J = regular - log_coef * ln(mu) (log_coef is 0 when z < Z_SERIES).
 #[derive(Debug, Clone)]
-pub struct JValue {
+pub(crate) struct JValue {
     /// weight * J_L(nu).
-    pub j: Float,
+    pub(crate) j: Float,
     /// weight * (coefficient of -ln mu in J_L).
-    pub log_coef: Float,
+    pub(crate) log_coef: Float,
 }
 
 /// Work space for the Meixner three-term recurrence
@@ -116,14 +116,15 @@ impl Rec {
 /// # Accuracy
 /// Cancellation (in m(a), in the forward recurrence and in the final sum) is
 /// partly recorded in `meter`; the caller measures the rest by comparing
-/// precisions (see `pilot_profile` in the parent module).
-pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
+/// precisions (see the pilot module).
+#[cfg(test)]
+pub(crate) fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
     channel_j_with(ch, p, meter, None).0
 }
 
-/// As [`channel_j`], with Phi(z, 1, L+1-nu) supplied by the caller when known;
+/// weight * J_L(nu) for one channel (as `channel_j`), with Phi(z, 1, L+1-nu) supplied by the caller when known;
 /// also returns the Phi used (None on the series route).
-pub fn channel_j_with(
+pub(crate) fn channel_j_with(
     ch: &ChannelFloat,
     p: &NuPoint,
     meter: &mut Meter,
@@ -193,6 +194,90 @@ pub fn channel_j_with(
         log_coef: Float::with_val(prec, p2 * &st.log_coef) * scale,
     };
     (jv, phi_used)
+}
+
+/// weight * <phi_s|G_L|phi_s> for several source functions phi_s of one
+/// channel at one node (each given by its matched-Sturmian coefficients):
+/// the Meixner functions M_i(-a), the functions of the second kind rho_i and
+/// the Stieltjes transform are computed once and shared by every source.
+/// Returns one [`JValue`] per source, and the Phi used (None on the series
+/// route).
+///
+/// # Accuracy
+/// As [`channel_j_with`], whose computation this is for one source; the
+/// cancellation of every source's final sum is recorded in `meter`.
+pub(crate) fn channel_j_sources(
+    big_l: u32,
+    beta: u32,
+    ws2: &Float,
+    coefs: &[Vec<Float>],
+    p: &NuPoint,
+    meter: &mut Meter,
+    phi_hint: Option<&Float>,
+) -> (Vec<JValue>, Option<Float>) {
+    let prec = p.nu.prec();
+    let zp = &p.zp;
+    let a = Float::with_val(prec, (big_l + 1) - Float::with_val(prec, &p.nu));
+    let m = coefs.iter().map(Vec::len).max().unwrap_or(0);
+    if m == 0 {
+        let zero = JValue {
+            j: Float::with_val(prec, 0),
+            log_coef: Float::with_val(prec, 0),
+        };
+        return (vec![zero; coefs.len()], None);
+    }
+    let mut rec = Rec::new(beta, &a, zp);
+    // M_i(-a): M_0 = 1, M_1 = 1 + a (1-z)/(z beta)
+    let zb = Float::with_val(prec, &zp.z * beta);
+    let mut mm: Vec<Float> = Vec::with_capacity(m);
+    mm.push(Float::with_val(prec, 1));
+    if m > 1 {
+        let m1 = Float::with_val(prec, &rec.c1 / &zb) + 1u32;
+        mm.push(m1);
+    }
+    for i in 1..m.saturating_sub(1) {
+        let next = rec.forward(i, &mm[i], &mm[i - 1]);
+        mm.push(next);
+    }
+    let (st, phi_used) = meixner_stieltjes(beta, &a, zp, meter, phi_hint);
+    let rho = second_kind(&mut rec, &a, zp, &st.value, m, meter);
+    let mtau = Float::with_val(prec, -&p.tau);
+    let scale = Float::with_val(prec, ws2 * &p.nu);
+    let mut out = Vec::with_capacity(coefs.len());
+    let mut eta = Float::new(prec);
+    let mut pw = Float::new(prec);
+    let mut em = Float::new(prec);
+    let mut inner = Float::new(prec);
+    for coef in coefs {
+        // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i,
+        // eta_j = coef_j (-tau)^j
+        let mut s_prev = Float::with_val(prec, 0);
+        let mut t = Float::with_val(prec, 0);
+        let mut biggest = Float::with_val(prec, 0);
+        pw.assign(1);
+        for (j, c) in coef.iter().enumerate() {
+            eta.assign(c * &pw);
+            pw *= &mtau;
+            em.assign(&eta * &mm[j]);
+            inner.assign(&s_prev * 2u32);
+            inner += &em;
+            inner *= &eta;
+            inner *= &rho[j];
+            if inner.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
+                biggest.assign(&inner);
+            }
+            t += &inner;
+            s_prev += &em;
+        }
+        meter.term(&biggest);
+        meter.result(&t);
+        let p2 = Float::with_val(prec, &s_prev * &s_prev);
+        out.push(JValue {
+            j: Float::with_val(prec, &t * &scale),
+            log_coef: Float::with_val(prec, p2 * &st.log_coef) * &scale,
+        });
+    }
+    (out, phi_used)
 }
 
 /// rho_i, i = 0..m, from rho_0 = m(a): forward recurrence when it is stable
@@ -348,8 +433,10 @@ impl RootRatio {
 }
 
 /// Reference evaluation by direct summation over k of the overlaps (no
-/// closed form, no recurrence); cost O(K M). Used to test [`channel_j`].
-pub fn channel_j_direct(ch: &ChannelFloat, p: &NuPoint, kmax: usize) -> Float {
+/// closed form, no recurrence); cost O(K M). Used to test `channel_j`.
+#[cfg(test)]
+pub(crate) fn channel_j_direct(ch: &ChannelFloat, p: &NuPoint, kmax: usize) -> Float {
+    use rug::ops::Pow;
     let prec = p.nu.prec();
     let beta = ch.beta;
     let zp = &p.zp;
@@ -395,5 +482,3 @@ pub fn channel_j_direct(ch: &ChannelFloat, p: &NuPoint, kmax: usize) -> Float {
     let omz_beta = Float::with_val(prec, zp.one_minus_z.clone().pow(beta));
     sum * omz_beta * &ch.ws2 * &p.nu
 }
-
-use rug::ops::Pow;
