@@ -124,9 +124,24 @@ fn exact_sum_rules_spread_to_n200() {
 /// the exact resolvent functions, which the spectral sum does not use).
 #[test]
 fn spectral_power_sums_match_exact() {
-    let mut states = vec![(1i64, 0i64), (2, 0), (2, 1), (3, 2), (7, 3), (12, 0), (25, 1)];
+    let mut states = vec![
+        (1i64, 0i64),
+        (2, 0),
+        (2, 1),
+        (3, 2),
+        (7, 3),
+        (12, 0),
+        (25, 1),
+    ];
     if heavy() {
-        states.extend([(60, 0), (60, 59), (120, 1), (200, 0), (200, 100), (200, 199)]);
+        states.extend([
+            (60, 0),
+            (60, 59),
+            (120, 1),
+            (200, 0),
+            (200, 100),
+            (200, 199),
+        ]);
     }
     let failures: Vec<String> = states
         .par_iter()
@@ -144,7 +159,10 @@ fn spectral_power_sums_match_exact() {
                     let ex = exact_power_sum(n, l, i64::from(row.k)).expect("exact");
                     let d = diff(&row.s, &Float::with_val(512, &ex));
                     (d > row.s_err || row.s_err >= 1e-15).then(|| {
-                        format!("({n},{l}) k={}: |S - exact| = {d:e}, err {:e}", row.k, row.s_err)
+                        format!(
+                            "({n},{l}) k={}: |S - exact| = {d:e}, err {:e}",
+                            row.k, row.s_err
+                        )
                     })
                 })
                 .collect::<Vec<_>>()
@@ -216,8 +234,8 @@ fn cross(n: i64, l: i64, digits: u32) -> Result<(), String> {
     let s = Settings::with_digits(digits);
     let g = green_sums(n, l, &all_k(), &s).map_err(|e| format!("green ({n},{l}): {e}"))?;
     let gauge = [Gauge::Velocity, Gauge::Length, Gauge::Acceleration][(n + l) as usize % 3];
-    let p = spectral_sums(n, l, &all_k(), gauge, &s)
-        .map_err(|e| format!("spectral ({n},{l}): {e}"))?;
+    let p =
+        spectral_sums(n, l, &all_k(), gauge, &s).map_err(|e| format!("spectral ({n},{l}): {e}"))?;
     let goal = 10f64.powi(-(digits as i32));
     let mut bad = Vec::new();
     for (a, b) in g.rows.iter().zip(&p.rows) {
@@ -249,7 +267,9 @@ fn cross(n: i64, l: i64, digits: u32) -> Result<(), String> {
 #[test]
 fn green_against_spectral_all_states_up_to_n12() {
     let max = if heavy() { 16 } else { 12 };
-    let states: Vec<(i64, i64)> = (1..=max).flat_map(|n| (0..n).map(move |l| (n, l))).collect();
+    let states: Vec<(i64, i64)> = (1..=max)
+        .flat_map(|n| (0..n).map(move |l| (n, l)))
+        .collect();
     let failures: Vec<String> = states
         .par_iter()
         .filter_map(|&(n, l)| cross(n, l, 12).err())
@@ -257,14 +277,14 @@ fn green_against_spectral_all_states_up_to_n12() {
     assert!(failures.is_empty(), "{}", failures.join("\n"));
 }
 
-/// Green against spectral on a spread up to n = 200 (heavy only: the
-/// spectral sums of n >= 60 take many seconds each).
+/// Green against spectral on a spread up to n = 200 (n > 60 with
+/// `KZERO_HEAVY` only: those spectral sums take several seconds each).
 #[test]
 fn green_against_spectral_large_n() {
     let states: Vec<(i64, i64)> = if heavy() {
         vec![(25, 0), (25, 24), (60, 1), (120, 60), (200, 0), (200, 199)]
     } else {
-        vec![(25, 0), (25, 24)]
+        vec![(25, 0), (25, 24), (60, 1)]
     };
     let failures: Vec<String> = states
         .par_iter()
@@ -389,7 +409,10 @@ fn mpmath_reference() {
         };
         let ds = diff(&row.s, &f(w[2]));
         let dl = diff(&row.log_sum, &f(w[3]));
-        assert!(ds < tol && dl < tol, "{line}: S {ds:e}, L {dl:e}, tol {tol:e}");
+        assert!(
+            ds < tol && dl < tol,
+            "{line}: S {ds:e}, L {dl:e}, tol {tol:e}"
+        );
         seen += 1;
     }
     assert_eq!(seen, 12, "reference lines");

@@ -140,7 +140,7 @@ fn integer_form(a: &[Rational]) -> (Vec<Integer>, Integer) {
     }
     let nums = a
         .iter()
-        .map(|c| Integer::from(c.numer() * Integer::from(&den / c.denom())))
+        .map(|c| c.numer() * Integer::from(&den / c.denom()))
         .collect();
     (nums, den)
 }

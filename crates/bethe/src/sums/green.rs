@@ -132,7 +132,12 @@ impl Exact {
                 s2 = &exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha));
                 coefs.push(exp.coef);
             }
-            chans.push((big_l, 2 * big_l + 2, Rational::from(&ch.weight * &s2), coefs));
+            chans.push((
+                big_l,
+                2 * big_l + 2,
+                Rational::from(&ch.weight * &s2),
+                coefs,
+            ));
             for np in (big_l + 1)..n {
                 let low = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
                 let r = radial_dipole(&low, &st)?;

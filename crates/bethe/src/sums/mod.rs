@@ -128,8 +128,9 @@ pub struct SumRow {
     pub k: i32,
     /// S(k) = sum f D^k (D in Z^2 Ry).
     pub s: Float,
-    /// Estimated absolute error of `s` (0 when S(k) is exact up to the
-    /// rounding of `s`, whose precision is far beyond the goal).
+    /// Estimated absolute error of `s` (for the Green's-function method,
+    /// where S(k) is exact, the bound on its rounding to the working
+    /// precision).
     pub s_err: f64,
     /// L(k) = sum f D^k ln|D|.
     pub log_sum: Float,
@@ -218,7 +219,10 @@ pub fn exact_power_sum(n: i64, l: i64, k: i64) -> Result<Rational, BetheError> {
     let k = k as i32;
     let depth = depth_for(k);
     let sc = chain::StateChains::new(n, l, depth)?;
-    let m = sc.moment(k - 1).expect("moment within the chain depth").clone();
+    let m = sc
+        .moment(k - 1)
+        .expect("moment within the chain depth")
+        .clone();
     Ok(m * factor(k))
 }
 
@@ -304,7 +308,8 @@ pub fn spectral_sums(
 /// # Accuracy
 /// L(k) carries an error estimate by refinement (pairs of Gauss rules at
 /// two precisions, as for ln k0) below 10^-digits, or the call fails;
-/// S(k) is exact and rounded far beyond the goal (`s_err` = 0).
+/// S(k) is exact, rounded once to the working precision (`s_err` is the
+/// bound of that rounding, far below the goal).
 ///
 /// # Errors
 /// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 200),
@@ -331,10 +336,13 @@ pub fn green_sums(
             let m = sc.moment(k - 1).expect("moment within the chain depth");
             let s_exact = Rational::from(m * &f);
             let prec = lv.prec();
+            let s = Float::with_val(prec, &s_exact);
+            // exact, rounded once to `prec` bits
+            let s_err = s.to_f64().abs() * 2f64.powi(1 - prec as i32);
             SumRow {
                 k,
-                s: Float::with_val(prec, &s_exact),
-                s_err: 0.0,
+                s,
+                s_err,
                 log_sum: Float::with_val(prec, &lv * &f),
                 log_err: lerr * f.to_f64(),
             }

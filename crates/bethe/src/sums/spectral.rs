@@ -11,8 +11,8 @@
 
 use crate::error::BetheError;
 use crate::spectral::{
-    cheb_order, exact_terms, form_of, pow_float, pow_rat, quadrature, split_point, tail,
-    ExactTerm, EXACT_MAX_N,
+    cheb_order, exact_terms, form_of, pow_float, pow_rat, quadrature, split_point, tail, ExactTerm,
+    EXACT_MAX_N,
 };
 use crate::value::Gauge;
 use kzero_basis::continuum::{BoundFreeKernel, DipoleForm};
@@ -350,7 +350,12 @@ pub(crate) fn vector_sum(
     };
     // bits for the goals on the scale of each sum: the neighbours n +- 1
     // (exact, length form) dominate the sums of negative powers
-    let near = exact_terms(&prob.state, DipoleForm::Length, n.saturating_sub(1).max(1), n + 1)?;
+    let near = exact_terms(
+        &prob.state,
+        DipoleForm::Length,
+        n.saturating_sub(1).max(1),
+        n + 1,
+    )?;
     let digits_bits = comps
         .iter()
         .enumerate()
@@ -407,18 +412,18 @@ pub(crate) fn vector_sum(
         let mut errs = Vec::with_capacity(comps.len());
         let mut ok = true;
         let mut ratio = 0.0f64;
-        for c in 0..comps.len() {
+        for (c, comp) in comps.iter().enumerate() {
             let diff = Float::with_val(53, &r1.values[c] - &r2.values[c])
                 .abs()
                 .to_f64();
             let err = diff.max(r2.est[c]);
-            if err >= comps[c].goal || err.is_nan() {
+            if err >= comp.goal || err.is_nan() {
                 ok = false;
             }
-            if err / comps[c].goal > ratio {
-                ratio = err / comps[c].goal;
-                best = err * comps[c].scale;
-                worst_goal = comps[c].goal * comps[c].scale;
+            if err / comp.goal > ratio {
+                ratio = err / comp.goal;
+                best = err * comp.scale;
+                worst_goal = comp.goal * comp.scale;
             }
             errs.push(err);
         }
