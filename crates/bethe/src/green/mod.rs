@@ -46,7 +46,7 @@ pub mod stieltjes;
 #[cfg(test)]
 mod tests;
 
-use crate::settings::validate_state;
+use crate::settings::{meet_significant, validate_state, Goal};
 use crate::{BetheError, BetheValue, Method, Settings};
 use channel::{channels, ChannelData, ChannelFloat};
 use integrand::{PoleFloat, Problem};
@@ -575,6 +575,9 @@ pub fn cost_estimate(n: u32, l: u32, digits: u32) -> f64 {
 pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheError> {
     settings.validate()?;
     let (n, l) = validate_state(n, l, "green")?;
+    if settings.goal == Goal::Significant {
+        return meet_significant(n, l, settings, |s| ln_k0(n.into(), l.into(), s));
+    }
     let t0 = Instant::now();
     let sd = StateData::new(n, l)?;
     let digits = settings.digits;
@@ -638,6 +641,7 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
             value,
             abs_err: err,
             digits,
+            goal: Goal::Absolute,
             method: Method::Green,
             bits: prec,
             nodes,
