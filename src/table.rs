@@ -238,6 +238,7 @@ impl Journal {
 pub fn run(a: &TableArgs) -> Result<(), AppError> {
     let settings = settings_from_args(a)?;
     let format = if a.json { Format::Json } else { a.format };
+    interrupt::on_stop(stop_hint(a, format))?;
     let shard = a.shard.unwrap_or(Shard::WHOLE);
     let threads = a.threads.map(|t| t as usize).unwrap_or_else(|| {
         std::thread::available_parallelism()
@@ -307,8 +308,6 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             });
         }
     }
-    interrupt::on_stop(stop_hint(a, format))?;
-
     let done: std::collections::BTreeSet<(u32, u32)> =
         table.rows.iter().map(|r| (r.n, r.l)).collect();
     let todo: Vec<((u32, u32), f64)> = planned
