@@ -44,6 +44,9 @@ impl From<kzero_bethe::BetheError> for AppError {
             | E::OutOfRange { .. }
             | E::DigitsOutOfRange { .. }
             | E::GoalOutOfReach { .. }
+            | E::PowerOutOfRange { .. }
+            | E::NoPowers
+            | E::GoalUnsupported { .. }
             | E::GaugeUnsupported { .. } => AppError::BadInput(e.to_string()),
             E::Basis(ref b) => AppError::from(b.clone()),
             _ => AppError::Other(e.to_string()),

@@ -88,6 +88,14 @@ pub enum BetheError {
         /// Largest supported k.
         max: i32,
     },
+    /// A kind of accuracy goal that a computation does not offer.
+    #[error("{what} take an absolute goal only (--digits), not {goal} digits")]
+    GoalUnsupported {
+        /// The goal's name.
+        goal: &'static str,
+        /// What was asked for.
+        what: &'static str,
+    },
     /// An empty list of powers k.
     #[error("no power k was requested")]
     NoPowers,

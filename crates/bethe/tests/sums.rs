@@ -202,7 +202,7 @@ fn l2_is_the_bethe_logarithm() {
                 diff(&row.log_sum, &want) < tol,
                 "({n},{l}) {}: L(2) = {}",
                 r.method.name(),
-                r.value_string(&row.log_sum)
+                r.printed(&row.log_sum, row.log_err).value
             );
         }
     }
@@ -246,11 +246,11 @@ fn cross(n: i64, l: i64, digits: u32) -> Result<(), String> {
                 "({n},{l}) k={} {}: S {} vs {} (|d| {ds:e}), L {} +- {:e} vs {} +- {:e} (|d| {dl:e})",
                 a.k,
                 gauge.name(),
-                g.value_string(&a.s),
-                p.value_string(&b.s),
-                g.value_string(&a.log_sum),
+                g.printed(&a.s, a.s_err).value,
+                p.printed(&b.s, b.s_err).value,
+                g.printed(&a.log_sum, a.log_err).value,
                 a.log_err,
-                p.value_string(&b.log_sum),
+                p.printed(&b.log_sum, b.log_err).value,
                 b.log_err
             ));
         }
@@ -446,6 +446,10 @@ fn bad_input_is_a_typed_error() {
     assert!(matches!(
         spectral_sums(2, 0, &[0], Gauge::Length, &Settings::with_digits(3)),
         Err(BetheError::DigitsOutOfRange { .. })
+    ));
+    assert!(matches!(
+        green_sums(2, 0, &[0], &Settings::significant(10)),
+        Err(BetheError::GoalUnsupported { .. })
     ));
     assert!(matches!(
         exact_power_sum(2, 0, -7),

@@ -24,6 +24,16 @@
 //! part)/3, S(-2) = alpha/4 (alpha the static dipole polarizability in
 //! bohr^3, same-n states left out), and L(2) = 16 ln k0(n, l)/(3 n^3).
 //!
+//! ```
+//! use kzero_bethe::{sums, Settings};
+//! let r = sums::green_sums(1, 0, &[-2, 0], &Settings::with_digits(20)).unwrap();
+//! // static polarizability of 1s: 4 S(-2) = 9/2 bohr^3 (exact here)
+//! assert!((r.row(-2).unwrap().s.to_f64() * 4.0 - 4.5).abs() < 1e-15);
+//! // mean excitation energy: I(0) = exp(ln I(0)) Ry, about 1.1018 Ry
+//! let (ln_i, err) = r.row(0).unwrap().ln_i().unwrap();
+//! assert!(err < 1e-20 && (ln_i.to_f64().exp() - 1.1018).abs() < 1e-4);
+//! ```
+//!
 //! ## Method
 //! Two independent methods, as for ln k0:
 //!
@@ -67,8 +77,8 @@ mod green;
 pub(crate) mod spectral;
 
 use crate::error::BetheError;
-use crate::settings::{validate_state, Settings};
-use crate::value::{decimal_string, format_err, Gauge, Method};
+use crate::settings::{validate_state, Goal, Settings};
+use crate::value::{printed, Gauge, Method, Printed};
 use rug::{Float, Rational};
 use std::time::Instant;
 
@@ -108,6 +118,20 @@ pub fn validate_powers(ks: &[i64]) -> Result<Vec<i32>, BetheError> {
 /// Every supported power, [`K_MIN`]..=[`K_MAX`].
 pub fn all_powers() -> Vec<i32> {
     (K_MIN..=K_MAX).collect()
+}
+
+/// The digits range, and the absolute goal (the only one the sums take:
+/// S(2) vanishes for l >= 1, and the sums of one state span many orders of
+/// magnitude).
+fn check_settings(settings: &Settings) -> Result<(), BetheError> {
+    settings.validate()?;
+    if settings.goal != Goal::Absolute {
+        return Err(BetheError::GoalUnsupported {
+            goal: settings.goal.name(),
+            what: "the dipole sums",
+        });
+    }
+    Ok(())
 }
 
 /// The factor 2^(k+1)/3 from velocity-form sums in hartree to S(k), L(k).
@@ -187,14 +211,11 @@ impl DipoleSums {
         self.rows.iter().find(|r| r.k == k)
     }
 
-    /// A value as a decimal string with D + 2 digits after the point.
-    pub fn value_string(&self, x: &Float) -> String {
-        decimal_string(x, self.digits as usize + 2)
-    }
-
-    /// An error estimate as a short decimal string, e.g. `3.1e-24`.
-    pub fn err_string(e: f64) -> String {
-        format_err(e)
+    /// A value with its error estimate as printed: D + 2 digits after the
+    /// point, and the error rounded up with the rounding of the decimal
+    /// folded in (the printed-value rule of [`crate::value::printed`]).
+    pub fn printed(&self, x: &Float, err: f64) -> Printed {
+        printed(x, err, self.digits as usize + 2)
     }
 }
 
@@ -245,7 +266,8 @@ fn depth_for(k: i32) -> u32 {
 ///
 /// # Errors
 /// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 200),
-/// [`BetheError::DigitsOutOfRange`], [`BetheError::PowerOutOfRange`],
+/// [`BetheError::DigitsOutOfRange`], [`BetheError::GoalUnsupported`]
+/// (a significant-digit goal), [`BetheError::PowerOutOfRange`],
 /// [`BetheError::NoPowers`], [`BetheError::NoConvergence`].
 pub fn spectral_sums(
     n: i64,
@@ -255,7 +277,7 @@ pub fn spectral_sums(
     settings: &Settings,
 ) -> Result<DipoleSums, BetheError> {
     let t0 = Instant::now();
-    settings.validate()?;
+    check_settings(settings)?;
     let (n, l) = validate_state(n, l, "spectral")?;
     let ks = validate_powers(ks)?;
     let goal = 10f64.powi(-(settings.digits as i32));
@@ -313,7 +335,8 @@ pub fn spectral_sums(
 ///
 /// # Errors
 /// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 200),
-/// [`BetheError::DigitsOutOfRange`], [`BetheError::PowerOutOfRange`],
+/// [`BetheError::DigitsOutOfRange`], [`BetheError::GoalUnsupported`]
+/// (a significant-digit goal), [`BetheError::PowerOutOfRange`],
 /// [`BetheError::NoPowers`], [`BetheError::NoConvergence`].
 pub fn green_sums(
     n: i64,
@@ -322,7 +345,7 @@ pub fn green_sums(
     settings: &Settings,
 ) -> Result<DipoleSums, BetheError> {
     let t0 = Instant::now();
-    settings.validate()?;
+    check_settings(settings)?;
     let (n, l) = validate_state(n, l, "green")?;
     let ks = validate_powers(ks)?;
     let depth = ks.iter().map(|&k| depth_for(k)).max().unwrap_or(0);
