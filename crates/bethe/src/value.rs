@@ -36,6 +36,9 @@ pub enum Gauge {
 }
 
 impl Gauge {
+    /// The three forms, in the order velocity, length, acceleration.
+    pub const ALL: [Gauge; 3] = [Gauge::Velocity, Gauge::Length, Gauge::Acceleration];
+
     /// The name used on the command line: `velocity`, `length`, `acceleration`.
     pub fn name(self) -> &'static str {
         match self {
