@@ -32,4 +32,4 @@ pub mod value;
 
 pub use error::BetheError;
 pub use settings::Settings;
-pub use value::{BetheValue, Gauge, Method};
+pub use value::{agreement, Agreement, BetheValue, Gauge, Method, UnknownName};
