@@ -40,6 +40,7 @@ impl From<kzero_engine::EngineError> for AppError {
     fn from(e: kzero_engine::EngineError) -> Self {
         match e.class() {
             kzero_engine::ErrorClass::BadInput => AppError::BadInput(e.to_string()),
+            kzero_engine::ErrorClass::CheckFailed => AppError::CheckFailed(e.to_string()),
             _ => AppError::Other(e.to_string()),
         }
     }

@@ -106,18 +106,5 @@ pub fn run(a: &StateArgs) -> Result<(), AppError> {
         }
         output::print(&s)?;
     }
-    if let (Some(agr), Some(g), Some(sp)) = (agreement, c.green(), c.spectral()) {
-        if agr.consistent {
-            return Ok(());
-        }
-        let d = agr.digits;
-        return Err(AppError::CheckFailed(format!(
-            "methods disagree at (n={n}, l={l}): green {} +- {} vs spectral {} +- {} ({d} agreeing digits)",
-            g.value_string(),
-            g.abs_err_string(),
-            sp.value_string(),
-            sp.abs_err_string()
-        )));
-    }
-    Ok(())
+    Ok(c.check_agreement()?)
 }

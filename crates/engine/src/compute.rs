@@ -54,6 +54,28 @@ impl Computed {
         }
     }
 
+    /// With both methods: `Err(`[`EngineError::MethodsDisagree`]`)` when they
+    /// differ beyond their combined error estimates; `Ok` otherwise (and
+    /// with one method).
+    ///
+    /// # Errors
+    /// [`EngineError::MethodsDisagree`] (class
+    /// [`crate::ErrorClass::CheckFailed`]).
+    pub fn check_agreement(&self) -> Result<(), EngineError> {
+        match (&self.green, &self.spectral, self.agreement()) {
+            (Some(g), Some(s), Some(a)) if !a.consistent => Err(EngineError::MethodsDisagree {
+                n: g.n,
+                l: g.l,
+                green: g.value_string(),
+                green_err: g.abs_err_string(),
+                spectral: s.value_string(),
+                spectral_err: s.abs_err_string(),
+                digits: a.digits,
+            }),
+            _ => Ok(()),
+        }
+    }
+
     /// Total wall time of the computation (seconds).
     pub fn seconds(&self) -> f64 {
         self.green.as_ref().map_or(0.0, |v| v.seconds)

@@ -29,6 +29,25 @@ pub enum EngineError {
         /// The first line of the panic message.
         message: String,
     },
+    /// The two methods differ beyond their combined error estimates (see
+    /// [`crate::Computed::check_agreement`]).
+    #[error("methods disagree at (n={n}, l={l}): green {green} +- {green_err} vs spectral {spectral} +- {spectral_err} ({digits} agreeing digits)")]
+    MethodsDisagree {
+        /// n.
+        n: u32,
+        /// l.
+        l: u32,
+        /// The Green's-function value (decimal string).
+        green: String,
+        /// Its error estimate.
+        green_err: String,
+        /// The spectral value (decimal string).
+        spectral: String,
+        /// Its error estimate.
+        spectral_err: String,
+        /// Agreeing decimal digits.
+        digits: u32,
+    },
     /// The worker threads of a batch could not be started.
     #[error("cannot start {threads} threads: {message}")]
     Threads {
@@ -47,6 +66,9 @@ pub enum ErrorClass {
     /// gauge not available, a foreign or damaged file, contradicting
     /// options).
     BadInput,
+    /// A cross-check failed: two methods disagree beyond their combined
+    /// estimates, or an outside check did not pass.
+    CheckFailed,
     /// The input was fine, the computation or the system failed
     /// (non-convergence, I/O, an internal error).
     Failure,
@@ -58,8 +80,15 @@ impl EngineError {
         match self {
             EngineError::Bethe(e) => bethe_class(e),
             EngineError::Basis(_) | EngineError::Qed(_) => ErrorClass::BadInput,
+            EngineError::MethodsDisagree { .. } => ErrorClass::CheckFailed,
             EngineError::Internal { .. } | EngineError::Threads { .. } => ErrorClass::Failure,
         }
+    }
+
+    /// Whether the error is a method's non-convergence (the goal was not
+    /// reached; no number is returned).
+    pub fn is_no_convergence(&self) -> bool {
+        matches!(self, EngineError::Bethe(BetheError::NoConvergence { .. }))
     }
 }
 
