@@ -9,6 +9,7 @@ mod app_error;
 mod args;
 mod basis_cmd;
 mod check;
+mod interrupt;
 mod merge;
 mod output;
 mod plot;
