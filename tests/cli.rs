@@ -417,6 +417,9 @@ fn sigint_and_sigterm_say_how_to_continue() {
         ),
         ("-INT", 2, &["--resume"][..], "run the same command again"),
     ] {
+        // Rows already on disk (from the first run, when resuming): wait for
+        // new ones, so the signal reaches a run that is computing.
+        let before = fs::read_to_string(&part).map_or(0, |t| data_lines(&t).len());
         let mut child = Command::new(BIN)
             .args([&args[..], extra, &["--out", &part]].concat())
             .stdout(Stdio::null())
@@ -424,7 +427,7 @@ fn sigint_and_sigterm_say_how_to_continue() {
             .spawn()
             .unwrap();
         assert!(
-            wait_for_rows(Path::new(&part), 2, &mut child),
+            wait_for_rows(Path::new(&part), before + 2, &mut child),
             "the run ended before {signal}"
         );
         let _ = Command::new("kill")
