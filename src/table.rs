@@ -198,6 +198,7 @@ impl Journal {
 pub fn run(a: &TableArgs) -> Result<(), AppError> {
     let settings = settings_from_args(a)?;
     let format = if a.json { Format::Json } else { a.format };
+    interrupt::on_stop(stop_hint(a, format))?;
     let shard = a.shard.unwrap_or(Shard::WHOLE);
     let threads = a
         .threads
@@ -266,8 +267,6 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             });
         }
     }
-    interrupt::on_stop(stop_hint(a, format))?;
-
     let done: std::collections::BTreeSet<(u32, u32)> =
         table.rows.iter().map(|r| (r.n, r.l)).collect();
     let todo: Vec<((u32, u32), f64)> = planned

@@ -99,6 +99,7 @@ pub fn bethe_class(e: &BetheError) -> ErrorClass {
         BetheError::InvalidState { .. }
         | BetheError::OutOfRange { .. }
         | BetheError::DigitsOutOfRange { .. }
+        | BetheError::GoalOutOfReach { .. }
         | BetheError::GaugeUnsupported { .. }
         | BetheError::Basis(_) => ErrorClass::BadInput,
         _ => ErrorClass::Failure,
