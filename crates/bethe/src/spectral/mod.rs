@@ -6,7 +6,9 @@
 //!
 //! over the intermediate angular momenta L = l +- 1 (angular weights of
 //! [`kzero_basis::gradient::Channel::weight`]), in three equal forms:
-//! velocity |p|^2 D, length |r|^2 D^3, acceleration |grad V|^2 / D.
+//! velocity |p|^2 D, length |r|^2 D^3, acceleration |grad V|^2 / D
+//! (docs/physics.md, sections 1, 2 and 5; D in hartree at Z = 1, where
+//! ln(|D| / (Z^2 Ry)) = ln(2|D|)).
 //!
 //! ## Pieces
 //! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n), plus the offset of
