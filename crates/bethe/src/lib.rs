@@ -45,4 +45,4 @@ pub mod value;
 
 pub use error::BetheError;
 pub use settings::{Goal, Settings};
-pub use value::{BetheValue, Gauge, Method, Printed};
+pub use value::{agreement, Agreement, BetheValue, Gauge, Method, Printed, UnknownName};
