@@ -48,6 +48,23 @@ pub enum EngineError {
         /// Agreeing decimal digits.
         digits: u32,
     },
+    /// The two methods give dipole sums that differ beyond their combined
+    /// error estimates (see [`crate::ComputedSums::check_agreement`]).
+    #[error("methods disagree at (n={n}, l={l}) on {quantity}({k}): green {green} vs spectral {spectral}")]
+    SumsDisagree {
+        /// n.
+        n: u32,
+        /// l.
+        l: u32,
+        /// The power k.
+        k: i32,
+        /// `S` or `L`.
+        quantity: &'static str,
+        /// The Green's-function value and error (decimal strings).
+        green: String,
+        /// The spectral value and error (decimal strings).
+        spectral: String,
+    },
     /// The worker threads of a batch could not be started.
     #[error("cannot start {threads} threads: {message}")]
     Threads {
@@ -80,7 +97,9 @@ impl EngineError {
         match self {
             EngineError::Bethe(e) => bethe_class(e),
             EngineError::Basis(_) | EngineError::Qed(_) => ErrorClass::BadInput,
-            EngineError::MethodsDisagree { .. } => ErrorClass::CheckFailed,
+            EngineError::MethodsDisagree { .. } | EngineError::SumsDisagree { .. } => {
+                ErrorClass::CheckFailed
+            }
             EngineError::Internal { .. } | EngineError::Threads { .. } => ErrorClass::Failure,
         }
     }

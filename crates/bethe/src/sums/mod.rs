@@ -84,6 +84,16 @@ use std::time::Instant;
 
 pub use green::cost_estimate as green_cost_estimate;
 
+/// Relative cost of [`spectral_sums`] for (n, l) at `digits` with `count`
+/// powers (arbitrary units comparable with
+/// [`crate::spectral::cost_estimate`] of the same state; load balancing
+/// only). Measured: about 1.5 times one ln k0 for small n, growing with n
+/// (the absolute goal on sums of size n^(3(1-k)) asks for more digits).
+pub fn spectral_cost_estimate(n: u32, l: u32, digits: u32, count: usize) -> f64 {
+    let extra = (15.0 * f64::from(n.max(1)).log10()).min(40.0);
+    crate::spectral::cost_estimate(n, l, digits + extra as u32) * (1.0 + 0.1 * count as f64)
+}
+
 /// Smallest supported power k.
 pub const K_MIN: i32 = -4;
 /// Largest supported power k (the sums converge for k < l + 5/2).

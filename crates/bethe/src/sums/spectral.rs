@@ -15,7 +15,7 @@ use crate::spectral::{
     EXACT_MAX_N,
 };
 use crate::value::Gauge;
-use kzero_basis::continuum::{BoundFreeKernel, DipoleForm};
+use kzero_basis::continuum::{BoundFreeKernel, DipoleForm, LossHint};
 use kzero_basis::gradient::Channel;
 use kzero_basis::BoundState;
 use rug::ops::Pow;
@@ -99,6 +99,8 @@ struct Problem<'a> {
     form: DipoleForm,
     comps: &'a [Component],
     kernels: Vec<(BoundFreeKernel, Rational)>,
+    /// One loss hint per kernel (its evaluations run along energy sequences).
+    hints: Vec<LossHint>,
     closed: bool,
 }
 
@@ -116,14 +118,14 @@ impl Problem<'_> {
     }
 
     /// Tail density without the weight, and d, at w = u / a^2.
-    fn tail_density(&self, u: &Float, a: u32, prec: u32) -> Result<(Float, Float), BetheError> {
+    fn tail_density(&mut self, u: &Float, a: u32, prec: u32) -> Result<(Float, Float), BetheError> {
         let nu = Float::with_val(prec, a) / Float::with_val(prec, u.sqrt_ref());
         let n = self.state.n();
         let w = Float::with_val(prec, u / (a * a));
         let d = (Float::with_val(prec, Rational::from((1, n * n))) - &w) / 2u32;
         let mut dens = Float::with_val(prec, 0);
-        for (k, wl) in &self.kernels {
-            let v = k.bound_continued(&nu, prec)?;
+        for ((k, wl), hint) in self.kernels.iter().zip(&mut self.hints) {
+            let v = k.bound_continued_hinted(&nu, prec, hint)?;
             dens += Float::with_val(prec, v.value.square_ref()) * wl;
         }
         dens *= pow_float(&d, self.shift(), prec);
@@ -132,7 +134,7 @@ impl Problem<'_> {
 
     /// Continuum density per dphi (without the weight) and d at a node.
     fn cont_density(
-        &self,
+        &mut self,
         sin: &Float,
         cos: &Float,
         prec: u32,
@@ -144,15 +146,15 @@ impl Problem<'_> {
         let d = Float::with_val(prec, &kap2 / &c2) / 2u32;
         let de = Float::with_val(prec, &kap2 * sin) / &c2 / cos;
         let mut dens = Float::with_val(prec, 0);
-        for (kern, wl) in &self.kernels {
-            let v = kern.continuum_k(&k, prec)?;
+        for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.hints) {
+            let v = kern.continuum_k_hinted(&k, prec, hint)?;
             dens += Float::with_val(prec, v.value.square_ref()) * wl;
         }
         dens *= pow_float(&d, self.shift(), prec);
         Ok((dens * de, d))
     }
 
-    fn run(&self, p: &RunParams, exact: &[ExactTerm]) -> Result<RunResult, BetheError> {
+    fn run(&mut self, p: &RunParams, exact: &[ExactTerm]) -> Result<RunResult, BetheError> {
         let b = p.bits;
         let nc = self.comps.len();
         let zero = || vec![Float::with_val(b, 0); nc];
@@ -171,18 +173,19 @@ impl Problem<'_> {
         if self.closed {
             let n = self.state.n();
             let en = self.state.energy();
-            for (kern, wl) in &self.kernels {
+            let shift = self.shift();
+            for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.hints) {
                 for np in kern.big_l() + 1..=p.n1 {
                     if np == n {
                         continue;
                     }
-                    let i = kern.bound_bound(np, b)?;
+                    let i = kern.bound_bound_hinted(np, b, hint)?;
                     let m =
                         BoundState::new(i64::from(np), i64::from(kern.big_l()), Rational::from(1))?;
                     let d = Float::with_val(b, &Rational::from(&m.energy() - &en));
                     let mut v = Float::with_val(b, i.value.square_ref()) * wl;
                     v /= Float::with_val(b, np).pow(3u32);
-                    v *= pow_float(&d, self.shift(), b);
+                    v *= pow_float(&d, shift, b);
                     add_into(&mut bound, &mut abs_sum, &v, &weights(self.comps, &d, b));
                     closed_terms += 1;
                 }
@@ -332,11 +335,13 @@ pub(crate) fn vector_sum(
     for ch in Channel::open(l) {
         kernels.push((BoundFreeKernel::new(&state, ch, form)?, ch.weight(l)));
     }
-    let prob = Problem {
+    let hints = vec![LossHint::new(); kernels.len()];
+    let mut prob = Problem {
         state,
         form,
         comps,
         kernels,
+        hints,
         closed: n > EXACT_MAX_N && form != DipoleForm::Length,
     };
     let n1 = split_point(n);
