@@ -141,6 +141,7 @@ cleanup() {
 trap cleanup EXIT
 trap 'exit 1' INT TERM
 
+TC=$(date +%s)
 port_free() { ! (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
 PORT=$((20000 + RANDOM % 20000))
 while ! port_free "$PORT" || ! port_free $((PORT + 1)); do PORT=$((PORT + 2)); done
@@ -229,7 +230,7 @@ for _ in $(seq 1 60); do
     sleep 0.5
 done
 [ "$ok" = 1 ] || fail "slurmd did not start or its node is not idle ($(sinfo -h -n "$NODE" -o '%T %E' 2>/dev/null)): $(why "$WORK/log/slurmd.out" "$WORK/log/slurmd.log" "$WORK/log/slurmctld.log")"
-say "cluster up after $(elapsed): slurmctld, slurmd ($CPUS CPUs), munged; ports $PORT-$((PORT + 1))"
+say "cluster up in $(($(date +%s) - TC)) s: slurmctld, slurmd ($CPUS CPUs), munged; ports $PORT-$((PORT + 1))"
 
 # --- the single run to compare with ----------------------------------------
 JOB=$WORK/job
