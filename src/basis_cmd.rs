@@ -24,9 +24,10 @@ pub struct RadialArgs {
     /// l of the ket.
     #[arg(value_name = "L2", allow_negative_numbers = true)]
     pub l2: i64,
-    /// Power K of r (integer). The integral converges when L + L2 + 2 + K
-    /// > -1, i.e. K >= -(L + L2 + 2): K >= -2 for two S states, K = -3
-    /// from L + L2 = 1 on; a divergent K is refused (exit 2).
+    /// Power K of r (integer). The integrand behaves like r^(L+L2+2+K) at
+    /// the origin, so the integral converges for K >= -(L + L2 + 2): K >= -2
+    /// for two S states, K = -3 from L + L2 = 1 on; a divergent K is refused
+    /// (exit 2).
     #[arg(
         long,
         value_name = "K",
