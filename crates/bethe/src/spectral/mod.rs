@@ -6,7 +6,9 @@
 //!
 //! over the intermediate angular momenta L = l +- 1 (angular weights of
 //! [`kzero_basis::gradient::Channel::weight`]), in three equal forms:
-//! velocity |p|^2 D, length |r|^2 D^3, acceleration |grad V|^2 / D.
+//! velocity |p|^2 D, length |r|^2 D^3, acceleration |grad V|^2 / D
+//! (docs/physics.md, sections 1, 2 and 5; D in hartree at Z = 1, where
+//! ln(|D| / (Z^2 Ry)) = ln(2|D|)).
 //!
 //! ## Pieces
 //! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n), plus the offset of
@@ -88,7 +90,7 @@ mod tail;
 use crate::error::BetheError;
 use crate::settings::{meet_significant, significant_loop, validate_state, Goal, Settings};
 use crate::value::{BetheValue, Gauge, Method};
-use kzero_basis::continuum::{BoundFreeKernel, DipoleForm};
+use kzero_basis::continuum::{BoundFreeKernel, DipoleForm, LossHint};
 use kzero_basis::gordon::radial_dipole;
 use kzero_basis::gradient::{gradient_function, Channel};
 use kzero_basis::radial::{radial_integral, reduced_radial_function};
@@ -278,6 +280,11 @@ struct SpectralSumSetup {
     form: DipoleForm,
     weight: SpectralWeight,
     kernels: Vec<(BoundFreeKernel, Rational)>,
+    /// One loss hint per kernel, carried from each evaluation of that kernel
+    /// to the next within this sum only (see
+    /// [`kzero_basis::continuum::LossHint`]): the sum's evaluations run in a
+    /// fixed order, so its results do not depend on anything else.
+    loss_hints: Vec<LossHint>,
     /// Bound terms from the MPFR closed form instead of exact rationals.
     closed_form_bound: bool,
     /// Scale of the continuum map k = 2^map_exp kappa tan(phi) (per form).
@@ -303,15 +310,15 @@ impl SpectralSumSetup {
     }
 
     /// G(w) of the tail at w = 1/nu^2: sum_L w_L I_b(nu)^2 D^shift F(D).
-    fn tail_density(&self, u: &Float, a: u32, prec: u32) -> Result<Float, BetheError> {
+    fn tail_density(&mut self, u: &Float, a: u32, prec: u32) -> Result<Float, BetheError> {
         // w = u / a^2, nu = a / sqrt(u)
         let nu = Float::with_val(prec, a) / Float::with_val(prec, u.sqrt_ref());
         let n = self.state.n();
         let w = Float::with_val(prec, u / (a * a));
         let d = (Float::with_val(prec, Rational::from((1, n * n))) - &w) / 2u32;
         let mut dens = Float::with_val(prec, 0);
-        for (k, wl) in &self.kernels {
-            let v = k.bound_continued(&nu, prec)?;
+        for ((k, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
+            let v = k.bound_continued_hinted(&nu, prec, hint)?;
             dens += Float::with_val(prec, v.value.square_ref()) * wl;
         }
         dens *= pow_float(&d, self.shift(), prec);
@@ -321,7 +328,7 @@ impl SpectralSumSetup {
     /// Continuum integrand per dphi at a node: sum_L w_L I_c^2 D^shift F(D) dE/dphi,
     /// with k = s tan(phi), s = 2^map_exp kappa: D = (k^2 + kappa^2)/2 and
     /// dE/dphi = s^2 sin(phi) / cos(phi)^3.
-    fn cont_integrand(&self, sin: &Float, cos: &Float, prec: u32) -> Result<Float, BetheError> {
+    fn cont_integrand(&mut self, sin: &Float, cos: &Float, prec: u32) -> Result<Float, BetheError> {
         let kap = Float::with_val(prec, &self.state.kappa());
         let mut sc = kap.clone();
         sc <<= self.map_exp;
@@ -333,8 +340,8 @@ impl SpectralSumSetup {
         let sc2 = Float::with_val(prec, &sc * &sc);
         let de = Float::with_val(prec, &sc2 * sin) / &c2 / cos;
         let mut dens = Float::with_val(prec, 0);
-        for (kern, wl) in &self.kernels {
-            let v = kern.continuum_k(&k, prec)?;
+        for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
+            let v = kern.continuum_k_hinted(&k, prec, hint)?;
             dens += Float::with_val(prec, v.value.square_ref()) * wl;
         }
         dens *= pow_float(&d, self.shift(), prec);
@@ -342,7 +349,7 @@ impl SpectralSumSetup {
         Ok(dens * de)
     }
 
-    fn run(&self, p: &RunParams, exact: &[ExactTerm]) -> Result<RunResult, BetheError> {
+    fn run(&mut self, p: &RunParams, exact: &[ExactTerm]) -> Result<RunResult, BetheError> {
         let b = p.bits;
         // bound part
         let mut bound = Float::with_val(b, 0);
@@ -356,18 +363,19 @@ impl SpectralSumSetup {
         if self.closed_form_bound {
             let n = self.state.n();
             let en = self.state.energy();
-            for (kern, wl) in &self.kernels {
+            let shift = self.shift();
+            for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
                 for np in kern.big_l() + 1..=p.n1 {
                     if np == n {
                         continue;
                     }
-                    let i = kern.bound_bound(np, b)?;
+                    let i = kern.bound_bound_hinted(np, b, hint)?;
                     let m =
                         BoundState::new(i64::from(np), i64::from(kern.big_l()), Rational::from(1))?;
                     let d = Float::with_val(b, &Rational::from(&m.energy() - &en));
                     let mut v = Float::with_val(b, i.value.square_ref()) * wl;
                     v /= Float::with_val(b, np).pow(3u32);
-                    v *= pow_float(&d, self.shift(), b);
+                    v *= pow_float(&d, shift, b);
                     v *= weight_f(self.weight, &d, b);
                     abs_sum += v.to_f64().abs();
                     bound += v;
@@ -544,11 +552,13 @@ fn sum_with_goal(
         kernels.push((BoundFreeKernel::new(&state, ch, form)?, ch.weight(l)));
     }
     let (map_exp, split_offset) = form_discretization(form);
-    let setup = SpectralSumSetup {
+    let loss_hints = vec![LossHint::new(); kernels.len()];
+    let mut setup = SpectralSumSetup {
         state,
         form,
         weight,
         kernels,
+        loss_hints,
         closed_form_bound: n > EXACT_MAX_N && form != DipoleForm::Length,
         map_exp,
     };
