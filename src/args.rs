@@ -2,7 +2,7 @@
 //! gauges come from the library (`FromStr`/`Display`), never from here.
 
 use clap::builder::{PossibleValue, PossibleValuesParser, TypedValueParser};
-use kzero_engine::{Gauge, MethodChoice, Shard};
+use kzero_engine::{Gauge, MethodChoice, Shard, TableFormat};
 
 /// The `--digits` parser shared by every command: 5..=200.
 pub fn digits_parser() -> clap::builder::RangedI64ValueParser<u32> {
@@ -30,4 +30,12 @@ pub fn gauge_parser() -> impl TypedValueParser<Value = Gauge> {
 /// The `--shard K/M` parser.
 pub fn shard_parser(s: &str) -> Result<Shard, kzero_engine::ShardError> {
     s.parse()
+}
+
+/// The `--format` parser of tabular outputs: the names of [`TableFormat`].
+pub fn format_parser() -> impl TypedValueParser<Value = TableFormat> {
+    PossibleValuesParser::new(
+        TableFormat::ALL.map(|f| PossibleValue::new(f.name()).help(f.description())),
+    )
+    .try_map(|s| s.parse::<TableFormat>())
 }

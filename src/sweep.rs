@@ -5,7 +5,8 @@ use crate::app_error::AppError;
 use crate::output;
 use crate::plot::{self, SweepPoint};
 use kzero_bethe::value::format_err;
-use kzero_engine::{agreement, compute, validate_state, BetheValue, Gauge, MethodChoice, Settings};
+use kzero_engine::sweep::sweep;
+use kzero_engine::{Gauge, MethodChoice};
 use serde_json::json;
 use std::path::PathBuf;
 
@@ -42,37 +43,18 @@ pub struct SweepArgs {
 
 /// Runs `kzero sweep`.
 pub fn run(a: &SweepArgs) -> Result<(), AppError> {
-    if a.method == MethodChoice::Both {
-        return Err(AppError::BadInput(
-            "sweep takes --method green or --method spectral (run it once for each)".into(),
-        ));
-    }
-    let (n, l) = validate_state(a.n, a.l, a.method)?;
+    kzero_engine::sweep::validate(a.n, a.l, a.method)?;
     if let Some(p) = &a.plot {
-        crate::tablefile::check_output_folder(p, "--plot")?;
+        kzero_engine::table::files::check_output_folder(p, "--plot")?;
     }
-    let mut ladder = a.digits.clone();
-    ladder.sort_unstable();
-    ladder.dedup();
-    let mut values: Vec<BetheValue> = Vec::new();
-    for &d in &ladder {
-        let c = compute(n, l, a.method, a.gauge, &Settings::with_digits(d))?;
-        values.push(c.into_primary());
-    }
-    let best = values
-        .last()
-        .cloned()
-        .ok_or_else(|| AppError::BadInput("--digits list is empty".into()))?;
+    let sw = sweep(a.n, a.l, a.method, a.gauge, &a.digits)?;
+    let (n, l) = (sw.n, sw.l);
+    let ref_digits = sw.reference_digits();
     let mut points = Vec::new();
     let mut rows = Vec::new();
     let mut jrows = Vec::new();
-    for (i, v) in values.iter().enumerate() {
-        let actual = if i + 1 < values.len() {
-            Some(agreement(v, &best).difference.abs())
-        } else {
-            None
-        };
-        let covered = actual.map(|x| v.abs_err >= x);
+    for pt in &sw.points {
+        let (v, actual, covered) = (&pt.value, pt.actual_err, pt.covered);
         points.push(SweepPoint {
             digits: v.digits,
             est_err: v.abs_err,
@@ -111,7 +93,7 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
         let j = json!({
             "n": n, "l": l, "method": a.method.name(),
             "gauge": if a.method == MethodChoice::Spectral { Some(a.gauge.name()) } else { None },
-            "reference_digits": best.digits,
+            "reference_digits": ref_digits,
             "rows": jrows,
         });
         output::print(&format!(
@@ -122,7 +104,7 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
         let mut s = format!(
             "precision sweep for (n={n}, l={l}), method {}; actual error against D = {}\n",
             a.method.name(),
-            best.digits
+            ref_digits
         );
         s.push_str(&output::text_table(
             &[
