@@ -20,7 +20,10 @@ pub struct RadialArgs {
     /// l of the ket.
     #[arg(value_name = "L2", allow_negative_numbers = true)]
     pub l2: i64,
-    /// Power K of r (integer, K >= -2 where the integral converges).
+    /// Power K of r (integer). The integrand behaves like r^(L+L2+2+K) at
+    /// the origin, so the integral converges for K >= -(L + L2 + 2): K >= -2
+    /// for two S states, K = -3 from L + L2 = 1 on; a divergent K is refused
+    /// (exit 2).
     #[arg(
         long,
         value_name = "K",
@@ -62,11 +65,12 @@ pub struct OscillatorArgs {
 /// Runs `kzero radial`.
 pub fn run_radial(a: &RadialArgs) -> Result<(), AppError> {
     let r = radial(a.n, a.l, a.n2, a.l2, a.power, a.digits)?;
-    let (s1, s2, dec, exact) = (&r.bra, &r.ket, &r.decimal, &r.exact);
+    let (s1, s2, p, exact) = (&r.bra, &r.ket, &r.decimal, &r.exact);
+    let dec = &p.value;
     if a.json {
         let j = json!({
             "n": s1.n(), "l": s1.l(), "n2": s2.n(), "l2": s2.l(), "power": a.power,
-            "z": 1, "value": dec, "exact": exact, "digits": a.digits,
+            "value": dec, "abs_err": p.abs_err, "exact": exact, "digits": a.digits,
             "units": format!("bohr^{}", a.power),
         });
         output::print(&format!(
@@ -89,11 +93,12 @@ pub fn run_radial(a: &RadialArgs) -> Result<(), AppError> {
 /// Runs `kzero oscillator`.
 pub fn run_oscillator(a: &OscillatorArgs) -> Result<(), AppError> {
     let r = oscillator(a.n, a.l, a.n2, a.l2, a.digits)?;
-    let (s1, s2, f, dec) = (&r.from, &r.to, &r.value, &r.decimal);
+    let (s1, s2, f, p) = (&r.from, &r.to, &r.value, &r.decimal);
+    let dec = &p.value;
     if a.json {
         let j = json!({
-            "n": s1.n(), "l": s1.l(), "n2": s2.n(), "l2": s2.l(), "z": 1,
-            "f": dec, "exact": f.to_string(), "digits": a.digits,
+            "n": s1.n(), "l": s1.l(), "n2": s2.n(), "l2": s2.l(),
+            "f": dec, "abs_err": p.abs_err, "exact": f.to_string(), "digits": a.digits,
         });
         output::print(&format!(
             "{}\n",

@@ -847,3 +847,55 @@ fn both_methods_in_state_and_table_agree() {
         assert!(f[10].parse::<u32>().unwrap() >= 10, "{r}");
     }
 }
+
+#[test]
+fn json_errors_are_one_object_on_stdout() {
+    for args in [
+        &["state", "2", "2", "--json"][..],
+        &["state", "2", "0", "--digits", "300", "--json"],
+        &["radial", "1", "0", "1", "0", "--power", "-3", "--json"],
+    ] {
+        let o = kzero(args);
+        assert_eq!(code(&o), 2, "{args:?}");
+        let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+        assert_eq!(v["exit"], 2);
+        let msg = v["error"].as_str().unwrap();
+        // the same message as the one line on stderr
+        assert_eq!(stderr(&o).trim_end(), format!("kzero: {msg}"));
+    }
+    // without --json stdout stays empty
+    let o = kzero(&["state", "2", "2"]);
+    assert_eq!(code(&o), 2);
+    assert!(stdout(&o).is_empty());
+}
+
+#[test]
+fn an_output_folder_without_write_access_is_bad_input() {
+    // /proc takes no new files, even for the superuser
+    let o = kzero(&[
+        "table",
+        "--n-max",
+        "1",
+        "--digits",
+        "5",
+        "--out",
+        "/proc/kzero-t.csv",
+    ]);
+    assert_bad_input(&o, "cannot create files");
+}
+
+#[test]
+fn radial_accepts_the_powers_that_converge() {
+    // <2p| r^-3 |3s> converges (the integrand goes like r^0 at the origin)
+    let o = kzero(&["radial", "2", "1", "3", "0", "--power", "-3", "--json"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert!(v.get("z").is_none());
+    let err: f64 = v["abs_err"].as_str().unwrap().parse().unwrap();
+    assert!(err > 0.0 && err <= 5.1e-21);
+    // <1s| r^-3 |1s> diverges (r^-1 at the origin)
+    assert_bad_input(
+        &kzero(&["radial", "1", "0", "1", "0", "--power", "-3"]),
+        "diverges",
+    );
+}

@@ -169,6 +169,19 @@ impl BetheValue {
         self.printed().value
     }
 
+    /// The value rounded to the nearest f64, with an error that covers that
+    /// f64: `abs_err` plus the conversion |f64 - value| (measured exactly,
+    /// rounded up). For passing ln k0 on to code that works in f64.
+    pub fn to_f64_with_err(&self) -> (f64, f64) {
+        let x = self.value.to_f64();
+        let mut d = Float::with_val(self.value.prec().max(64) + 64, x);
+        d -= &self.value;
+        let conv = Float::with_val_round(53, d.abs_ref(), rug::float::Round::Up)
+            .0
+            .to_f64();
+        (x, up(self.abs_err + conv))
+    }
+
     /// The error of the printed value, rounded up to two significant digits,
     /// e.g. `3.1e-24`: it covers the estimated error and the rounding of the
     /// decimal of [`BetheValue::value_string`].

@@ -6,7 +6,7 @@ use crate::error::EngineError;
 use kzero_basis::exact::Surd;
 use kzero_basis::radial::radial_integral;
 use kzero_basis::BoundState;
-use kzero_bethe::value::decimal_string;
+use kzero_bethe::value::{printed, Printed};
 use rug::{Float, Rational};
 
 /// Bits needed to print `x` (of magnitude about 2^exp) with `digits` decimals.
@@ -15,20 +15,32 @@ fn bits_for(exp: i32, digits: u32) -> u32 {
     (f64::from(digits) * std::f64::consts::LOG2_10).ceil() as u32 + int_bits + 64
 }
 
-/// An exact surd as a decimal string with `digits` decimals (rounded to
-/// nearest, so the absolute error is below 10^-digits).
-pub fn surd_decimal(s: &Surd, digits: u32) -> String {
+/// An exact surd as a decimal with `digits` decimals (rounded to nearest)
+/// and its printed error: the rounding plus the bound on the conversion to
+/// binary (at most half a unit of the last decimal in all).
+pub fn surd_decimal(s: &Surd, digits: u32) -> Printed {
     let rough = s.to_float(64);
     let exp = rough.get_exp().unwrap_or(0);
-    decimal_string(&s.to_float(bits_for(exp, digits)), digits as usize)
+    let bits = bits_for(exp, digits);
+    let x = s.to_float(bits);
+    printed(&x, conversion_bound(&x, bits), digits as usize)
 }
 
-/// An exact rational as a decimal string with `digits` decimals (rounded to
-/// nearest).
-pub fn rational_decimal(q: &Rational, digits: u32) -> String {
+/// An exact rational as a decimal with `digits` decimals and its printed
+/// error (see [`surd_decimal`]).
+pub fn rational_decimal(q: &Rational, digits: u32) -> Printed {
     let rough = Float::with_val(64, q);
     let exp = rough.get_exp().unwrap_or(0);
-    decimal_string(&Float::with_val(bits_for(exp, digits), q), digits as usize)
+    let bits = bits_for(exp, digits);
+    let x = Float::with_val(bits, q);
+    printed(&x, conversion_bound(&x, bits), digits as usize)
+}
+
+/// A bound on the error of an exact number converted to `bits` bits by a
+/// few correctly rounded operations: 8 |x| 2^-bits.
+fn conversion_bound(x: &Float, bits: u32) -> f64 {
+    let e = x.get_exp().unwrap_or(0);
+    f64::from(e + 3 - bits as i32).exp2()
 }
 
 /// The exact form of a surd: `c` or `c*sqrt(r)`.
@@ -51,8 +63,8 @@ pub struct RadialResult {
     pub power: i32,
     /// The exact value (bohr^k).
     pub value: Surd,
-    /// The value with `digits` decimals.
-    pub decimal: String,
+    /// The value with `digits` decimals and its printed error.
+    pub decimal: Printed,
     /// The exact form, `c` or `c*sqrt(r)`.
     pub exact: String,
 }
@@ -95,8 +107,8 @@ pub struct OscillatorResult {
     pub to: BoundState,
     /// The exact value (positive for absorption, negative for emission).
     pub value: Rational,
-    /// The value with `digits` decimals.
-    pub decimal: String,
+    /// The value with `digits` decimals and its printed error.
+    pub decimal: Printed,
 }
 
 /// f(n l -> n2 l2) for hydrogen, exact and with `digits` decimals.
@@ -133,7 +145,7 @@ mod tests {
         // f(1s -> 2p) = 2^13/3^9 = 0.41619671797998... (Bethe & Salpeter 1957).
         let f = oscillator(1, 0, 2, 1, 20).unwrap();
         assert_eq!(f.value, Rational::from((8192, 19683)));
-        assert_eq!(f.decimal, "0.41619671797998272621");
+        assert_eq!(f.decimal.value, "0.41619671797998272621");
         // <1s| r |2p> = 2^8/3^4 sqrt(1/6) bohr (closed form; Bethe & Salpeter 1957).
         let r = radial(1, 0, 2, 1, 1, 20).unwrap();
         assert_eq!(r.exact, "256/81*sqrt(1/6)");

@@ -257,6 +257,18 @@ pub enum TableError {
         /// Its folder.
         folder: PathBuf,
     },
+    /// No file can be created in the folder of an output.
+    #[error("{option} {}: cannot create files in folder {}: {source}", .path.display(), .folder.display())]
+    FolderNotWritable {
+        /// The option naming the output.
+        option: &'static str,
+        /// The output file.
+        path: PathBuf,
+        /// Its folder.
+        folder: PathBuf,
+        /// The system error.
+        source: std::io::Error,
+    },
     /// An output path is a folder.
     #[error("{option} {} is a folder, not a file", .path.display())]
     IsFolder {

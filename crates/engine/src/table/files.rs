@@ -5,11 +5,12 @@ use std::fs;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-/// Checks that an output path can be created: its folder exists and it is
-/// not a folder itself. `option` names the output in the error (`--out`).
+/// Checks that an output path can be created: its folder exists, files can
+/// be created in it, and the path is not a folder itself. `option` names the output in the error (`--out`).
 ///
 /// # Errors
-/// [`TableError::NoFolder`] or [`TableError::IsFolder`] (bad input).
+/// [`TableError::NoFolder`], [`TableError::IsFolder`] or
+/// [`TableError::FolderNotWritable`] (bad input).
 pub fn check_output_folder(path: &Path, option: &'static str) -> Result<(), TableError> {
     let parent = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
@@ -28,7 +29,24 @@ pub fn check_output_folder(path: &Path, option: &'static str) -> Result<(), Tabl
             path: path.to_path_buf(),
         });
     }
-    Ok(())
+    // A folder we cannot create files in is bad input too: try.
+    let probe = parent.join(format!(".kzero-write-check-{}", std::process::id()));
+    match fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(&probe)
+    {
+        Ok(_) => {
+            let _ = fs::remove_file(&probe);
+            Ok(())
+        }
+        Err(e) => Err(TableError::FolderNotWritable {
+            option,
+            path: path.to_path_buf(),
+            folder: parent,
+            source: e,
+        }),
+    }
 }
 
 /// Writes `contents` to `path` atomically: a temporary file in the same
