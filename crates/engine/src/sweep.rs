@@ -1,22 +1,26 @@
 //! Precision sweeps: one state computed from scratch at a ladder of
-//! `digits`, each estimated error compared with the actual difference from
-//! the most precise run.
+//! `digits`, each printed value compared with the most precise run.
 
 use crate::compute::{compute, validate_state};
 use crate::error::EngineError;
 use crate::method::MethodChoice;
-use kzero_bethe::{agreement, BetheValue, Gauge, Settings};
+use kzero_bethe::{BetheValue, Gauge, Goal, Printed, Settings};
+
+/// The default ladder of absolute goals.
+pub const DEFAULT_LADDER: [u32; 6] = [10, 15, 20, 30, 40, 60];
 
 /// One rung of a sweep.
 #[derive(Debug, Clone)]
 pub struct SweepPoint {
     /// The value computed at this rung's digits.
     pub value: BetheValue,
-    /// |value - reference| (the reference is the last rung, which has
-    /// none).
+    /// What is printed for it: the decimal and its printed error.
+    pub printed: Printed,
+    /// |printed decimal - reference value| (the reference is the last rung,
+    /// which has none); rounded up.
     pub actual_err: Option<f64>,
-    /// Whether the estimated error covers the actual one (`None` for the
-    /// reference).
+    /// Whether the printed error covers the actual error plus the
+    /// reference's own estimated error (`None` for the reference).
     pub covered: Option<bool>,
 }
 
@@ -31,6 +35,8 @@ pub struct Sweep {
     pub method: MethodChoice,
     /// The dipole form (used by the spectral method).
     pub gauge: Gauge,
+    /// Whether the ladder counts decimals or significant digits.
+    pub goal: Goal,
     /// One point per digits value, in increasing digits; the last is the
     /// reference.
     pub points: Vec<SweepPoint>,
@@ -56,11 +62,13 @@ pub fn validate(n: i64, l: i64, method: MethodChoice) -> Result<(u32, u32), Engi
 }
 
 /// Computes (n, l) with `method` at every digits of `ladder` (sorted and
-/// deduplicated first), each from scratch.
+/// deduplicated first; absolute or significant-digit goals), each from
+/// scratch.
 ///
 /// # Accuracy
-/// The actual error of a rung is its difference from the most precise rung,
-/// itself uncertain by that rung's estimated error.
+/// The actual error of a rung is the distance of its printed decimal from
+/// the most precise rung, itself uncertain by that rung's estimated error
+/// (which `covered` adds to the actual error).
 ///
 /// # Errors
 /// [`EngineError::SweepMethod`] for `both`, [`EngineError::EmptyLadder`],
@@ -71,6 +79,7 @@ pub fn sweep(
     method: MethodChoice,
     gauge: Gauge,
     ladder: &[u32],
+    goal: Goal,
 ) -> Result<Sweep, EngineError> {
     let (n, l) = validate(n, l, method)?;
     let mut ladder = ladder.to_vec();
@@ -78,7 +87,11 @@ pub fn sweep(
     ladder.dedup();
     let mut values: Vec<BetheValue> = Vec::new();
     for &d in &ladder {
-        values.push(compute(n, l, method, gauge, &Settings::with_digits(d))?.into_primary());
+        let settings = match goal {
+            Goal::Absolute => Settings::with_digits(d),
+            Goal::Significant => Settings::significant(d),
+        };
+        values.push(compute(n, l, method, gauge, &settings)?.into_primary());
     }
     let best = values.last().cloned().ok_or(EngineError::EmptyLadder)?;
     let last = values.len() - 1;
@@ -86,10 +99,12 @@ pub fn sweep(
         .into_iter()
         .enumerate()
         .map(|(i, v)| {
-            let actual_err = (i < last).then(|| agreement(&v, &best).difference.abs());
-            let covered = actual_err.map(|x| v.abs_err >= x);
+            let printed = v.printed();
+            let actual_err = (i < last).then(|| v.printed_distance(&best));
+            let covered = actual_err.map(|x| printed.err >= x + best.abs_err);
             SweepPoint {
                 value: v,
+                printed,
                 actual_err,
                 covered,
             }
@@ -100,6 +115,7 @@ pub fn sweep(
         l,
         method,
         gauge,
+        goal,
         points,
     })
 }
