@@ -48,6 +48,7 @@ pub enum EngineError {
         /// Agreeing decimal digits.
         digits: u32,
     },
+<<<<<<< HEAD
     /// The two methods give dipole sums that differ beyond their combined
     /// error estimates (see [`crate::ComputedSums::check_agreement`]).
     #[error("methods disagree at (n={n}, l={l}) on {quantity}({k}): green {green} vs spectral {spectral}")]
@@ -65,6 +66,20 @@ pub enum EngineError {
         /// The spectral value and error (decimal strings).
         spectral: String,
     },
+=======
+    /// A precision sweep needs one method.
+    #[error("sweep takes --method green or --method spectral (run it once for each)")]
+    SweepMethod,
+    /// A precision sweep without any digits.
+    #[error("--digits list is empty")]
+    EmptyLadder,
+    /// A table file, selection or output problem.
+    #[error(transparent)]
+    Table(#[from] crate::table::TableError),
+    /// A data-check folder problem.
+    #[error(transparent)]
+    Check(#[from] crate::check::CheckError),
+>>>>>>> main
     /// The worker threads of a batch could not be started.
     #[error("cannot start {threads} threads: {message}")]
     Threads {
@@ -96,10 +111,26 @@ impl EngineError {
     pub fn class(&self) -> ErrorClass {
         match self {
             EngineError::Bethe(e) => bethe_class(e),
+<<<<<<< HEAD
             EngineError::Basis(_) | EngineError::Qed(_) => ErrorClass::BadInput,
             EngineError::MethodsDisagree { .. } | EngineError::SumsDisagree { .. } => {
                 ErrorClass::CheckFailed
             }
+=======
+            EngineError::Basis(_)
+            | EngineError::Qed(_)
+            | EngineError::SweepMethod
+            | EngineError::EmptyLadder
+            | EngineError::Check(_) => ErrorClass::BadInput,
+            EngineError::Table(t) => {
+                if t.is_bad_input() {
+                    ErrorClass::BadInput
+                } else {
+                    ErrorClass::Failure
+                }
+            }
+            EngineError::MethodsDisagree { .. } => ErrorClass::CheckFailed,
+>>>>>>> main
             EngineError::Internal { .. } | EngineError::Threads { .. } => ErrorClass::Failure,
         }
     }

@@ -21,7 +21,12 @@
 //!   ([`row_text`]).
 //! * [`batch`]: many states in parallel with a cancellation hook.
 //! * [`build_info`]: versions, git revision, the one [`Provenance`] schema.
-//! * [`data_checks`]: the bundled outside checks (`data-checks/*.csv`).
+//! * [`table`]: the table format (CSV and JSON), validation, the journal
+//!   of a running table, resume and merge rules.
+//! * [`check`]: the check runner (bundled outside checks, closure sum
+//!   rules, cross-method sample); [`data_checks`]: the bundled files.
+//! * [`sweep`]: precision sweeps; [`exact`]: exact radial integrals and
+//!   oscillator strengths.
 //!
 //! ## Units and conventions
 //! As in [`kzero_bethe`]: energies in units of Z^2 Ry, D0 = 2 Z^4/n^3 for
@@ -44,12 +49,16 @@
 
 pub mod batch;
 pub mod build_info;
+pub mod check;
 pub mod compute;
 pub mod data_checks;
 pub mod error;
+pub mod exact;
 pub mod method;
 pub mod shard;
 pub mod sums;
+pub mod sweep;
+pub mod table;
 
 pub use batch::{
     catch_panic, compute_states, default_threads, run_batch, Batch, BatchEnd, Flow, Request,
@@ -62,3 +71,4 @@ pub use kzero_bethe::{agreement, Agreement, BetheValue, Gauge, Method, Settings}
 pub use method::MethodChoice;
 pub use shard::{plan, Key, Shard, ShardError};
 pub use sums::{compute_sums, row_text, sums_cost, ComputedSums, EnergyUnit, RowText};
+pub use table::{Row, Table, TableError, TableFormat, TableSettings};
