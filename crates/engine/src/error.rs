@@ -48,7 +48,6 @@ pub enum EngineError {
         /// Agreeing decimal digits.
         digits: u32,
     },
-<<<<<<< HEAD
     /// The two methods give dipole sums that differ beyond their combined
     /// error estimates (see [`crate::ComputedSums::check_agreement`]).
     #[error("methods disagree at (n={n}, l={l}) on {quantity}({k}): green {green} vs spectral {spectral}")]
@@ -66,7 +65,6 @@ pub enum EngineError {
         /// The spectral value and error (decimal strings).
         spectral: String,
     },
-=======
     /// A precision sweep needs one method.
     #[error("sweep takes --method green or --method spectral (run it once for each)")]
     SweepMethod,
@@ -79,7 +77,6 @@ pub enum EngineError {
     /// A data-check folder problem.
     #[error(transparent)]
     Check(#[from] crate::check::CheckError),
->>>>>>> main
     /// The worker threads of a batch could not be started.
     #[error("cannot start {threads} threads: {message}")]
     Threads {
@@ -111,12 +108,6 @@ impl EngineError {
     pub fn class(&self) -> ErrorClass {
         match self {
             EngineError::Bethe(e) => bethe_class(e),
-<<<<<<< HEAD
-            EngineError::Basis(_) | EngineError::Qed(_) => ErrorClass::BadInput,
-            EngineError::MethodsDisagree { .. } | EngineError::SumsDisagree { .. } => {
-                ErrorClass::CheckFailed
-            }
-=======
             EngineError::Basis(_)
             | EngineError::Qed(_)
             | EngineError::SweepMethod
@@ -129,8 +120,9 @@ impl EngineError {
                     ErrorClass::Failure
                 }
             }
-            EngineError::MethodsDisagree { .. } => ErrorClass::CheckFailed,
->>>>>>> main
+            EngineError::MethodsDisagree { .. } | EngineError::SumsDisagree { .. } => {
+                ErrorClass::CheckFailed
+            }
             EngineError::Internal { .. } | EngineError::Threads { .. } => ErrorClass::Failure,
         }
     }
