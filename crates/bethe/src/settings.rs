@@ -7,7 +7,7 @@ pub const MIN_DIGITS: u32 = 5;
 /// Largest accepted `digits`.
 pub const MAX_DIGITS: u32 = 200;
 /// Largest n supported by the methods of this crate.
-pub const MAX_N: u32 = 200;
+pub const MAX_N: u32 = 1000;
 
 /// What the caller asks for: an absolute error below 10^-digits.
 ///
