@@ -39,12 +39,11 @@ fn matched_scale_agrees_with_exact_expansion() {
     for (f, big_l, n) in cases {
         let nu = Float::with_val(bits, n); // 1/kappa = n for Z = 1
                                            // The stored coefficients of matched_expansion already include
-                                           // f.scale; its normalization must be sqrt(f.radicand) alone for
-                                           // sum gamma_i^2 = int f^2 r dr. Build the expansion with that
-                                           // normalization so that the check is against the exact terminating
-                                           // expansion however the stored radicand is formed.
-        let mut exact = matched_expansion(&f, big_l).unwrap();
-        exact.radicand = f.radicand.clone();
+                                           // f.scale, so its normalization must be sqrt(f.radicand) alone for
+                                           // sum gamma_i^2 = int f^2 r dr. The returned radicand is checked as
+                                           // it comes, since a wrong one would reach the Green engine unseen.
+        let exact = matched_expansion(&f, big_l).unwrap();
+        assert_eq!(exact.radicand, f.radicand, "n={n} L={big_l}: radicand");
         let mut s2 = Float::with_val(bits, 0);
         for k in 0..exact.coef.len() {
             let g = exact.gamma(k, bits);

@@ -32,9 +32,12 @@
 //! - V61: Kotochigova and Mohr (2005), Eq. (5), whose text was seen;
 //! - A50, V50, A61: equivalent original forms and published special values
 //!   (from memory);
-//! - the whole set: the measured Lamb shifts of H (n = 2) and He4+ (n = 2 and
-//!   n = 4) within the stated truncation uncertainty
-//!   (data-checks/lamb_shift.csv).
+//! - the whole set: the measured n = 2 Lamb shifts of H and He4+ within the
+//!   stated truncation uncertainty (data-checks/lamb_shift.csv).
+//!
+//! Checks that restate a formula of this module in another arrangement
+//! (special values, original forms) are consistency checks of the
+//! arithmetic, not outside checks; the tests say so where they stand.
 
 use crate::level::Level;
 
@@ -201,13 +204,16 @@ mod tests {
     fn s_state_values() {
         let s1 = lv(1, 0, 1);
         // A50(1S) = 9.2911 (from memory). A61(1S) in its older closed form
-        // (28/3) ln 2 - 21/20 (from memory), independent of the general-n form.
+        // (28/3) ln 2 - 21/20 (from memory); the general-n form reduces to it
+        // by arithmetic, so this is a consistency check.
         assert!((a50(&s1) - 9.291_1).abs() < 1e-4);
         let a61_1s = 28.0 / 3.0 * std::f64::consts::LN_2 - 21.0 / 20.0;
         assert!((a61(&s1) - a61_1s).abs() < 1e-13);
         assert_eq!(a62(&s1), -1.0);
         assert_eq!(a40_magnetic(&s1), 0.0);
-        // The harmonic-number part: A61(2S) - A61(1S) = 4/2 - 4 ln 2 - (77/45)(1/4 - 1).
+        // Consistency check, not an outside one: the harmonic-number part,
+        // A61(2S) - A61(1S) = 4/2 - 4 ln 2 - (77/45)(1/4 - 1), restates the
+        // general-n formula term by term.
         let d = a61(&lv(2, 0, 1)) - a61(&s1);
         let expect = 2.0 - 4.0 * std::f64::consts::LN_2 + 77.0 / 45.0 * 0.75;
         assert!((d - expect).abs() < 1e-14);
@@ -222,7 +228,10 @@ mod tests {
         // Fine-structure splitting from the anomalous moment (Schwinger term,
         // common practice): magnetic A40(2P3/2) - A40(2P1/2) = 1/4.
         assert!((a40_magnetic(&p3) - a40_magnetic(&p1) - 0.25).abs() < 1e-15);
-        // A61(2P1/2) = (3/4)(2/15 + 1/3) + 320/1440.
+        // Consistency check, not an outside one: the general-l expression of
+        // A61 specialised by hand (2P1/2: (3/4)(2/15 + 1/3) + 320/1440; 2P3/2;
+        // 3D5/2). The published 2P values are compared in tests/coefficients.rs
+        // (from memory).
         assert!((a61(&p1) - (0.75 * (2.0 / 15.0 + 1.0 / 3.0) + 320.0 / 1440.0)).abs() < 1e-15);
         assert!((a61(&p3) - (0.75 * 2.0 / 15.0 + 320.0 / 1440.0)).abs() < 1e-15);
         let d = lv(3, 2, 5);

@@ -13,38 +13,38 @@ use crate::BetheError;
 /// A lower bound state |n' L> (E_n' < E_n): its term c D / (D + w) is
 /// subtracted from the integrand and its contribution c D ln|D| added exactly.
 #[derive(Debug, Clone)]
-pub struct Pole {
+pub(crate) struct LowerState {
     /// Principal quantum number n' < n.
-    pub nprime: u32,
-    /// c = weight * |<n' L| p |n l>|^2 (exact).
-    pub c: Rational,
+    pub(crate) nprime: u32,
+    /// c = weight * |<n' L| p |n l>|^2 (exact, atomic units).
+    pub(crate) weighted_p2: Rational,
     /// D = E_n' - E_n < 0 (hartree, exact).
-    pub d: Rational,
+    pub(crate) energy_diff: Rational,
 }
 
 /// Exact data of one channel (independent of the photon energy).
 #[derive(Debug, Clone)]
-pub struct ChannelData {
+pub(crate) struct ChannelData {
     /// Intermediate angular momentum L.
-    pub big_l: u32,
+    pub(crate) big_l: u32,
     /// Meixner parameter beta = 2L + 2.
-    pub beta: u32,
+    pub(crate) beta: u32,
     /// Angular weight (l+1)/(2l+1) or l/(2l+1).
-    pub weight: Rational,
+    pub(crate) weight: Rational,
     /// Expansion coefficients coef_i of g_L in matched Sturmians (see
     /// `kzero_basis::sturmian::MatchedExpansion`).
-    pub coef: Vec<Rational>,
+    pub(crate) coef: Vec<Rational>,
     /// S2 = radicand / (2L+1)!: J_L = nu * S2 * T(nu).
-    pub s2: Rational,
-    /// Lower states of this channel.
-    pub poles: Vec<Pole>,
+    pub(crate) s2: Rational,
+    /// Lower states of this channel (n' < n, poles on the photon-energy path).
+    pub(crate) lower_states: Vec<LowerState>,
 }
 
 /// Builds the exact data for every open channel of |n l> (Z = 1).
 ///
 /// # Errors
 /// Propagates basis-crate errors (none for valid states).
-pub fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
+pub(crate) fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
     let st = BoundState::hydrogen(i64::from(n), i64::from(l))?;
     let mut out = Vec::new();
     for dir in Dir::open(l) {
@@ -53,7 +53,7 @@ pub fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
         let exp = matched_expansion(&g, big_l)?;
         let alpha = 2 * big_l + 1;
         let s2 = &exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha));
-        let mut poles = Vec::new();
+        let mut lower_states = Vec::new();
         for np in (big_l + 1)..n {
             let lower = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
             // exact <n' L| r |n l> by Gordon's closed formula
@@ -61,7 +61,11 @@ pub fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
             let d = lower.energy() - st.energy();
             // |p|^2 = D^2 |r|^2 (radial), times the angular weight
             let c = Rational::from(&d * &d) * r.square() * dir.weight(l);
-            poles.push(Pole { nprime: np, c, d });
+            lower_states.push(LowerState {
+                nprime: np,
+                weighted_p2: c,
+                energy_diff: d,
+            });
         }
         out.push(ChannelData {
             big_l,
@@ -69,7 +73,7 @@ pub fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
             weight: dir.weight(l),
             coef: exp.coef,
             s2,
-            poles,
+            lower_states,
         });
     }
     Ok(out)
@@ -77,20 +81,20 @@ pub fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
 
 /// The channel data rounded to a working precision.
 #[derive(Debug, Clone)]
-pub struct ChannelFloat {
+pub(crate) struct ChannelFloat {
     /// L.
-    pub big_l: u32,
+    pub(crate) big_l: u32,
     /// beta = 2L+2.
-    pub beta: u32,
+    pub(crate) beta: u32,
     /// weight * S2.
-    pub ws2: Float,
+    pub(crate) ws2: Float,
     /// coef_i.
-    pub coef: Vec<Float>,
+    pub(crate) coef: Vec<Float>,
 }
 
 impl ChannelFloat {
     /// Rounds `c` to `prec` bits.
-    pub fn new(c: &ChannelData, prec: u32) -> Self {
+    pub(crate) fn new(c: &ChannelData, prec: u32) -> Self {
         ChannelFloat {
             big_l: c.big_l,
             beta: c.beta,

@@ -28,40 +28,47 @@ use super::meter::Meter;
 use rug::{Assign, Float};
 
 /// A lower state rounded to the working precision: it contributes the
-/// simple pole A / (n' - nu) to the integrand, A = c D.
+/// simple pole -A / (n' - nu) to the integrand, with residue A = c D.
 #[derive(Debug, Clone)]
-pub struct PoleFloat {
+pub(crate) struct LowerPole {
     /// n' (as a float, for the pole position).
-    pub nprime: Float,
-    /// A = c D (hartree times the dipole weight).
-    pub cd: Float,
+    pub(crate) nprime: Float,
+    /// A = c D (hartree times the weighted |p|^2 of the lower state).
+    pub(crate) residue: Float,
 }
 
-/// Everything the integrand needs, at one working precision.
+/// Everything the sampled integrand I'(nu) needs, at one working precision
+/// (the precision of [`Integrand::two_dipole_sum`]).
 #[derive(Debug, Clone)]
-pub struct Problem {
+pub(crate) struct Integrand {
     /// Principal quantum number.
-    pub n: u32,
+    pub(crate) n: u32,
     /// Channels at this precision.
-    pub channels: Vec<ChannelFloat>,
-    /// Lower-state terms of all channels.
-    pub poles: Vec<PoleFloat>,
-    /// 2 * Dsum (2 * 2/n^3 for S states, else 0).
-    pub two_dsum: Float,
+    pub(crate) channels: Vec<ChannelFloat>,
+    /// Lower-state poles of all channels.
+    pub(crate) lower_poles: Vec<LowerPole>,
+    /// 2 Dsum, with Dsum = sum_m |p_nm|^2 D_m (2/n^3 for S states, else 0;
+    /// hartree, Z = 1).
+    pub(crate) two_dipole_sum: Float,
 }
 
 /// Integrand value at one node.
 #[derive(Debug, Clone)]
-pub struct Sample {
-    /// I(nu).
-    pub value: Float,
-    /// Coefficient I_log of ln(mu) (and hence of ln nu) in I.
-    pub log_coef: Float,
+pub(crate) struct Sample {
+    /// I'(nu).
+    pub(crate) value: Float,
+    /// Coefficient I_log of ln(mu) (and hence of ln nu) in I'.
+    pub(crate) log_coef: Float,
 }
 
-impl Problem {
-    /// I(nu) and its logarithmic coefficient. `meter` records cancellation.
-    pub fn sample(&self, nu: &Float, meter: &mut Meter) -> Sample {
+impl Integrand {
+    /// Working precision of this integrand (bits).
+    pub(crate) fn prec(&self) -> u32 {
+        self.two_dipole_sum.prec()
+    }
+
+    /// I'(nu) and its logarithmic coefficient. `meter` records cancellation.
+    pub(crate) fn sample(&self, nu: &Float, meter: &mut Meter) -> Sample {
         let prec = nu.prec();
         let n = self.n;
         let pt = NuPoint::new(n, nu);
@@ -108,7 +115,7 @@ impl Problem {
         meter.term(&p2);
         meter.term(&wj);
         let mut f = Float::with_val(prec, &p2 - &wj);
-        let sub = Float::with_val(prec, &self.two_dsum * &nu2);
+        let sub = Float::with_val(prec, &self.two_dipole_sum * &nu2);
         meter.term(&sub);
         f -= sub;
         meter.result(&f);
@@ -120,10 +127,10 @@ impl Problem {
         let mut acc = Float::with_val(prec, 0);
         let mut t = Float::new(prec);
         let mut biggest = Float::with_val(prec, 0);
-        for pole in &self.poles {
+        for pole in &self.lower_poles {
             t.assign(&pole.nprime - nu);
             t.recip_mut();
-            t *= &pole.cd;
+            t *= &pole.residue;
             if t.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
                 biggest.assign(&t);
             }

@@ -22,19 +22,19 @@ use rug::{Assign, Float};
 
 /// Photon-energy point data for the node nu (shared by both channels).
 #[derive(Debug, Clone)]
-pub struct NuPoint {
+pub(crate) struct NuPoint {
     /// nu (bohr-like scale of the Sturmians), 0 < nu < n.
-    pub nu: Float,
+    pub(crate) nu: Float,
     /// tau = (nu - n)/(nu + n).
-    pub tau: Float,
+    pub(crate) tau: Float,
     /// z, 1 - z and mu = -ln z.
-    pub zp: ZPoint,
+    pub(crate) zp: ZPoint,
 }
 
 impl NuPoint {
     /// Builds the point for state principal number `n` without cancellation:
     /// 1 - z = 4 n nu / (n + nu)^2, mu = 2 ln((n + nu)/(n - nu)).
-    pub fn new(n: u32, nu: &Float) -> Self {
+    pub(crate) fn new(n: u32, nu: &Float) -> Self {
         let prec = nu.prec();
         let np = Float::with_val(prec, nu + n);
         let nm = Float::with_val(prec, nu - n);
@@ -53,11 +53,11 @@ impl NuPoint {
 /// J_L at one node, with the coefficient of -ln(mu) separated:
 /// J = regular - log_coef * ln(mu) (log_coef is 0 when z < Z_SERIES).
 #[derive(Debug, Clone)]
-pub struct JValue {
+pub(crate) struct JValue {
     /// weight * J_L(nu).
-    pub j: Float,
+    pub(crate) j: Float,
     /// weight * (coefficient of -ln mu in J_L).
-    pub log_coef: Float,
+    pub(crate) log_coef: Float,
 }
 
 /// Work space for the Meixner three-term recurrence
@@ -116,14 +116,15 @@ impl Rec {
 /// # Accuracy
 /// Cancellation (in m(a), in the forward recurrence and in the final sum) is
 /// partly recorded in `meter`; the caller measures the rest by comparing
-/// precisions (see `pilot_profile` in the parent module).
-pub fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
+/// precisions (see the pilot module).
+#[cfg(test)]
+pub(crate) fn channel_j(ch: &ChannelFloat, p: &NuPoint, meter: &mut Meter) -> JValue {
     channel_j_with(ch, p, meter, None).0
 }
 
-/// As [`channel_j`], with Phi(z, 1, L+1-nu) supplied by the caller when known;
+/// weight * J_L(nu) for one channel (as `channel_j`), with Phi(z, 1, L+1-nu) supplied by the caller when known;
 /// also returns the Phi used (None on the series route).
-pub fn channel_j_with(
+pub(crate) fn channel_j_with(
     ch: &ChannelFloat,
     p: &NuPoint,
     meter: &mut Meter,
@@ -348,8 +349,10 @@ impl RootRatio {
 }
 
 /// Reference evaluation by direct summation over k of the overlaps (no
-/// closed form, no recurrence); cost O(K M). Used to test [`channel_j`].
-pub fn channel_j_direct(ch: &ChannelFloat, p: &NuPoint, kmax: usize) -> Float {
+/// closed form, no recurrence); cost O(K M). Used to test `channel_j`.
+#[cfg(test)]
+pub(crate) fn channel_j_direct(ch: &ChannelFloat, p: &NuPoint, kmax: usize) -> Float {
+    use rug::ops::Pow;
     let prec = p.nu.prec();
     let beta = ch.beta;
     let zp = &p.zp;
@@ -395,5 +398,3 @@ pub fn channel_j_direct(ch: &ChannelFloat, p: &NuPoint, kmax: usize) -> Float {
     let omz_beta = Float::with_val(prec, zp.one_minus_z.clone().pow(beta));
     sum * omz_beta * &ch.ws2 * &p.nu
 }
-
-use rug::ops::Pow;

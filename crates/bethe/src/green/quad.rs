@@ -12,14 +12,14 @@ use std::sync::{Arc, Mutex, OnceLock};
 /// An N-point Gauss–Legendre rule on [0, 1] at a fixed precision, plus the
 /// weights of the product rule for int_0^1 g(x) ln(x) dx.
 #[derive(Debug)]
-pub struct Rule {
+pub(crate) struct Rule {
     /// Nodes in (0, 1), increasing.
-    pub x: Vec<Float>,
+    pub(crate) x: Vec<Float>,
     /// Weights (sum to 1).
-    pub w: Vec<Float>,
+    pub(crate) w: Vec<Float>,
     /// Product-rule weights: int_0^1 g(x) ln x dx ~ sum_i wlog_i g(x_i),
     /// exact for polynomials g of degree < N.
-    pub wlog: Vec<Float>,
+    pub(crate) wlog: Vec<Float>,
 }
 
 type Cache = Mutex<HashMap<(usize, u32), Arc<Rule>>>;
@@ -35,7 +35,7 @@ fn cache() -> &'static Cache {
 /// Nodes and weights are correct to about 2^-(prec-8) (Newton converges
 /// quadratically from the double-precision seeds; iteration stops when the
 /// correction is below 2^-(prec-4) relative).
-pub fn rule(n: usize, prec: u32) -> Arc<Rule> {
+pub(crate) fn rule(n: usize, prec: u32) -> Arc<Rule> {
     if let Some(r) = cache().lock().ok().and_then(|c| c.get(&(n, prec)).cloned()) {
         return r;
     }

@@ -19,26 +19,26 @@ use rug::ops::Pow;
 use rug::Float;
 
 /// Below this z the defining series is summed directly.
-pub const Z_SERIES: f64 = 0.25;
+pub(crate) const Z_SERIES: f64 = 0.25;
 
 /// A value with a separated logarithmic part: value = regular - log_coef * ln(mu).
 #[derive(Debug, Clone)]
-pub struct WithLog {
+pub(crate) struct WithLog {
     /// The full value.
-    pub value: Float,
+    pub(crate) value: Float,
     /// Coefficient of -ln(mu) inside `value` (0 when not separated).
-    pub log_coef: Float,
+    pub(crate) log_coef: Float,
 }
 
 /// Point data shared by the functions of this module.
 #[derive(Debug, Clone)]
-pub struct ZPoint {
+pub(crate) struct ZPoint {
     /// z in [0, 1).
-    pub z: Float,
+    pub(crate) z: Float,
     /// 1 - z, computed without cancellation by the caller.
-    pub one_minus_z: Float,
+    pub(crate) one_minus_z: Float,
     /// mu = -ln z (> 0), computed without cancellation by the caller.
-    pub mu: Float,
+    pub(crate) mu: Float,
 }
 
 /// m(a) for the Meixner parameter `beta` >= 2.
@@ -51,7 +51,7 @@ pub struct ZPoint {
 /// `phi_hint`, when given, is Phi(z, 1, a) already computed by the caller
 /// (for instance from the other channel by the recurrence in a); the Phi used
 /// is returned beside m(a) (None on the series route, which needs none).
-pub fn meixner_stieltjes(
+pub(crate) fn meixner_stieltjes(
     beta: u32,
     a: &Float,
     pt: &ZPoint,
@@ -149,7 +149,7 @@ fn series(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
 
 /// Phi(z, 1, a) for z in [Z_SERIES, 1) with its logarithmic part separated:
 /// value = regular - log_coef ln(mu), log_coef = e^(a mu).
-pub fn lerch_phi(a: &Float, pt: &ZPoint, meter: &mut Meter) -> WithLog {
+pub(crate) fn lerch_phi(a: &Float, pt: &ZPoint, meter: &mut Meter) -> WithLog {
     let prec = a.prec();
     let mu = &pt.mu;
     let muf = mu.to_f64();

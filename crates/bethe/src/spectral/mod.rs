@@ -12,7 +12,7 @@
 //! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n)): exact rational
 //!   squared radial integrals (only the logarithm is rounded): the length
 //!   form by Gordon's formula ([`kzero_basis::gordon::radial_dipole`]), the
-//!   velocity and acceleration forms for n <= [`EXACT_MAX_N`] by direct exact
+//!   velocity and acceleration forms for n <= `EXACT_MAX_N` (60) by direct exact
 //!   integration ([`kzero_basis::radial`], [`kzero_basis::exact`]). For larger
 //!   n, whose direct exact integrals cost about n^4 big-integer operations
 //!   each, these two forms use the MPFR closed form
@@ -92,7 +92,7 @@ const METHOD: &str = "spectral";
 /// velocity and acceleration forms (direct exact integration); above, the
 /// MPFR closed form (cost about n^2 per term instead of n^4). The length
 /// form always uses the exact Gordon formula.
-pub const EXACT_MAX_N: u32 = 60;
+pub(crate) const EXACT_MAX_N: u32 = 60;
 
 /// What is summed over the spectrum, in velocity-form language.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -259,16 +259,19 @@ struct RunResult {
     terms: usize,
 }
 
-struct Problem {
+/// Everything fixed for one spectral sum: the state, the dipole form, the
+/// weight F(D), the bound-free kernels of the open channels with their
+/// angular weights, and how the bound terms are computed.
+struct SpectralSumSetup {
     state: BoundState,
     form: DipoleForm,
     weight: SpectralWeight,
     kernels: Vec<(BoundFreeKernel, Rational)>,
     /// Bound terms from the MPFR closed form instead of exact rationals.
-    closed: bool,
+    closed_form_bound: bool,
 }
 
-impl Problem {
+impl SpectralSumSetup {
     fn shift(&self) -> i32 {
         self.form.velocity_power_shift()
     }
@@ -318,7 +321,7 @@ impl Problem {
             bound += v;
         }
         let mut closed_terms = 0;
-        if self.closed {
+        if self.closed_form_bound {
             let n = self.state.n();
             let en = self.state.energy();
             for (kern, wl) in &self.kernels {
@@ -498,20 +501,20 @@ fn sum_with_goal(
     for ch in Channel::open(l) {
         kernels.push((BoundFreeKernel::new(&state, ch, form)?, ch.weight(l)));
     }
-    let prob = Problem {
+    let setup = SpectralSumSetup {
         state,
         form,
         weight,
         kernels,
-        closed: n > EXACT_MAX_N && form != DipoleForm::Length,
+        closed_form_bound: n > EXACT_MAX_N && form != DipoleForm::Length,
     };
     let n1 = split_point(n);
-    let (exact, extra) = if prob.closed {
+    let (exact, extra) = if setup.closed_form_bound {
         (Vec::new(), Vec::new())
     } else {
         (
-            exact_terms(&prob.state, form, 1, n1)?,
-            exact_terms(&prob.state, form, n1 + 1, n1 + 4)?,
+            exact_terms(&setup.state, form, 1, n1)?,
+            exact_terms(&setup.state, form, n1 + 1, n1 + 4)?,
         )
     };
     let digits_bits = -goal.log2();
@@ -529,7 +532,7 @@ fn sum_with_goal(
             goal,
             trunc: 1e-3,
         };
-        let r1 = prob.run(&p1, &exact)?;
+        let r1 = setup.run(&p1, &exact)?;
         // measured cancellation: bits needed beyond the goal
         let need = (r1.abs_sum / goal).log2().max(0.0) + 24.0;
         let bits2 = (bits + 32).max(need.ceil() as u32 + 8);
@@ -552,7 +555,7 @@ fn sum_with_goal(
             goal,
             trunc: 1e-6,
         };
-        let r2 = prob.run(&p2, &exact2)?;
+        let r2 = setup.run(&p2, &exact2)?;
         let diff = Float::with_val(53, &r1.value - &r2.value).abs().to_f64();
         let err = diff.max(r2.est);
         if err < goal {

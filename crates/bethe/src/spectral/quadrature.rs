@@ -11,17 +11,17 @@ use rug::Float;
 
 /// One quadrature node on (0, pi/2).
 #[derive(Debug, Clone)]
-pub struct Node {
+pub(crate) struct Node {
     /// sin(phi).
-    pub sin: Float,
+    pub(crate) sin: Float,
     /// cos(phi).
-    pub cos: Float,
+    pub(crate) cos: Float,
     /// Weight dphi/dtau (to be multiplied by h).
-    pub weight: Float,
+    pub(crate) weight: Float,
 }
 
 /// The node at tau (any sign), at `prec` bits.
-pub fn node(tau: &Float, prec: u32) -> Node {
+pub(crate) fn node(tau: &Float, prec: u32) -> Node {
     let pi = Float::with_val(prec, Constant::Pi);
     let v = Float::with_val(prec, tau.clone().abs().sinh()) * &pi / 2u32;
     // e = exp(-2|u|)
@@ -53,7 +53,7 @@ pub fn node(tau: &Float, prec: u32) -> Node {
 
 /// The tau values of level `m` (h = 2^-m) that are new at that level
 /// (all of them for m = 0), within lo <= tau <= hi.
-pub fn level_taus(m: u32, lo: f64, hi: f64) -> Vec<(i64, i64)> {
+pub(crate) fn level_taus(m: u32, lo: f64, hi: f64) -> Vec<(i64, i64)> {
     // returned as (numerator i, denominator 2^m): tau = i / 2^m
     let den = 1i64 << m;
     let imin = (lo * den as f64).ceil() as i64;

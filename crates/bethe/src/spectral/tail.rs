@@ -12,7 +12,7 @@ use rug::float::Constant;
 use rug::{Float, Integer};
 
 /// Chebyshev points u_i = (1 + cos(pi (i + 1/2)/K))/2 in (0, 1).
-pub fn nodes(k: usize, prec: u32) -> Vec<Float> {
+pub(crate) fn nodes(k: usize, prec: u32) -> Vec<Float> {
     let pi = Float::with_val(prec, Constant::Pi);
     (0..k)
         .map(|i| {
@@ -25,7 +25,7 @@ pub fn nodes(k: usize, prec: u32) -> Vec<Float> {
 /// Chebyshev coefficients c_j (j < K) of the interpolant through `values`
 /// at [`nodes`], in the convention p(u) = sum_j c_j T_j(2u - 1) with c_0
 /// already halved.
-pub fn coefficients(values: &[Float], prec: u32) -> Vec<Float> {
+pub(crate) fn coefficients(values: &[Float], prec: u32) -> Vec<Float> {
     let k = values.len();
     let pi = Float::with_val(prec, Constant::Pi);
     let mut c = Vec::with_capacity(k);
@@ -47,7 +47,7 @@ pub fn coefficients(values: &[Float], prec: u32) -> Vec<Float> {
 
 /// sum_{n' >= a} n'^-3 p(a^2/n'^2) for the interpolant p with Chebyshev
 /// coefficients `cheb` (see [`coefficients`]), at `prec` bits.
-pub fn sum(cheb: &[Float], a: u32, prec: u32) -> Float {
+pub(crate) fn sum(cheb: &[Float], a: u32, prec: u32) -> Float {
     let k = cheb.len();
     let guard = 3 * k as u32 + 32;
     let hp = prec + guard;

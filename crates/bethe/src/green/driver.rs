@@ -1,0 +1,113 @@
+//! The driver of the Green's-function method: the pilot, the panels in
+//! order with their shares of the goal, the exact part, and the result.
+
+use super::exact_part::ExactState;
+use super::panels::panel_layout;
+use super::pilot::{panel_plan, pilot_profile};
+use super::rates::{nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE, MAX_RATE};
+use super::refine::{converge_panel, IntegrandsByPrecision};
+use crate::settings::validate_state;
+use crate::{BetheError, BetheValue, Method, Settings};
+use rug::Float;
+use std::time::Instant;
+
+/// Relative cost of [`ln_k0`] for (n, l) at `digits` (arbitrary units, for
+/// load balancing only).
+pub fn cost_estimate(n: u32, l: u32, digits: u32) -> f64 {
+    let nf = f64::from(n);
+    let lf = f64::from(l);
+    let bits = f64::from(digits) * 3.32 + 3.0 * nf.log2() + 40.0;
+    let per_node = (nf - lf + 4.0 * lf + 20.0) * (bits / 64.0).powf(1.6);
+    let nodes = (bits / 4.5 + 6.0) * (2.0 + (nf + 1.0).log2());
+    per_node * nodes
+}
+
+/// ln k0(n, l) by the Green's-function method.
+///
+/// # Preconditions
+/// 1 <= n <= 200, 0 <= l < n, `settings.digits` in 5..=200.
+///
+/// # Accuracy
+/// The returned `abs_err` estimates |value - exact| by the difference of two
+/// evaluations with different nodes and bits (see the module docs); it is
+/// below 10^-digits, or the call fails with [`BetheError::NoConvergence`].
+///
+/// # Errors
+/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`],
+/// [`BetheError::DigitsOutOfRange`], [`BetheError::NoConvergence`].
+pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheError> {
+    settings.validate()?;
+    let (n, l) = validate_state(n, l, "green")?;
+    let t0 = Instant::now();
+    let state = ExactState::new(n, l)?;
+    let digits = settings.digits;
+    let goal = 10f64.powi(-(digits as i32));
+    // goal bits on ln k0, plus one decimal of margin
+    let bits = ((f64::from(digits) + 2.0) * std::f64::consts::LOG2_10).ceil() as u32 + 8;
+    let profile = pilot_profile(&state, bits);
+    let panels = panel_layout(state.n, state.first_lower_state());
+    // each panel gets an equal share of the error budget
+    let tol = goal / panels.len() as f64;
+    let mut integrands = IntegrandsByPrecision::new(&state);
+    let mut values: Vec<Float> = Vec::with_capacity(panels.len());
+    let (mut err, mut nodes, mut prec) = (0.0, 0usize, 0u32);
+    let mut rate = FIRST_GUESS_RATE;
+    for panel in &panels {
+        let plan = panel_plan(&profile, panel);
+        let start = if panel.first {
+            // the product-rule panel converges more slowly (log factor)
+            nodes_for(plan.magnitude_exp, tol, FIRST_PANEL_RATE, 4.0)
+        } else {
+            nodes_for(plan.magnitude_exp, tol, rate, 4.0)
+        };
+        match converge_panel(&mut integrands, panel, bits, plan.guard, start, tol) {
+            Ok(r) => {
+                if !panel.first {
+                    rate = r.rate.clamp(BITS_PER_NODE, MAX_RATE);
+                }
+                err += r.err;
+                nodes += r.nodes;
+                prec = prec.max(r.prec);
+                values.push(r.value);
+            }
+            Err(panel_best) => {
+                return Err(BetheError::NoConvergence {
+                    method: "green",
+                    n,
+                    l,
+                    achieved: panel_best * panels.len() as f64,
+                    goal,
+                })
+            }
+        }
+    }
+    // panels may differ in precision: sum at the highest
+    let mut s = state.exact_part(prec);
+    for v in &values {
+        s -= v;
+    }
+    let n3 = u64::from(state.n).pow(3);
+    let value = Float::with_val(prec, s * n3 / 2u32);
+    if err < goal {
+        let terms = state.channels.iter().map(|c| c.coef.len()).sum();
+        return Ok(BetheValue {
+            n,
+            l,
+            value,
+            abs_err: err,
+            digits,
+            method: Method::Green,
+            bits: prec,
+            nodes,
+            terms,
+            seconds: t0.elapsed().as_secs_f64(),
+        });
+    }
+    Err(BetheError::NoConvergence {
+        method: "green",
+        n,
+        l,
+        achieved: err,
+        goal,
+    })
+}

@@ -1,0 +1,112 @@
+//! The exact data of one state and the exact part of S: the lower-state
+//! terms, their image terms, and the constants of the split.
+//!
+//! With D_m = E_m - E_n in hartree (Z = 1), the photon-energy integral is
+//! written for S_h = sum_m |p_nm|^2 D_m ln|D_m| (logarithm of D in
+//! hartree). The Bethe-logarithm numerator uses D in units of Z^2 Ry
+//! (= 2 D hartree at Z = 1): S = S_h + Dsum ln 2 with
+//! Dsum = sum_m |p_nm|^2 D_m, and [`ExactState::exact_part`] adds that
+//! Dsum ln 2 explicitly.
+
+use super::channel::{channels, ChannelData, ChannelFloat};
+use super::integrand::{Integrand, LowerPole};
+use crate::BetheError;
+use rug::{Float, Rational};
+
+/// Exact, precision-independent data of one state.
+pub(crate) struct ExactState {
+    /// Principal quantum number.
+    pub(crate) n: u32,
+    /// The open channels L = l - 1, l + 1.
+    pub(crate) channels: Vec<ChannelData>,
+    /// Dsum = sum_m |p_nm|^2 D_m = 2/n^3 for l = 0, else 0 (hartree, Z = 1).
+    pub(crate) dipole_sum: Rational,
+    /// Dsum_up = Dsum - sum_lower c D: the same sum over the upper states.
+    pub(crate) upper_dipole_sum: Rational,
+}
+
+impl ExactState {
+    /// The data of (n, l).
+    ///
+    /// # Errors
+    /// Propagates basis-crate errors (none for valid states).
+    pub(crate) fn new(n: u32, l: u32) -> Result<Self, BetheError> {
+        let channels = channels(n, l)?;
+        let dipole_sum = if l == 0 {
+            Rational::from((2u64, u64::from(n).pow(3)))
+        } else {
+            Rational::new()
+        };
+        let mut upper_dipole_sum = dipole_sum.clone();
+        for ch in &channels {
+            for low in &ch.lower_states {
+                upper_dipole_sum -= Rational::from(&low.weighted_p2 * &low.energy_diff);
+            }
+        }
+        Ok(ExactState {
+            n,
+            channels,
+            dipole_sum,
+            upper_dipole_sum,
+        })
+    }
+
+    /// The smallest n' of the lower states (None for n = 1 and for states
+    /// without lower states in either channel).
+    pub(crate) fn first_lower_state(&self) -> Option<u32> {
+        self.channels
+            .iter()
+            .flat_map(|c| c.lower_states.iter().map(|low| low.nprime))
+            .min()
+    }
+
+    /// The integrand rounded to `prec` bits.
+    pub(crate) fn integrand(&self, prec: u32) -> Integrand {
+        let mut lower_poles = Vec::new();
+        for ch in &self.channels {
+            for low in &ch.lower_states {
+                lower_poles.push(LowerPole {
+                    nprime: Float::with_val(prec, low.nprime),
+                    residue: Float::with_val(
+                        prec,
+                        Rational::from(&low.weighted_p2 * &low.energy_diff),
+                    ),
+                });
+            }
+        }
+        Integrand {
+            n: self.n,
+            channels: self
+                .channels
+                .iter()
+                .map(|c| ChannelFloat::new(c, prec))
+                .collect(),
+            lower_poles,
+            two_dipole_sum: Float::with_val(prec, Rational::from(&self.dipole_sum * 2u32)),
+        }
+    }
+
+    /// The part of S computed exactly, at `prec` bits: the sum over lower
+    /// states of c D ln|D| (D in hartree) and of their image terms
+    /// -c D ln((n + n')/n'), plus Dsum_up ln w0 (w0 = 1/(2 n^2), the
+    /// binding energy in hartree) and Dsum ln 2 (the change of the unit of
+    /// D inside the logarithm from hartree to Z^2 Ry).
+    pub(crate) fn exact_part(&self, prec: u32) -> Float {
+        let mut s = Float::with_val(prec, 0);
+        for ch in &self.channels {
+            for low in &ch.lower_states {
+                let cd = Float::with_val(prec, Rational::from(&low.weighted_p2 * &low.energy_diff));
+                let ln_abs_d = Float::with_val(prec, -low.energy_diff.clone()).ln();
+                let ln_ratio =
+                    Float::with_val(prec, Rational::from((self.n + low.nprime, low.nprime))).ln();
+                s += cd * (ln_abs_d - ln_ratio);
+            }
+        }
+        let nn = u64::from(self.n) * u64::from(self.n);
+        let ln_w0 = Float::with_val(prec, Rational::from((1u64, 2 * nn))).ln();
+        s += Float::with_val(prec, &self.upper_dipole_sum) * ln_w0;
+        let ln2 = Float::with_val(prec, rug::float::Constant::Log2);
+        s += Float::with_val(prec, &self.dipole_sum) * ln2;
+        s
+    }
+}

@@ -1,0 +1,138 @@
+//! The pilot: the loss to cancellation of the integrand, measured before
+//! the quadrature at 24 log-spaced photon energies, and the starting plan
+//! (guard bits, size) of each panel drawn from it.
+
+use super::exact_part::ExactState;
+use super::meter::Meter;
+use super::panels::Panel;
+use super::scale::{exp2_of, ln_k0_scale, quantize};
+use rayon::prelude::*;
+use rug::Float;
+
+/// Number of pilot points.
+pub(crate) const PILOT_POINTS: u32 = 24;
+
+/// Safety margin (bits) on top of the worst pilot loss of a panel. The pair
+/// of rules of [`super::refine::converge_panel`] differs by 32 bits, so
+/// rounding errors the pilot missed show up in their difference.
+pub(crate) const GUARD_MARGIN: i32 = 24;
+
+/// One point of the pilot: photon-energy variable, loss bits, and the binary
+/// exponent of the node's contribution scale (n^3/2) nu |I(nu)|.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct PilotPoint {
+    pub(crate) nu: f64,
+    pub(crate) loss: i32,
+    pub(crate) mag: i32,
+}
+
+/// Loss profile of the integrand: evaluates it at [`PILOT_POINTS`]
+/// log-spaced photon energies (nu from 1e-5 to 0.99 n) at two precisions
+/// and compares. Returns the points with nu increasing.
+///
+/// The loss is measured on the absolute scale of ln k0 (as in
+/// [`super::panels::panel_integral`]): the difference of the two
+/// evaluations at nu, times (n^3/2) nu (the weight of a log-spaced sample),
+/// is the absolute error the node would bring into ln k0 at the lower
+/// precision. A node whose value is far below the others may lose all its
+/// relative digits without costing any bits of ln k0.
+pub(crate) fn pilot_profile(state: &ExactState, bits: u32) -> Vec<PilotPoint> {
+    let p_lo = quantize(bits + 64);
+    let p_hi = p_lo + 128;
+    let lo = state.integrand(p_lo);
+    let hi = state.integrand(p_hi);
+    let nf = f64::from(state.n);
+    let scale = ln_k0_scale(state.n);
+    // log-spaced over [1e-5, 0.99 n] (down to the smallest nodes of the
+    // first panel): the losses vary smoothly with nu; the odd factor keeps
+    // the points off the integers
+    let lo_nu = 1e-5;
+    let hi_nu = 0.99 * nf;
+    let count = PILOT_POINTS;
+    let points: Vec<f64> = (0..count)
+        .map(|i| {
+            let t = f64::from(i) / f64::from(count - 1);
+            lo_nu * (hi_nu / lo_nu).powf(t) * 0.998_7
+        })
+        .collect();
+    let found: Vec<(i32, i32)> = points
+        .par_iter()
+        .map(|&x| {
+            let mut m = Meter::new();
+            let a = lo.sample(&Float::with_val(p_lo, x), &mut m).value;
+            let mut m2 = Meter::new();
+            let hi_sample = hi.sample(&Float::with_val(p_hi, x), &mut m2);
+            let b = hi_sample.value;
+            if !a.is_finite() || !b.is_finite() {
+                return (p_lo as i32 + 64, 0);
+            }
+            // contribution scale of the node: (n^3/2) nu |I| (log-spaced points)
+            let weight = Float::with_val(p_hi, x) * scale;
+            let mag = exp2_of(&Float::with_val(p_hi, &b * &weight));
+            let d = Float::with_val(p_hi, Float::with_val(p_hi, &a) - &b).abs();
+            // the first panel splits I into I_an + I_log ln nu: each part
+            // carries its own rounding
+            let log_part = Float::with_val(p_hi, &hi_sample.log_coef * x.ln()) * &weight;
+            let metered = m.loss_bits + mag.max(exp2_of(&log_part));
+            if d.is_zero() {
+                return (metered, mag);
+            }
+            // absolute error on ln k0 at p_lo is |d| (n^3/2) nu = 2^(loss - p_lo)
+            let seen = p_lo as i32 + exp2_of(&Float::with_val(p_hi, &d * &weight));
+            (seen.max(metered), mag)
+        })
+        .collect();
+    points
+        .into_iter()
+        .zip(found)
+        .map(|(nu, (loss, mag))| PilotPoint { nu, loss, mag })
+        .collect()
+}
+
+/// Pilot points that speak for a panel: those within a factor 2 of it (all
+/// points below 2 nu1 for the first panel), else the nearest one.
+fn panel_points(profile: &[PilotPoint], panel: &Panel) -> Vec<PilotPoint> {
+    let (lo, hi) = (panel.start / 2.0, panel.end * 2.0);
+    let inside: Vec<PilotPoint> = profile
+        .iter()
+        .filter(|p| (lo..=hi).contains(&p.nu) || (panel.first && p.nu <= hi))
+        .copied()
+        .collect();
+    if !inside.is_empty() {
+        return inside;
+    }
+    let mid = 0.5 * (panel.start + panel.end);
+    profile
+        .iter()
+        .min_by(|a, b| {
+            let da = (a.nu - mid).abs();
+            let db = (b.nu - mid).abs();
+            da.partial_cmp(&db).unwrap_or(std::cmp::Ordering::Equal)
+        })
+        .copied()
+        .into_iter()
+        .collect()
+}
+
+/// Starting plan of one panel, drawn from the pilot.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct PanelPlan {
+    /// Guard bits: the worst pilot loss near the panel plus [`GUARD_MARGIN`].
+    pub(crate) guard: u32,
+    /// Binary exponent of the panel's expected contribution to ln k0.
+    pub(crate) magnitude_exp: i32,
+}
+
+/// The starting plan of `panel`.
+pub(crate) fn panel_plan(profile: &[PilotPoint], panel: &Panel) -> PanelPlan {
+    let pts = panel_points(profile, panel);
+    let worst = pts.iter().map(|p| p.loss).max().unwrap_or(0);
+    // the panel's contribution is about its largest node scale, times the
+    // ratio of its width to the log-spacing of the points (at most 2 here)
+    let magnitude_exp = pts.iter().map(|p| p.mag).max().unwrap_or(0) + 1;
+    let guard = (worst.max(0) + GUARD_MARGIN) as u32;
+    PanelPlan {
+        guard,
+        magnitude_exp,
+    }
+}

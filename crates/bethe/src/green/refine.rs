@@ -1,0 +1,161 @@
+//! Adaptive refinement of one panel: pairs of Gauss rules at two node
+//! counts and two precisions, until their difference meets the panel's
+//! share of the goal.
+
+use super::exact_part::ExactState;
+use super::integrand::Integrand;
+use super::panels::{panel_integral, Panel};
+use super::pilot::GUARD_MARGIN;
+use super::rates::{even_nodes, finer_nodes, BITS_PER_NODE, MAX_NODES};
+use super::scale::{ln_k0_scale, quantize};
+use rug::Float;
+
+/// Most pairs of rules tried on one panel before giving up.
+pub(crate) const MAX_TRIES: u32 = 8;
+
+/// The integrand of one state at several working precisions, each built on
+/// first use and kept for the rest of the computation.
+pub(crate) struct IntegrandsByPrecision<'a> {
+    state: &'a ExactState,
+    built: Vec<Integrand>,
+}
+
+impl<'a> IntegrandsByPrecision<'a> {
+    /// No precision built yet.
+    pub(crate) fn new(state: &'a ExactState) -> Self {
+        IntegrandsByPrecision {
+            state,
+            built: Vec::new(),
+        }
+    }
+
+    /// The integrand at `prec` bits.
+    pub(crate) fn at(&mut self, prec: u32) -> &Integrand {
+        let i = match self.built.iter().position(|p| p.prec() == prec) {
+            Some(i) => i,
+            None => {
+                self.built.push(self.state.integrand(prec));
+                self.built.len() - 1
+            }
+        };
+        &self.built[i]
+    }
+}
+
+/// One converged panel: the integral of the finer rule, its error estimate
+/// on the scale of ln k0, and the nodes and bits it took.
+pub(crate) struct PanelResult {
+    pub(crate) value: Float,
+    pub(crate) err: f64,
+    pub(crate) nodes: usize,
+    pub(crate) prec: u32,
+    /// Bits per node the cruder rule of the accepted pair reached relative
+    /// to the panel's size (a lower bound of the convergence rate).
+    pub(crate) rate: f64,
+}
+
+/// Integrates one panel to an error (on the scale of ln k0) below `tol`,
+/// starting with `guard` bits on top of `bits` and `coarse_nodes` nodes in
+/// the cruder rule.
+///
+/// A pair of rules is compared: the cruder (N nodes, p bits) and the finer
+/// ([`finer_nodes`], p + 32 bits); their difference estimates the error of
+/// the cruder rule, and the finer value is returned. While the estimate
+/// misses `tol`, the next pair reuses the finer rule as its cruder one when
+/// its error is expected to meet the tolerance (at [`BITS_PER_NODE`]), and
+/// otherwise starts from the node count that rate predicts.
+///
+/// # Errors
+/// `Err(best)` with the smallest error estimate reached when the panel does
+/// not converge within [`MAX_TRIES`] pairs.
+pub(crate) fn converge_panel(
+    integrands: &mut IntegrandsByPrecision,
+    panel: &Panel,
+    bits: u32,
+    mut guard: u32,
+    mut coarse_nodes: usize,
+    tol: f64,
+) -> Result<PanelResult, f64> {
+    let scale = ln_k0_scale(integrands.state.n);
+    let mut best = f64::INFINITY;
+    let mut last_err = f64::INFINITY;
+    // the two rules of a pair are at base = bits + guard and base + 32 bits,
+    // in either order; `coarse_at_higher_prec` says the cruder one is at
+    // base + 32 (after the finer rule of a pair became the cruder one of
+    // the next)
+    let mut coarse_at_higher_prec = false;
+    let mut reused_coarse: Option<(Float, i32)> = None;
+    // a loss that eats the guard (the meter saw more cancellation than the
+    // pilot), or a non-finite value: the guard to start again with
+    let short_of_bits = |loss: i32, v: &Float, guard: u32| {
+        (loss + 16 > guard as i32 || !v.is_finite())
+            .then(|| (loss.max(guard as i32) + GUARD_MARGIN) as u32)
+    };
+    for _ in 0..MAX_TRIES {
+        let base = quantize(bits + guard);
+        let (coarse_prec, fine_prec) = if coarse_at_higher_prec {
+            (base + 32, base)
+        } else {
+            (base, base + 32)
+        };
+        let (coarse_value, coarse_loss) = match reused_coarse.take() {
+            Some(c) => c,
+            None => panel_integral(integrands.at(coarse_prec), panel, coarse_nodes),
+        };
+        if let Some(g) = short_of_bits(coarse_loss, &coarse_value, guard) {
+            guard = g;
+            coarse_at_higher_prec = false;
+            continue;
+        }
+        let fine_nodes = finer_nodes(coarse_nodes);
+        let (fine_value, fine_loss) = panel_integral(integrands.at(fine_prec), panel, fine_nodes);
+        let loss = coarse_loss.max(fine_loss);
+        if let Some(g) = short_of_bits(loss, &fine_value, guard) {
+            guard = g;
+            coarse_at_higher_prec = false;
+            continue;
+        }
+        let diff = Float::with_val(coarse_prec.max(fine_prec), &coarse_value - &fine_value)
+            .abs()
+            .to_f64()
+            * scale;
+        // floor: rounding level of the pair after the measured loss
+        let floor = 2f64.powi(loss - base as i32);
+        let err = diff.max(floor) * 2.0;
+        best = best.min(err);
+        if err < tol {
+            let size = Float::with_val(fine_prec, fine_value.abs_ref()).to_f64() * scale;
+            let rate = (size.max(err).log2() - err.log2()) / coarse_nodes as f64;
+            return Ok(PanelResult {
+                value: fine_value,
+                err,
+                nodes: fine_nodes,
+                prec: coarse_prec.max(fine_prec),
+                rate,
+            });
+        }
+        if fine_nodes >= MAX_NODES {
+            break;
+        }
+        if err > last_err * 2f64.powi(-8) {
+            // more nodes did not help: rounding, not the rule, sets the
+            // difference; start again with more bits
+            last_err = f64::INFINITY;
+            guard += 32;
+            coarse_at_higher_prec = false;
+            continue;
+        }
+        last_err = err;
+        // expected error of the finer rule at the assumed rate
+        let gained = BITS_PER_NODE * (fine_nodes - coarse_nodes) as f64;
+        if err.log2() - gained < tol.log2() - 4.0 {
+            reused_coarse = Some((fine_value, fine_loss));
+            coarse_nodes = fine_nodes;
+            coarse_at_higher_prec = !coarse_at_higher_prec;
+        } else {
+            let more = (err.log2() - tol.log2() + 4.0) / BITS_PER_NODE;
+            coarse_nodes = even_nodes(coarse_nodes as f64 + more).max(finer_nodes(fine_nodes));
+        }
+    }
+    Err(best)
+}
