@@ -16,7 +16,7 @@
 use super::meter::Meter;
 use super::quad;
 use rug::ops::Pow;
-use rug::Float;
+use rug::{Assign, Float};
 
 /// Below this z the defining series is summed directly.
 pub(crate) const Z_SERIES: f64 = 0.25;
@@ -74,23 +74,27 @@ pub(crate) fn meixner_stieltjes(
         };
         return (m, None);
     }
-    // q_{beta-2} = 1/(beta-1); q_{i-1} = q_i (i+1-a)/i; r = q_0 (1-a)
-    let b = beta as usize;
-    let mut q = vec![Float::with_val(prec, 0); b - 1];
-    q[b - 2] = Float::with_val(prec, 1) / (beta - 1);
-    for i in (1..=b - 2).rev() {
-        let f = Float::with_val(prec, (i + 1) as u32) - a;
-        q[i - 1] = Float::with_val(prec, &q[i] * &f) / i as u32;
-    }
-    let r = Float::with_val(prec, &q[0] * Float::with_val(prec, 1u32 - a));
-    // poly = sum_i q_i y^(beta-1-i), y = 1-z  (Horner)
+    // poly = sum_{i=0}^{beta-2} q_i y^(beta-1-i), y = 1-z, with
+    // q_{beta-2} = 1/(beta-1) and q_{i-1} = q_i (i+1-a)/i, summed from the
+    // top coefficient down through the terms u_i = q_i y^(beta-1-i) (no
+    // table of coefficients)
     let y = &pt.one_minus_z;
-    let mut poly = Float::with_val(prec, 0);
-    for qi in q.iter() {
-        poly += qi;
-        poly *= y;
-        meter.term(&poly);
+    let mut u = Float::with_val(prec, y / (beta - 1));
+    let mut poly = u.clone();
+    meter.term(&u);
+    let mut f = Float::new(prec);
+    for i in (1..beta - 1).rev() {
+        f.assign((i + 1) - a);
+        u *= &f;
+        u /= i;
+        u *= y;
+        meter.term(&u);
+        poly += &u;
     }
+    // r y^beta = (1-a) u_0 y
+    let mut ry = Float::with_val(prec, 1u32 - a);
+    ry *= &u;
+    ry *= y;
     let phi = match phi_hint {
         Some(v) => WithLog {
             value: v.clone(),
@@ -98,8 +102,6 @@ pub(crate) fn meixner_stieltjes(
         },
         None => lerch_phi(a, pt, meter),
     };
-    let y_beta = Float::with_val(prec, y.clone().pow(beta));
-    let ry = Float::with_val(prec, &r * &y_beta);
     let tail = Float::with_val(prec, &ry * &phi.value);
     meter.term(&tail);
     let value = Float::with_val(prec, &poly + &tail);
