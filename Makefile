@@ -3,7 +3,7 @@
 
 CARGO ?= cargo
 
-.PHONY: setup demo test lint doc ci bench
+.PHONY: setup demo test python-test lint doc ci bench
 
 setup:
 	@sh scripts/ensure-m4.sh
@@ -12,9 +12,16 @@ setup:
 demo: setup
 	$(CARGO) run --release --quiet -- table --n-max 3 --digits 20
 
-# The whole test suite, optimized (heavy numerics).
+# The whole test suite, optimized (heavy numerics), then the Python package's
+# tests (built into .venv-test; see scripts/python-test.sh).
 test: setup
 	$(CARGO) test --release --workspace
+	sh scripts/python-test.sh
+
+# Only the Python package: build it into .venv-test and run pytest.
+python-test: setup
+	$(CARGO) build --release --bin kzero
+	sh scripts/python-test.sh
 
 lint: setup
 	$(CARGO) fmt --all -- --check

@@ -43,6 +43,7 @@ impl From<kzero_bethe::BetheError> for AppError {
             E::InvalidState { .. }
             | E::OutOfRange { .. }
             | E::DigitsOutOfRange { .. }
+            | E::GoalOutOfReach { .. }
             | E::GaugeUnsupported { .. } => AppError::BadInput(e.to_string()),
             E::Basis(ref b) => AppError::from(b.clone()),
             _ => AppError::Other(e.to_string()),

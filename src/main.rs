@@ -9,6 +9,7 @@ mod app_error;
 mod basis_cmd;
 mod check;
 mod engine;
+mod interrupt;
 mod merge;
 mod output;
 mod plot;

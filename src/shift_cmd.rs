@@ -185,7 +185,7 @@ fn settings_from_args(a: &ShiftArgs) -> Result<Settings, AppError> {
             kzero_bethe::settings::MAX_DIGITS
         ))
     })?;
-    let s = Settings { digits };
+    let s = Settings::with_digits(digits);
     s.validate()?;
     Ok(s)
 }

@@ -3,6 +3,7 @@
 
 use crate::app_error::AppError;
 use crate::engine::{self, Computed, GaugeChoice, MethodChoice};
+use crate::interrupt;
 use crate::output;
 use crate::plot;
 use crate::tablefile::{self, LSelect, Row, Shard, Table, TableSettings};
@@ -106,6 +107,11 @@ Crash safety and --resume:
   goes, finished rows are kept in FILE.partial (a CSV journal in the format
   above); `--resume --format json --out FILE` continues from FILE.partial and
   removes it when FILE is written.
+  A file left by a run killed before its first row (empty, or a header cut
+  before its column line) holds no work yet: --resume starts the work on it
+  (a cut header that names other settings is refused).
+  SIGINT or SIGTERM ends the run with one line on stderr saying where the
+  finished rows are and how to continue; the process then ends by that signal.
 
 Sharding:
   --shard K/M splits the states into M disjoint parts of similar estimated
@@ -256,8 +262,14 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
     if let Some(out) = &a.out {
         tablefile::check_output_folder(out, "--out")?;
         let jpath = journal_path(out, format);
-        if a.resume {
-            let (loaded, from) = load_for_resume(out, &jpath, format)?;
+        // A file left by a run killed before its first row (empty, or a cut
+        // header) is an empty journal: --resume starts the work on it.
+        let loaded = if a.resume {
+            load_for_resume(out, &jpath, format, &settings, shard)?
+        } else {
+            None
+        };
+        if let Some((loaded, from)) = loaded {
             check_resumable(&loaded, &from, &settings, shard, &planned)?;
             table.prov = loaded.prov.clone();
             table.rows = loaded.rows.clone();
@@ -271,12 +283,14 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             table.prov.push(("resumed_command".into(), cmd));
             journal = Some(j);
         } else {
-            for p in [out, &jpath] {
-                if p.exists() && !a.force {
-                    return Err(AppError::BadInput(format!(
-                        "{} already exists; use --resume to continue it or --force to replace it",
-                        p.display()
-                    )));
+            if !a.resume {
+                for p in [out, &jpath] {
+                    if p.exists() && !a.force {
+                        return Err(AppError::BadInput(format!(
+                            "{} already exists; use --resume to continue it or --force to replace it",
+                            p.display()
+                        )));
+                    }
                 }
             }
             let mut f = OpenOptions::new()
@@ -293,6 +307,7 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             });
         }
     }
+    interrupt::on_stop(stop_hint(a, format))?;
 
     let done: std::collections::BTreeSet<(u32, u32)> =
         table.rows.iter().map(|r| (r.n, r.l)).collect();
@@ -350,26 +365,39 @@ fn looks_like_json(path: &Path) -> bool {
         == Some(b'{')
 }
 
-fn load_for_resume(out: &Path, jpath: &Path, format: Format) -> Result<(Table, PathBuf), AppError> {
+/// The table a `--resume` run continues and the file it came from, or `None`
+/// when the journal holds no row yet (see [`tablefile::unstarted_journal`]):
+/// then the run starts the work, as on an empty journal.
+fn load_for_resume(
+    out: &Path,
+    jpath: &Path,
+    format: Format,
+    settings: &TableSettings,
+    shard: Shard,
+) -> Result<Option<(Table, PathBuf)>, AppError> {
+    let unstarted = unstarted(jpath, settings, shard)?;
     match format {
         Format::Csv => {
+            if unstarted {
+                return Ok(None);
+            }
             if looks_like_json(out) {
                 return Err(AppError::BadInput(format!(
                     "--resume: {} is a JSON table; resume it with --format json",
                     out.display()
                 )));
             }
-            Ok((tablefile::read_table(out)?, out.to_path_buf()))
+            Ok(Some((tablefile::read_table(out)?, out.to_path_buf())))
         }
         Format::Json => {
-            if jpath.exists() {
+            if jpath.exists() && !unstarted {
                 if looks_like_json(jpath) {
                     return Err(AppError::BadInput(format!(
                         "--resume: {} is not a kzero CSV journal",
                         jpath.display()
                     )));
                 }
-                Ok((tablefile::read_table(jpath)?, jpath.to_path_buf()))
+                Ok(Some((tablefile::read_table(jpath)?, jpath.to_path_buf())))
             } else if out.exists() {
                 if !looks_like_json(out) {
                     return Err(AppError::BadInput(format!(
@@ -377,7 +405,9 @@ fn load_for_resume(out: &Path, jpath: &Path, format: Format) -> Result<(Table, P
                         out.display()
                     )));
                 }
-                Ok((tablefile::read_table(out)?, out.to_path_buf()))
+                Ok(Some((tablefile::read_table(out)?, out.to_path_buf())))
+            } else if unstarted {
+                Ok(None)
             } else {
                 Err(AppError::BadInput(format!(
                     "--resume: neither {} nor {} exists",
@@ -387,6 +417,38 @@ fn load_for_resume(out: &Path, jpath: &Path, format: Format) -> Result<(Table, P
             }
         }
     }
+}
+
+/// Whether `jpath` exists and holds no row yet. Bad input when the header
+/// it got to write names other settings or another shard than the command.
+fn unstarted(jpath: &Path, settings: &TableSettings, shard: Shard) -> Result<bool, AppError> {
+    let Ok(bytes) = fs::read(jpath) else {
+        return Ok(false);
+    };
+    let Some(pairs) = tablefile::unstarted_journal(&bytes) else {
+        return Ok(false);
+    };
+    let mine = settings.pairs();
+    let mut diffs = Vec::new();
+    for (k, v) in &pairs {
+        if let Some(sk) = k.strip_prefix("setting.") {
+            if let Some((_, want)) = mine.iter().find(|(m, _)| *m == sk) {
+                if v != want {
+                    diffs.push(format!("{sk} ({v} vs {want})"));
+                }
+            }
+        } else if k == "shard" && *v != shard.to_string() {
+            diffs.push(format!("shard ({v} vs {shard})"));
+        }
+    }
+    if !diffs.is_empty() {
+        return Err(AppError::BadInput(format!(
+            "--resume: {} was started with other settings: {}",
+            jpath.display(),
+            diffs.join(", ")
+        )));
+    }
+    Ok(true)
 }
 
 fn check_resumable(
@@ -445,9 +507,11 @@ fn open_journal_for_resume(jpath: &Path, from: &Path, loaded: &Table) -> Result<
         })
     } else {
         // Resuming a finished JSON table: start a journal holding its rows.
+        // (A journal already there holds no row: see `load_for_resume`.)
         let mut f = OpenOptions::new()
             .write(true)
-            .create_new(true)
+            .create(true)
+            .truncate(true)
             .open(jpath)
             .map_err(io)?;
         f.write_all(loaded.to_csv().as_bytes()).map_err(io)?;
@@ -456,6 +520,24 @@ fn open_journal_for_resume(jpath: &Path, from: &Path, loaded: &Table) -> Result<
             path: jpath.to_path_buf(),
         })
     }
+}
+
+/// What SIGINT or SIGTERM tells about continuing this run.
+fn stop_hint(a: &TableArgs, format: Format) -> String {
+    let Some(out) = &a.out else {
+        return "nothing was kept (the table goes to standard output); run with --out FILE to be able to resume".into();
+    };
+    let how = if a.resume {
+        "run the same command again"
+    } else if a.force {
+        "run the same command with --resume in place of --force"
+    } else {
+        "run the same command with --resume"
+    };
+    format!(
+        "finished rows are kept in {}; to continue, {how}",
+        journal_path(out, format).display()
+    )
 }
 
 /// What happened in a run, apart from the rows.

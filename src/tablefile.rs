@@ -729,6 +729,33 @@ fn parse_json(text: &str) -> Result<Table, String> {
     })
 }
 
+/// Whether `bytes` is what a table run killed before its first row leaves
+/// in its journal: an empty file, or the start of a CSV header (the magic
+/// line or a piece of it, further `#` lines, perhaps a cut last line) with no
+/// complete column line and no row. Returns the (key, value) pairs of the
+/// complete `#` lines after the magic line (`setting.digits`, `shard`, ...),
+/// or `None` for anything else: such files are judged by [`read_table`].
+pub fn unstarted_journal(bytes: &[u8]) -> Option<Vec<(String, String)>> {
+    let text = std::str::from_utf8(bytes).ok()?;
+    let complete = &text[..text.rfind('\n').map_or(0, |i| i + 1)];
+    let cut = &text[complete.len()..];
+    let mut lines = complete.lines();
+    let Some(first) = lines.next() else {
+        return MAGIC.starts_with(cut).then(Vec::new);
+    };
+    if first != MAGIC {
+        return None;
+    }
+    let mut pairs = Vec::new();
+    for line in lines {
+        let c = line.strip_prefix('#')?.trim_start();
+        let (k, v) = c.split_once(':').unwrap_or((c, ""));
+        pairs.push((k.trim().to_string(), v.trim().to_string()));
+    }
+    let all_columns = [&BASE_COLUMNS[..], &BOTH_COLUMNS[..]].concat().join(",");
+    (cut.starts_with('#') || all_columns.starts_with(cut)).then_some(pairs)
+}
+
 /// Checks that an output path can be created: its folder exists and is a
 /// folder.
 ///
@@ -888,6 +915,30 @@ mod tests {
         assert!(parse_csv("a,b,c\n1,2,3\n")
             .unwrap_err()
             .contains("not a kzero table"));
+    }
+
+    #[test]
+    fn only_a_header_cut_before_its_column_line_is_an_unstarted_journal() {
+        let s = table().to_csv();
+        let columns_at = s.find("\nn,l,").unwrap() + 1;
+        assert_eq!(unstarted_journal(b""), Some(Vec::new()));
+        // Every cut inside the header, up to the whole column line without
+        // its newline.
+        let col_end = columns_at + BASE_COLUMNS.join(",").len();
+        for end in 0..=col_end {
+            let got = unstarted_journal(&s.as_bytes()[..end]);
+            assert!(got.is_some(), "cut at {end}: {:?}", &s[..end]);
+        }
+        let pairs = unstarted_journal(&s.as_bytes()[..columns_at]).unwrap();
+        assert!(pairs.contains(&("setting.digits".into(), "10".into())));
+        assert!(pairs.contains(&("shard".into(), "1/1".into())));
+        // A complete column line, a row, or foreign text is not.
+        assert_eq!(unstarted_journal(s.as_bytes()), None);
+        assert_eq!(unstarted_journal(&s.as_bytes()[..=col_end]), None);
+        assert_eq!(unstarted_journal(b"name,value\n"), None);
+        assert_eq!(unstarted_journal(b"x"), None);
+        assert_eq!(unstarted_journal(b"# kzero-table: 2\n"), None);
+        assert_eq!(unstarted_journal(&[0xff, 0xfe]), None);
     }
 
     #[test]

@@ -26,8 +26,10 @@ pub enum BetheError {
         method: &'static str,
     },
     /// Requested digits outside the accepted range.
-    #[error("--digits {digits} is outside the accepted range {min}..={max}")]
+    #[error("{option} {digits} is outside the accepted range {min}..={max}")]
     DigitsOutOfRange {
+        /// The option that set them: `--digits` (absolute) or `--significant`.
+        option: &'static str,
         /// Digits as given.
         digits: u32,
         /// Smallest accepted.
@@ -48,6 +50,21 @@ pub enum BetheError {
         achieved: f64,
         /// Requested absolute error.
         goal: f64,
+    },
+    /// A significant-digit goal that would need an absolute goal finer than
+    /// the finest accepted one (the value is too close to zero).
+    #[error("(n={n}, l={l}): {digits} significant digits need an absolute goal of 10^-{needed}, beyond the finest accepted 10^-{max} (the value is too close to zero)")]
+    GoalOutOfReach {
+        /// State.
+        n: u32,
+        /// State.
+        l: u32,
+        /// Requested significant digits.
+        digits: u32,
+        /// Decimals the absolute goal would need.
+        needed: u32,
+        /// Finest accepted absolute goal (decimals).
+        max: u32,
     },
     /// A gauge that is not available for this class of states.
     #[error("the {gauge} form is not available for (n={n}, l={l}): {reason}")]

@@ -14,7 +14,10 @@
 //! computations run at Z = 1 (atomic units, infinite nuclear mass).
 //!
 //! ## Accuracy contract
-//! [`Settings::digits`] = D asks for an absolute error below 10^-D. Each
+//! [`Settings::digits`] = D asks for an absolute error below 10^-D
+//! ([`Goal::Absolute`]), or with [`Goal::Significant`] for
+//! |error| <= 10^-D |value| (met through absolute goals from a measured
+//! magnitude, see [`Settings`]). Each
 //! result carries `abs_err`, an *estimate* of the actual error obtained by
 //! refinement: the computation is repeated with more quadrature nodes, more
 //! series terms and more working bits, and the difference (times a safety
@@ -22,6 +25,14 @@
 //! returned as [`BetheError::NoConvergence`], never as a number. Working
 //! precision is chosen from D plus guard bits that the methods measure at the
 //! given (n, l) (cancellation grows with n).
+//!
+//! ## Printed values
+//! Every decimal string of this crate follows one rule ([`value::printed`]):
+//! the value is rounded to nearest (D + 2 decimals for an absolute goal,
+//! D + 2 significant digits for a significant one), and the printed error is
+//! `abs_err` plus that rounding, rounded *up* to two significant digits. So
+//! |printed value - exact| <= printed error whenever `abs_err` covers the
+//! computed value.
 #![deny(missing_docs)]
 
 pub mod error;
@@ -31,5 +42,5 @@ pub mod spectral;
 pub mod value;
 
 pub use error::BetheError;
-pub use settings::Settings;
-pub use value::{BetheValue, Gauge, Method};
+pub use settings::{Goal, Settings};
+pub use value::{BetheValue, Gauge, Method, Printed};

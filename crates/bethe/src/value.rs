@@ -1,5 +1,6 @@
 //! The result of a Bethe-logarithm computation: value, error estimate, diagnostics.
 
+use crate::settings::Goal;
 use rug::Float;
 use std::fmt::Write as _;
 
@@ -49,7 +50,8 @@ impl Gauge {
 ///
 /// `value` is held at `bits` of precision; `abs_err` is an *estimate* of
 /// |value - exact| obtained by refinement (see the crate documentation), not a
-/// rigorous bound.
+/// rigorous bound. What is printed is [`BetheValue::printed`]: a decimal and
+/// an error that covers that decimal (the printed-value rule below).
 #[derive(Debug, Clone)]
 pub struct BetheValue {
     /// Principal quantum number.
@@ -58,10 +60,13 @@ pub struct BetheValue {
     pub l: u32,
     /// ln k0(n, l), energies in units of Z^2 Ry.
     pub value: Float,
-    /// Estimated absolute error of `value`.
+    /// Estimated absolute error of `value` (not of its printed decimal).
     pub abs_err: f64,
-    /// Requested digits D (goal: abs_err < 10^-D).
+    /// Requested digits D: abs_err < 10^-D (absolute goal) or
+    /// abs_err <= 10^-D |value| (significant goal).
     pub digits: u32,
+    /// The kind of goal `digits` sets.
+    pub goal: Goal,
     /// Method that produced the value.
     pub method: Method,
     /// Working precision of the final evaluation (bits).
@@ -70,27 +75,119 @@ pub struct BetheValue {
     pub nodes: usize,
     /// Series terms (or spectral terms) used by the final evaluation.
     pub terms: usize,
-    /// Wall time in seconds.
+    /// Wall time in seconds (all runs, for a significant goal).
     pub seconds: f64,
 }
 
 impl BetheValue {
-    /// The value as a decimal string with `digits + 2` digits after the point
-    /// (rounded to nearest), for example `2.98412855576549841...`.
-    pub fn value_string(&self) -> String {
-        decimal_string(&self.value, self.digits as usize + 2)
+    /// Digits after the decimal point of the printed value: D + 2 for an
+    /// absolute goal; for a significant goal, as many as give D + 2
+    /// significant digits.
+    pub fn decimals(&self) -> usize {
+        decimals_for(&self.value, self.digits, self.goal)
     }
 
-    /// The error estimate as a short decimal string, e.g. `3.1e-24`.
+    /// The printed value and its printed error (the printed-value rule of
+    /// [`printed`]).
+    pub fn printed(&self) -> Printed {
+        printed(&self.value, self.abs_err, self.decimals())
+    }
+
+    /// The value as a decimal string with [`BetheValue::decimals`] digits
+    /// after the point (rounded to nearest), for example `2.98412855576549841...`.
+    pub fn value_string(&self) -> String {
+        self.printed().value
+    }
+
+    /// The error of the printed value, rounded up to two significant digits,
+    /// e.g. `3.1e-24`: it covers the estimated error and the rounding of the
+    /// decimal of [`BetheValue::value_string`].
     pub fn abs_err_string(&self) -> String {
-        format_err(self.abs_err)
+        self.printed().abs_err
+    }
+}
+
+/// Digits after the point that print `x` to the goal `digits`/`goal` (see
+/// [`BetheValue::decimals`]).
+pub fn decimals_for(x: &Float, digits: u32, goal: Goal) -> usize {
+    let base = digits as usize + 2;
+    match goal {
+        Goal::Absolute => base,
+        Goal::Significant => {
+            if x.is_zero() || !x.is_finite() {
+                return base;
+            }
+            // x = m 2^e with 1/2 <= |m| < 1: floor(log10 |x|) from a 53-bit copy
+            let lead = Float::with_val(53, x.abs_ref()).log10().to_f64().floor();
+            let lead = if lead.is_finite() { lead as i64 } else { 0 };
+            // D + 2 significant digits: the last one at 10^(lead - D - 1)
+            (base as i64 - 1 - lead).max(0) as usize
+        }
+    }
+}
+
+/// A value as it is printed: a decimal, and an error that covers it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Printed {
+    /// The decimal, rounded to nearest, e.g. `2.9841286`.
+    pub value: String,
+    /// The printed error, e.g. `4.5e-8`: two significant digits, rounded up.
+    pub abs_err: String,
+    /// `abs_err` as a number (at least the true printed error).
+    pub err: f64,
+}
+
+/// The printed-value rule, used by every output of the workspace.
+///
+/// `x` is rounded to `frac` digits after the point (the decimal v_p), and the
+/// printed error is `abs_err` + |v_p - x| (the rounding, measured exactly),
+/// rounded *up* to two significant digits ([`format_err`]). So if `abs_err`
+/// covers |x - exact|, the printed error covers |v_p - exact|. The rounding
+/// adds at most half a unit of the last printed decimal.
+pub fn printed(x: &Float, abs_err: f64, frac: usize) -> Printed {
+    let (value, int) = decimal_parts(x, frac);
+    // |v_p - x| at enough precision that the difference is exact to 2^-64 relative
+    let prec = x.prec().max(64) + (frac as f64 * std::f64::consts::LOG2_10).ceil() as u32 + 64;
+    let scale = rug::Integer::from(10).pow(frac as u32);
+    let vp = rug::Rational::from((int, scale));
+    let mut diff = Float::with_val(prec, &vp);
+    diff -= x;
+    let rounding = Float::with_val_round(53, diff.abs_ref(), rug::float::Round::Up)
+        .0
+        .to_f64();
+    let total = up(abs_err + rounding);
+    let abs_err = format_err(total);
+    let err = abs_err.parse::<f64>().unwrap_or(total);
+    Printed {
+        value,
+        abs_err,
+        err,
+    }
+}
+
+/// `e` made slightly larger, so that the sum of two rounded f64 terms is not
+/// below the exact sum.
+fn up(e: f64) -> f64 {
+    if e == 0.0 {
+        0.0
+    } else {
+        e * (1.0 + 4.0 * f64::EPSILON)
     }
 }
 
 /// Formats `x` with exactly `frac` digits after the decimal point (no
 /// exponent), rounding to nearest. Deterministic for a given `x`.
+///
+/// This is the bare decimal: an error printed beside it must include the
+/// rounding (see [`printed`]).
 pub fn decimal_string(x: &Float, frac: usize) -> String {
-    let prec = x.prec().max(64);
+    decimal_parts(x, frac).0
+}
+
+/// The decimal of `x` with `frac` digits after the point, and the integer
+/// round(x 10^frac) it shows.
+fn decimal_parts(x: &Float, frac: usize) -> (String, rug::Integer) {
+    let prec = x.prec().max(64) + (frac as f64 * std::f64::consts::LOG2_10).ceil() as u32;
     let scale = rug::Integer::from(10).pow(frac as u32);
     let scaled = Float::with_val(prec + 64, x * &scale);
     let int = scaled.round().to_integer().unwrap_or_default();
@@ -103,17 +200,36 @@ pub fn decimal_string(x: &Float, frac: usize) -> String {
     if int < 0 {
         s.push('-');
     }
-    let _ = write!(s, "{}.{}", &digits[..split], &digits[split..]);
-    s
+    if frac == 0 {
+        s.push_str(&digits);
+    } else {
+        let _ = write!(s, "{}.{}", &digits[..split], &digits[split..]);
+    }
+    (s, int)
 }
 
-/// Formats an error estimate with two significant digits in exponent form.
+/// Formats an error estimate with two significant digits in exponent form,
+/// rounding *up* (1.04e-23 prints as 1.1e-23), so that the printed error is
+/// never below `e`. Zero prints as `0`.
 pub fn format_err(e: f64) -> String {
-    if e == 0.0 {
-        "0".to_string()
-    } else {
-        format!("{e:.1e}")
+    if e == 0.0 || !e.is_finite() {
+        return if e == 0.0 { "0".into() } else { format!("{e}") };
     }
+    let s = format!("{e:.1e}");
+    if s.parse::<f64>().is_ok_and(|p| p >= e) {
+        return s;
+    }
+    // bump the second digit: "a.be-x" -> one unit up
+    let (mant, exp) = s.split_once('e').unwrap_or((&s, "0"));
+    let mut exp: i32 = exp.parse().unwrap_or(0);
+    let m: u32 = mant.replace('.', "").parse().unwrap_or(99) + 1;
+    let m = if m >= 100 {
+        exp += 1;
+        10
+    } else {
+        m
+    };
+    format!("{}.{}e{exp}", m / 10, m % 10)
 }
 
 /// Hint for `rug::Integer::pow` in `decimal_string`.

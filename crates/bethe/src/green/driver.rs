@@ -6,7 +6,7 @@ use super::panels::panel_layout;
 use super::pilot::{panel_plan, pilot_profile};
 use super::rates::{nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE, MAX_RATE};
 use super::refine::{converge_panel, IntegrandsByPrecision};
-use crate::settings::validate_state;
+use crate::settings::{meet_significant, validate_state, Goal};
 use crate::{BetheError, BetheValue, Method, Settings};
 use rug::Float;
 use std::time::Instant;
@@ -38,6 +38,9 @@ pub fn cost_estimate(n: u32, l: u32, digits: u32) -> f64 {
 pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheError> {
     settings.validate()?;
     let (n, l) = validate_state(n, l, "green")?;
+    if settings.goal == Goal::Significant {
+        return meet_significant(n, l, settings, |s| ln_k0(n.into(), l.into(), s));
+    }
     let t0 = Instant::now();
     let state = ExactState::new(n, l)?;
     let digits = settings.digits;
@@ -96,6 +99,7 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
             value,
             abs_err: err,
             digits,
+            goal: Goal::Absolute,
             method: Method::Green,
             bits: prec,
             nodes,

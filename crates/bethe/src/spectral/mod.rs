@@ -75,7 +75,7 @@ mod quadrature;
 mod tail;
 
 use crate::error::BetheError;
-use crate::settings::{validate_state, Settings};
+use crate::settings::{meet_significant, significant_loop, validate_state, Goal, Settings};
 use crate::value::{BetheValue, Gauge, Method};
 use kzero_basis::continuum::{BoundFreeKernel, DipoleForm};
 use kzero_basis::gordon::radial_dipole;
@@ -465,8 +465,10 @@ fn split_point(n: u32) -> u32 {
 }
 
 /// The spectral sum of `weight` for the state (n, l) in the form `gauge`,
-/// with an absolute error goal of 10^-goal_digits *on the sum itself*
-/// (atomic units, Z = 1).
+/// with the goal of `settings` *on the sum itself* (atomic units, Z = 1):
+/// absolute, or significant digits of the sum (a sum that vanishes, such as
+/// sum |p|^2 D for l > 0, cannot meet a significant goal and gives
+/// [`BetheError::GoalOutOfReach`]).
 ///
 /// # Accuracy
 /// As the module documentation: refinement in bits, nodes, tail order and
@@ -483,6 +485,14 @@ pub fn spectral_sum(
     settings: &Settings,
 ) -> Result<SpectralSum, BetheError> {
     settings.validate()?;
+    if settings.goal == Goal::Significant {
+        let (nu, lu) = validate_state(n, l, METHOD)?;
+        return significant_loop(nu, lu, settings, |s| {
+            let r = spectral_sum(n, l, gauge, weight, s)?;
+            let (x, e) = (r.value.to_f64(), r.abs_err);
+            Ok((r, x, e))
+        });
+    }
     let goal = 10f64.powi(-(settings.digits as i32));
     sum_with_goal(n, l, gauge, weight, goal)
 }
@@ -600,6 +610,9 @@ pub fn ln_k0(n: i64, l: i64, gauge: Gauge, settings: &Settings) -> Result<BetheV
     let start = Instant::now();
     settings.validate()?;
     let (nu, lu) = validate_state(n, l, METHOD)?;
+    if settings.goal == Goal::Significant {
+        return meet_significant(nu, lu, settings, |s| ln_k0(n, l, gauge, s));
+    }
     // S / D0 with D0 = 2/n^3: goal on S is 10^-D * D0
     let d0 = Rational::from((2, nu * nu * nu));
     let d0f = d0.to_f64();
@@ -623,6 +636,7 @@ pub fn ln_k0(n: i64, l: i64, gauge: Gauge, settings: &Settings) -> Result<BetheV
         value,
         abs_err,
         digits: settings.digits,
+        goal: Goal::Absolute,
         method: Method::Spectral,
         bits: s.bits,
         nodes: s.nodes,

@@ -1,0 +1,15 @@
+"""Type stubs of the native module kzero._kzero (built from crates/python).
+
+Use the public functions of ``kzero`` instead: they wrap these and return
+``kzero.Value`` objects with ``decimal.Decimal`` fields.
+"""
+
+from typing import Any, Dict
+
+__version__: str
+
+class InvalidInput(ValueError): ...
+class NoConvergence(RuntimeError): ...
+class MethodsDisagree(RuntimeError): ...
+
+def ln_k0(n: int, l: int, digits: int, method: str, gauge: str) -> Dict[str, Any]: ...
