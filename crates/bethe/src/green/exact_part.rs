@@ -104,7 +104,8 @@ impl ExactState {
             let cd = Float::with_val(wp, a);
             upper -= &cd;
             let ln_abs_d = Float::with_val(wp, -low.energy_diff.clone()).ln();
-            let ln_ratio = Float::with_val(wp, Rational::from((self.n + low.nprime, low.nprime))).ln();
+            let ln_ratio =
+                Float::with_val(wp, Rational::from((self.n + low.nprime, low.nprime))).ln();
             s += cd * (ln_abs_d - ln_ratio);
         }
         let nn = u64::from(self.n) * u64::from(self.n);
