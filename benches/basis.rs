@@ -38,16 +38,22 @@ fn overlaps_n50(c: &mut Criterion) {
 
 /// One bound-free radial dipole element <E p| r |50 s> at E = 0.5 hartree,
 /// 128 bits, closed form (`continuum::BoundFreeKernel`); the kernel (exact
-/// bound-state data) is built once, as in a spectral-sum run.
+/// bound-state data) is built once and a loss hint is carried from one
+/// evaluation to the next, as in a spectral-sum run.
 fn bound_free_n50(c: &mut Criterion) {
-    use kzero_basis::continuum::{BoundFreeKernel, DipoleForm};
+    use kzero_basis::continuum::{BoundFreeKernel, DipoleForm, LossHint};
     let s = BoundState::hydrogen(50, 0).unwrap();
     let kernel = BoundFreeKernel::new(&s, Channel::Up, DipoleForm::Length).unwrap();
     let e = Float::with_val(128, 0.5);
     let mut g = c.benchmark_group("bound_free_50s_Ep");
     g.sample_size(20);
     g.bench_function("length_E0.5_128bits", |bch| {
-        bch.iter(|| kernel.continuum(black_box(&e), 128).unwrap())
+        let mut hint = LossHint::new();
+        bch.iter(|| {
+            kernel
+                .continuum_hinted(black_box(&e), 128, &mut hint)
+                .unwrap()
+        })
     });
     g.bench_function("kernel_build", |bch| {
         bch.iter(|| BoundFreeKernel::new(black_box(&s), Channel::Up, DipoleForm::Length).unwrap())

@@ -2,9 +2,10 @@
 //! ln k0(1,0) at 20, 50 and 100 digits, and ln k0(200,0) at 20 digits.
 //! Figures go to benches/README.md ("Green's-function method").
 //!
-//! Note: quadrature rules are cached per process, so after the first
-//! iteration each sample measures the engine without rule construction, as
-//! in a table run.
+//! Note: quadrature rules are kept in a bounded process-wide cache (they
+//! depend only on nodes and bits, so the cache changes times, not results),
+//! so after the first iteration each sample measures the engine without
+//! rule construction, as in a table run.
 
 use criterion::{black_box, criterion_group, criterion_main, Criterion};
 use kzero_bethe::green::ln_k0;

@@ -36,18 +36,19 @@ impl fmt::Display for AppError {
     }
 }
 
-impl From<kzero_bethe::BetheError> for AppError {
-    fn from(e: kzero_bethe::BetheError) -> Self {
-        use kzero_bethe::BetheError as E;
-        match e {
-            E::InvalidState { .. }
-            | E::OutOfRange { .. }
-            | E::DigitsOutOfRange { .. }
-            | E::GoalOutOfReach { .. }
-            | E::GaugeUnsupported { .. } => AppError::BadInput(e.to_string()),
-            E::Basis(ref b) => AppError::from(b.clone()),
+impl From<kzero_engine::EngineError> for AppError {
+    fn from(e: kzero_engine::EngineError) -> Self {
+        match e.class() {
+            kzero_engine::ErrorClass::BadInput => AppError::BadInput(e.to_string()),
+            kzero_engine::ErrorClass::CheckFailed => AppError::CheckFailed(e.to_string()),
             _ => AppError::Other(e.to_string()),
         }
+    }
+}
+
+impl From<kzero_bethe::BetheError> for AppError {
+    fn from(e: kzero_bethe::BetheError) -> Self {
+        AppError::from(kzero_engine::EngineError::from(e))
     }
 }
 

@@ -33,7 +33,7 @@ pub struct RadialArgs {
     )]
     pub power: i32,
     /// Decimals printed: absolute error below 10^-D (5..=200).
-    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::digits_parser())]
+    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::args::digits_parser())]
     pub digits: u32,
     /// One JSON object instead of text.
     #[arg(long)]
@@ -56,7 +56,7 @@ pub struct OscillatorArgs {
     #[arg(value_name = "L2", allow_negative_numbers = true)]
     pub l2: i64,
     /// Decimals printed: absolute error below 10^-D (5..=200).
-    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::digits_parser())]
+    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::args::digits_parser())]
     pub digits: u32,
     /// One JSON object instead of text.
     #[arg(long)]

@@ -2,7 +2,6 @@
 //! and a cross-method sample, as one pass/fail table.
 
 use crate::app_error::AppError;
-use crate::engine::{self, GaugeChoice, MethodChoice};
 use crate::output;
 use kzero_basis::exact::{PolyExp, Surd};
 use kzero_basis::gradient::{gradient_function, Channel};
@@ -10,14 +9,11 @@ use kzero_basis::radial::{radial_function, radial_integral};
 use kzero_basis::BoundState;
 use kzero_bethe::value::decimal_string;
 use kzero_bethe::{BetheValue, Settings};
+use kzero_engine::{agreement, catch_panic, compute, validate_state, Gauge, MethodChoice};
 use rug::{Float, Rational};
 use serde_json::json;
 use std::collections::HashMap;
 use std::path::PathBuf;
-
-mod bundled {
-    include!(concat!(env!("OUT_DIR"), "/data_checks.rs"));
-}
 
 /// Arguments of `kzero check`.
 #[derive(Debug, clap::Args)]
@@ -36,7 +32,7 @@ A line passes when |computed - expected| <= tolerance + the computed value's
 error estimate. Exit code 0 when every line passes, 3 otherwise.")]
 pub struct CheckArgs {
     /// Requested digits of the Bethe-logarithm computations (5..=200).
-    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::digits_parser())]
+    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::args::digits_parser())]
     pub digits: u32,
     /// Read the data checks from this folder instead of the bundled copy.
     #[arg(long, value_name = "DIR")]
@@ -74,16 +70,16 @@ impl Ctx {
         self.cache
             .entry((n, l, method))
             .or_insert_with(|| {
-                crate::catch(|| {
-                    engine::compute(
+                catch_panic(|| {
+                    compute(
                         n,
                         l,
                         method,
-                        GaugeChoice::Velocity,
+                        Gauge::Velocity,
                         &Settings::with_digits(digits),
                     )
                 })
-                .map(|c| c.primary().clone())
+                .map(|c| c.into_primary())
                 .map_err(|e| e.to_string())
             })
             .clone()
@@ -251,8 +247,8 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Ctx) -> Vec<CheckLine> {
                         MethodChoice::Green
                     };
                     let label = format!("{quantity}({n},{l})");
-                    let (nn, ll) = engine::validate_state(n, l, method)
-                        .map_err(|e| (label.clone(), e.to_string()))?;
+                    let (nn, ll) =
+                        validate_state(n, l, method).map_err(|e| (label.clone(), e.to_string()))?;
                     let v = ctx.ln_k0(nn, ll, method).map_err(|e| (label.clone(), e))?;
                     if quantity == "k0_ry" {
                         let k0 = Float::with_val(v.value.prec(), v.value.exp_ref());
@@ -552,9 +548,8 @@ fn cross_lines(ctx: &mut Ctx) -> Vec<CheckLine> {
         let s = ctx.ln_k0(n, l, MethodChoice::Spectral);
         match (g, s) {
             (Ok(g), Ok(s)) => {
-                let (digits, ok) = engine::agreement(&g, &s);
-                let prec = g.value.prec().max(s.value.prec());
-                let d = Float::with_val(prec, &g.value - &s.value).to_f64();
+                let a = agreement(&g, &s);
+                let (digits, ok, d) = (a.digits, a.consistent, a.difference);
                 out.push(CheckLine {
                     quantity: q,
                     source: src,
@@ -573,7 +568,7 @@ fn cross_lines(ctx: &mut Ctx) -> Vec<CheckLine> {
 /// Runs `kzero check`.
 pub fn run(a: &CheckArgs) -> Result<(), AppError> {
     let files: Vec<(String, String)> = match &a.data_dir {
-        None => bundled::BUNDLED
+        None => kzero_engine::data_checks::bundled()
             .iter()
             .map(|(n, t)| (n.to_string(), t.to_string()))
             .collect(),

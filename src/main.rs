@@ -6,14 +6,13 @@
 //! cross-method comparison failed. Every error is one line on stderr.
 
 mod app_error;
+mod args;
 mod basis_cmd;
 mod check;
-mod engine;
 mod interrupt;
 mod merge;
 mod output;
 mod plot;
-mod provenance;
 mod shift_cmd;
 mod state_cmd;
 mod sweep;
@@ -30,7 +29,7 @@ use std::panic::{self, AssertUnwindSafe};
 /// `--digits D` asks for an absolute error below 10^-D in every command.
 /// Energies in units of Z^2 Ry; ln k0 does not depend on Z.
 #[derive(Debug, Parser)]
-#[command(name = "kzero", version = provenance::LONG_VERSION, about, long_about = None)]
+#[command(name = "kzero", version = kzero_engine::build_info::LONG_VERSION, about, long_about = None)]
 #[command(
     after_help = "Exit codes: 0 success, 1 other failure, 2 bad input, 3 a check or cross-method comparison failed."
 )]
@@ -59,15 +58,8 @@ enum Command {
     Shift(shift_cmd::ShiftArgs),
 }
 
-/// The `--digits` parser shared by every command: 5..=200.
-pub fn digits_parser() -> clap::builder::RangedI64ValueParser<u32> {
-    clap::value_parser!(u32).range(
-        i64::from(kzero_bethe::settings::MIN_DIGITS)..=i64::from(kzero_bethe::settings::MAX_DIGITS),
-    )
-}
-
 /// Runs `f`, turning a panic inside it into an error (exit 1) instead of a
-/// crash, so that one failing state cannot take a whole table down.
+/// crash.
 pub fn catch<T>(f: impl FnOnce() -> Result<T, AppError>) -> Result<T, AppError> {
     match panic::catch_unwind(AssertUnwindSafe(f)) {
         Ok(r) => r,
@@ -77,10 +69,9 @@ pub fn catch<T>(f: impl FnOnce() -> Result<T, AppError>) -> Result<T, AppError> 
                 .map(|s| s.to_string())
                 .or_else(|| payload.downcast_ref::<String>().cloned())
                 .unwrap_or_else(|| "unknown cause".into());
-            Err(AppError::Other(format!(
-                "internal error: {}",
-                msg.lines().next().unwrap_or("")
-            )))
+            Err(AppError::from(kzero_engine::EngineError::Internal {
+                message: msg.lines().next().unwrap_or("").to_string(),
+            }))
         }
     }
 }

@@ -22,8 +22,8 @@
 
 use crate::app_error::AppError;
 use crate::output;
-use crate::provenance;
 use kzero_bethe::{BetheValue, Settings};
+use kzero_engine::build_info as provenance;
 use kzero_qed::{
     constants, cutoff_estimate, level_shift, nucleus, shift::UNCERTAINTY_RULE, BetheLog,
     CutoffEstimate, Level, LevelShift, Nucleus, QedError,

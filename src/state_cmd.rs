@@ -1,9 +1,8 @@
 //! `kzero state`: one Bethe logarithm with its error estimate and diagnostics.
 
 use crate::app_error::AppError;
-use crate::engine::{self, GaugeChoice, MethodChoice};
 use crate::output;
-use kzero_bethe::{BetheValue, Settings};
+use kzero_engine::{compute, validate_state, BetheValue, Gauge, MethodChoice, Settings};
 use serde_json::{json, Map, Value};
 
 /// Arguments of `kzero state`.
@@ -16,15 +15,15 @@ pub struct StateArgs {
     #[arg(value_name = "L", allow_negative_numbers = true)]
     pub l: i64,
     /// Requested absolute accuracy: |error| < 10^-D (5..=200).
-    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::digits_parser())]
+    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::args::digits_parser())]
     pub digits: u32,
     /// Method; `both` cross-checks the two (exit 3 when they disagree
     /// beyond their combined error estimates).
-    #[arg(long, value_enum, default_value_t = MethodChoice::Green)]
+    #[arg(long, default_value_t = MethodChoice::Green, value_parser = crate::args::method_parser())]
     pub method: MethodChoice,
     /// Dipole form of the spectral method.
-    #[arg(long, value_enum, default_value_t = GaugeChoice::Velocity)]
-    pub gauge: GaugeChoice,
+    #[arg(long, default_value_t = Gauge::Velocity, value_parser = crate::args::gauge_parser())]
+    pub gauge: Gauge,
     /// One JSON object instead of the text report.
     #[arg(long)]
     pub json: bool,
@@ -46,9 +45,9 @@ fn describe(v: &BetheValue) -> String {
 
 /// Runs `kzero state`.
 pub fn run(a: &StateArgs) -> Result<(), AppError> {
-    let (n, l) = engine::validate_state(a.n, a.l, a.method)?;
+    let (n, l) = validate_state(a.n, a.l, a.method)?;
     let settings = Settings::with_digits(a.digits);
-    let c = engine::compute(n, l, a.method, a.gauge, &settings)?;
+    let c = compute(n, l, a.method, a.gauge, &settings)?;
     let p = c.primary();
     let agreement = c.agreement();
     if a.json {
@@ -66,7 +65,8 @@ pub fn run(a: &StateArgs) -> Result<(), AppError> {
         if a.method != MethodChoice::Green {
             m.insert("gauge".into(), json!(a.gauge.name()));
         }
-        if let (Some(s), Some((d, ok))) = (&c.spectral, agreement) {
+        if let (Some(s), Some(agr)) = (c.spectral(), agreement) {
+            let (d, ok) = (agr.digits, agr.consistent);
             m.insert("ln_k0_spectral".into(), json!(s.value_string()));
             m.insert("abs_err_spectral".into(), json!(s.abs_err_string()));
             m.insert("agreement_digits".into(), json!(d));
@@ -75,7 +75,7 @@ pub fn run(a: &StateArgs) -> Result<(), AppError> {
             m.insert("nodes_spectral".into(), json!(s.nodes));
             m.insert("terms_spectral".into(), json!(s.terms));
             m.insert("seconds_spectral".into(), json!(s.seconds));
-            if let Some(g) = &c.green {
+            if let Some(g) = c.green() {
                 m.insert("seconds_green".into(), json!(g.seconds));
             }
         }
@@ -84,16 +84,17 @@ pub fn run(a: &StateArgs) -> Result<(), AppError> {
         output::print(&s)?;
     } else {
         let mut s = format!("ln k0({n},{l}) = {}\n", p.value_string());
-        if let Some(g) = &c.green {
+        if let Some(g) = c.green() {
             s.push_str(&describe(g));
         }
-        if let Some(sp) = &c.spectral {
+        if let Some(sp) = c.spectral() {
             s.push_str(&describe(sp));
             if a.method != MethodChoice::Green {
                 s.push_str(&format!("           ({} form)\n", a.gauge.name()));
             }
         }
-        if let Some((d, ok)) = agreement {
+        if let Some(agr) = agreement {
+            let (d, ok) = (agr.digits, agr.consistent);
             s.push_str(&format!(
                 "  agreement: {d} decimal digits, {}\n",
                 if ok {
@@ -105,14 +106,5 @@ pub fn run(a: &StateArgs) -> Result<(), AppError> {
         }
         output::print(&s)?;
     }
-    if let (Some((d, false)), Some(g), Some(sp)) = (agreement, &c.green, &c.spectral) {
-        return Err(AppError::CheckFailed(format!(
-            "methods disagree at (n={n}, l={l}): green {} +- {} vs spectral {} +- {} ({d} agreeing digits)",
-            g.value_string(),
-            g.abs_err_string(),
-            sp.value_string(),
-            sp.abs_err_string()
-        )));
-    }
-    Ok(())
+    Ok(c.check_agreement()?)
 }

@@ -2,12 +2,10 @@
 //! settings before a large run.
 
 use crate::app_error::AppError;
-use crate::engine::{self, GaugeChoice, MethodChoice};
 use crate::output;
 use crate::plot::{self, SweepPoint};
 use kzero_bethe::value::format_err;
-use kzero_bethe::{BetheValue, Settings};
-use rug::Float;
+use kzero_engine::{agreement, compute, validate_state, BetheValue, Gauge, MethodChoice, Settings};
 use serde_json::json;
 use std::path::PathBuf;
 
@@ -26,14 +24,14 @@ pub struct SweepArgs {
     #[arg(value_name = "L", allow_negative_numbers = true)]
     pub l: i64,
     /// Precision ladder (each 5..=200).
-    #[arg(long, value_name = "LIST", value_delimiter = ',', default_value = "10,15,20,30,40,60", value_parser = crate::digits_parser())]
+    #[arg(long, value_name = "LIST", value_delimiter = ',', default_value = "10,15,20,30,40,60", value_parser = crate::args::digits_parser())]
     pub digits: Vec<u32>,
     /// Method (green or spectral).
-    #[arg(long, value_enum, default_value_t = MethodChoice::Green)]
+    #[arg(long, default_value_t = MethodChoice::Green, value_parser = crate::args::method_parser())]
     pub method: MethodChoice,
     /// Dipole form of the spectral method.
-    #[arg(long, value_enum, default_value_t = GaugeChoice::Velocity)]
-    pub gauge: GaugeChoice,
+    #[arg(long, default_value_t = Gauge::Velocity, value_parser = crate::args::gauge_parser())]
+    pub gauge: Gauge,
     /// Write an SVG plot of estimated and actual error, and time, against digits.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
@@ -49,7 +47,7 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
             "sweep takes --method green or --method spectral (run it once for each)".into(),
         ));
     }
-    let (n, l) = engine::validate_state(a.n, a.l, a.method)?;
+    let (n, l) = validate_state(a.n, a.l, a.method)?;
     if let Some(p) = &a.plot {
         crate::tablefile::check_output_folder(p, "--plot")?;
     }
@@ -58,8 +56,8 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
     ladder.dedup();
     let mut values: Vec<BetheValue> = Vec::new();
     for &d in &ladder {
-        let c = engine::compute(n, l, a.method, a.gauge, &Settings::with_digits(d))?;
-        values.push(c.primary().clone());
+        let c = compute(n, l, a.method, a.gauge, &Settings::with_digits(d))?;
+        values.push(c.into_primary());
     }
     let best = values
         .last()
@@ -70,8 +68,7 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
     let mut jrows = Vec::new();
     for (i, v) in values.iter().enumerate() {
         let actual = if i + 1 < values.len() {
-            let prec = v.value.prec().max(best.value.prec());
-            Some(Float::with_val(prec, &v.value - &best.value).abs().to_f64())
+            Some(agreement(v, &best).difference.abs())
         } else {
             None
         };

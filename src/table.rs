@@ -2,18 +2,16 @@
 //! crash-safe, resumable and shardable.
 
 use crate::app_error::AppError;
-use crate::engine::{self, Computed, GaugeChoice, MethodChoice};
 use crate::interrupt;
 use crate::output;
 use crate::plot;
 use crate::tablefile::{self, LSelect, Row, Shard, Table, TableSettings};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
-use kzero_bethe::Settings;
+use kzero_engine::build_info as provenance;
+use kzero_engine::{plan, run_batch, Flow, Gauge, MethodChoice, Request, Settings};
 use std::fs::{self, File, OpenOptions};
 use std::io::{IsTerminal, Write};
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
-use std::sync::mpsc;
 use std::time::Instant;
 
 /// Output format of a table.
@@ -54,14 +52,14 @@ pub struct TableArgs {
     #[arg(long, value_name = "K", allow_negative_numbers = true)]
     pub l_max: Option<i64>,
     /// Requested absolute accuracy: |error| < 10^-D (5..=200).
-    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::digits_parser())]
+    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::args::digits_parser())]
     pub digits: u32,
     /// Method.
-    #[arg(long, value_enum, default_value_t = MethodChoice::Green)]
+    #[arg(long, default_value_t = MethodChoice::Green, value_parser = crate::args::method_parser())]
     pub method: MethodChoice,
     /// Dipole form of the spectral method.
-    #[arg(long, value_enum, default_value_t = GaugeChoice::Velocity)]
-    pub gauge: GaugeChoice,
+    #[arg(long, default_value_t = Gauge::Velocity, value_parser = crate::args::gauge_parser())]
+    pub gauge: Gauge,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Csv)]
     pub format: Format,
@@ -81,7 +79,7 @@ pub struct TableArgs {
     #[arg(long, conflicts_with = "resume")]
     pub force: bool,
     /// Compute only part K of M (1 <= K <= M), e.g. for a job array.
-    #[arg(long, value_name = "K/M", value_parser = parse_shard)]
+    #[arg(long, value_name = "K/M", value_parser = crate::args::shard_parser)]
     pub shard: Option<Shard>,
     /// Also write an SVG plot of ln k0 against n, one curve per l.
     #[arg(long, value_name = "FILE.svg")]
@@ -132,11 +130,6 @@ Determinism:
   ln_k0 and abs_err do not depend on --threads, sharding or resuming. The
   seconds column is wall time.";
 
-/// Parses `--shard K/M`.
-pub fn parse_shard(s: &str) -> Result<Shard, String> {
-    Shard::parse(s)
-}
-
 fn nonneg(v: i64, what: &str) -> Result<u32, AppError> {
     u32::try_from(v)
         .map_err(|_| AppError::BadInput(format!("{what} = {v}: must be a non-negative integer")))
@@ -186,39 +179,6 @@ pub fn settings_from_args(a: &TableArgs) -> Result<TableSettings, AppError> {
     Ok(s)
 }
 
-/// Splits `states` into `m` deterministic, cost-balanced parts and returns
-/// part `k` (1-based), ordered by decreasing cost (ties by (n, l)).
-///
-/// Greedy longest-processing-time assignment: states in decreasing cost go
-/// to the part with the smallest total so far (lowest index on ties).
-pub fn plan(
-    states: &[(u32, u32)],
-    settings: &TableSettings,
-    shard: Shard,
-) -> Vec<((u32, u32), f64)> {
-    let mut costed: Vec<((u32, u32), f64)> = states
-        .iter()
-        .map(|&(n, l)| ((n, l), engine::cost(n, l, settings.digits, settings.method)))
-        .collect();
-    costed.sort_by(|a, b| b.1.total_cmp(&a.1).then(a.0.cmp(&b.0)));
-    let m = shard.m as usize;
-    let mut load = vec![0.0f64; m];
-    let mut mine = Vec::new();
-    for (key, c) in costed {
-        let mut best = 0;
-        for i in 1..m {
-            if load[i] < load[best] {
-                best = i;
-            }
-        }
-        load[best] += c;
-        if best + 1 == shard.k as usize {
-            mine.push((key, c));
-        }
-    }
-    mine
-}
-
 /// Where the rows go while the run is in progress.
 struct Journal {
     file: File,
@@ -238,17 +198,17 @@ impl Journal {
 pub fn run(a: &TableArgs) -> Result<(), AppError> {
     let settings = settings_from_args(a)?;
     let format = if a.json { Format::Json } else { a.format };
+    interrupt::on_stop(stop_hint(a, format))?;
     let shard = a.shard.unwrap_or(Shard::WHOLE);
-    let threads = a.threads.map(|t| t as usize).unwrap_or_else(|| {
-        std::thread::available_parallelism()
-            .map(|n| n.get())
-            .unwrap_or(1)
-    });
+    let threads = a
+        .threads
+        .map(|t| t as usize)
+        .unwrap_or_else(kzero_engine::default_threads);
     if let Some(p) = &a.plot {
         tablefile::check_output_folder(p, "--plot")?;
     }
     let requested = settings.states();
-    let planned = plan(&requested, &settings, shard);
+    let planned = plan(&requested, settings.digits, settings.method, shard);
 
     // Prepare the output (all checks before any work, nothing touched on refusal).
     let mut table = Table {
@@ -274,8 +234,8 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             table.prov = loaded.prov.clone();
             table.rows = loaded.rows.clone();
             let mut j = open_journal_for_resume(&jpath, &from, &loaded)?;
-            let when = crate::provenance::utc_now();
-            let cmd = crate::provenance::command_line();
+            let when = provenance::utc_now();
+            let cmd = provenance::command_line();
             j.append(&format!(
                 "# resumed_utc: {when}\n# resumed_command: {cmd}\n"
             ))?;
@@ -307,8 +267,6 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             });
         }
     }
-    interrupt::on_stop(stop_hint(a, format))?;
-
     let done: std::collections::BTreeSet<(u32, u32)> =
         table.rows.iter().map(|r| (r.n, r.l)).collect();
     let todo: Vec<((u32, u32), f64)> = planned
@@ -561,90 +519,61 @@ fn compute_all(
     if todo.is_empty() {
         return Ok(outcome);
     }
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| AppError::Other(format!("cannot start {threads} threads: {e}")))?;
     let total_cost: f64 = todo.iter().map(|(_, c)| c).sum();
     let bar = progress_bar(quiet);
     let start = Instant::now();
-    let next = AtomicUsize::new(0);
-    let stop = AtomicBool::new(false);
-    let bethe = Settings::with_digits(settings.digits);
-    let (tx, rx) = mpsc::channel::<(usize, Result<Computed, AppError>)>();
+    let request = Request {
+        method: settings.method,
+        gauge: settings.gauge,
+        settings: Settings::with_digits(settings.digits),
+    };
+    let states: Vec<(u32, u32)> = todo.iter().map(|(k, _)| *k).collect();
     let mut fatal: Option<AppError> = None;
-    std::thread::scope(|s| {
-        let (next, stop, bethe) = (&next, &stop, &bethe);
-        let pool = &pool;
-        s.spawn(move || {
-            pool.scope(|sc| {
-                for _ in 0..threads {
-                    let tx = tx.clone();
-                    sc.spawn(move |_| loop {
-                        if stop.load(Ordering::Relaxed) {
-                            break;
-                        }
-                        let i = next.fetch_add(1, Ordering::Relaxed);
-                        let Some(&((n, l), _)) = todo.get(i) else {
-                            break;
-                        };
-                        let r = crate::catch(|| {
-                            engine::compute(n, l, settings.method, settings.gauge, bethe)
-                        });
-                        if tx.send((i, r)).is_err() {
-                            break;
-                        }
-                    });
+    let mut done_cost = 0.0;
+    let mut done = 0usize;
+    run_batch(&states, &request, threads, &|| false, &mut |i, r| {
+        let ((n, l), c) = todo[i];
+        done += 1;
+        done_cost += c;
+        let mut flow = Flow::Continue;
+        match r {
+            Ok(comp) => {
+                if let (Some(agr), Some(g), Some(sp)) =
+                    (comp.agreement(), comp.green(), comp.spectral())
+                {
+                    if !agr.consistent {
+                        outcome.disagreements.push(format!(
+                            "(n={n}, l={l}): green {} +- {} and spectral {} +- {} differ beyond their error estimates ({} agreeing digits)",
+                            g.value_string(),
+                            g.abs_err_string(),
+                            sp.value_string(),
+                            sp.abs_err_string(),
+                            agr.digits
+                        ));
+                    }
                 }
-            });
-            drop(tx);
-        });
-        let mut done_cost = 0.0;
-        let mut done = 0usize;
-        for (i, r) in rx {
-            let ((n, l), c) = todo[i];
-            done += 1;
-            done_cost += c;
-            match r {
-                Ok(comp) => {
-                    if let Some((d, false)) = comp.agreement() {
-                        let g = comp
-                            .green
-                            .as_ref()
-                            .map(|v| (v.value_string(), v.abs_err_string()));
-                        let sp = comp
-                            .spectral
-                            .as_ref()
-                            .map(|v| (v.value_string(), v.abs_err_string()));
-                        if let (Some(g), Some(sp)) = (g, sp) {
-                            outcome.disagreements.push(format!(
-                                "(n={n}, l={l}): green {} +- {} and spectral {} +- {} differ beyond their error estimates ({d} agreeing digits)",
-                                g.0, g.1, sp.0, sp.1
-                            ));
+                let row = Row::from_computed(&comp, settings.method);
+                if let Some(j) = journal.as_mut() {
+                    if let Err(e) = j.append(&row.csv_line()) {
+                        flow = Flow::Stop;
+                        if fatal.is_none() {
+                            fatal = Some(e);
                         }
                     }
-                    let row = Row::from_computed(&comp, settings.method);
-                    if let Some(j) = journal.as_mut() {
-                        if let Err(e) = j.append(&row.csv_line()) {
-                            stop.store(true, Ordering::Relaxed);
-                            if fatal.is_none() {
-                                fatal = Some(e);
-                            }
-                        }
-                    }
-                    table.rows.push(row);
                 }
-                Err(e) => outcome.failures.push(((n, l), e)),
+                table.rows.push(row);
             }
-            let secs = start.elapsed().as_secs_f64().max(1e-9);
-            bar.set_position((done_cost / total_cost * 1e6) as u64);
-            bar.set_message(format!(
-                "{done}/{} states, {:.1} states/min",
-                todo.len(),
-                done as f64 / secs * 60.0
-            ));
+            Err(e) => outcome.failures.push(((n, l), AppError::from(e))),
         }
-    });
+        let secs = start.elapsed().as_secs_f64().max(1e-9);
+        bar.set_position((done_cost / total_cost * 1e6) as u64);
+        bar.set_message(format!(
+            "{done}/{} states, {:.1} states/min",
+            todo.len(),
+            done as f64 / secs * 60.0
+        ));
+        flow
+    })?;
     bar.finish_and_clear();
     match fatal {
         Some(e) => Err(e),
@@ -708,55 +637,4 @@ fn finish(outcome: Outcome, out: Option<&Path>, format: Format) -> Result<(), Ap
         )));
     }
     Ok(())
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    fn settings(n_max: u32) -> TableSettings {
-        TableSettings {
-            n_min: 1,
-            n_max,
-            l: LSelect::All,
-            digits: 20,
-            method: MethodChoice::Green,
-            gauge: GaugeChoice::Velocity,
-        }
-    }
-
-    #[test]
-    fn shards_are_disjoint_cover_everything_and_are_balanced() {
-        let s = settings(40);
-        let states = s.states();
-        for m in [1u32, 2, 3, 7] {
-            let mut seen = std::collections::BTreeSet::new();
-            let mut loads = Vec::new();
-            let mut max_cost: f64 = 0.0;
-            for k in 1..=m {
-                let part = plan(&states, &s, Shard { k, m });
-                // expensive first
-                assert!(part.windows(2).all(|w| w[0].1 >= w[1].1));
-                for (key, c) in &part {
-                    assert!(seen.insert(*key), "state {key:?} in two shards");
-                    max_cost = max_cost.max(*c);
-                }
-                loads.push(part.iter().map(|(_, c)| c).sum::<f64>());
-            }
-            assert_eq!(seen.len(), states.len());
-            let hi = loads.iter().cloned().fold(0.0, f64::max);
-            let lo = loads.iter().cloned().fold(f64::INFINITY, f64::min);
-            // Greedy LPT: parts differ by at most the largest single cost.
-            assert!(hi - lo <= max_cost * (1.0 + 1e-12), "m={m}: {loads:?}");
-        }
-    }
-
-    #[test]
-    fn plan_is_deterministic() {
-        let s = settings(25);
-        let states = s.states();
-        let a = plan(&states, &s, Shard { k: 2, m: 5 });
-        let b = plan(&states, &s, Shard { k: 2, m: 5 });
-        assert_eq!(a, b);
-    }
 }

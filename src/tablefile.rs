@@ -28,8 +28,9 @@
 //! rename).
 
 use crate::app_error::AppError;
-use crate::engine::{Computed, GaugeChoice, MethodChoice};
-use crate::provenance;
+use kzero_engine::build_info as provenance;
+pub use kzero_engine::Shard;
+use kzero_engine::{Computed, Gauge, MethodChoice};
 use serde_json::{json, Map, Value};
 use std::collections::BTreeSet;
 use std::fs;
@@ -122,7 +123,7 @@ pub struct TableSettings {
     /// Method(s).
     pub method: MethodChoice,
     /// Dipole form of the spectral method.
-    pub gauge: GaugeChoice,
+    pub gauge: Gauge,
 }
 
 impl TableSettings {
@@ -146,13 +147,8 @@ impl TableSettings {
                 .map_err(|_| format!("setting '{k}' is not a number"))
         };
         let l = LSelect::parse(&need("l")?).ok_or("setting 'l' is malformed")?;
-        let method = MethodChoice::from_name(&need("method")?).ok_or("unknown method")?;
-        let gauge = match need("gauge")?.as_str() {
-            "velocity" => GaugeChoice::Velocity,
-            "length" => GaugeChoice::Length,
-            "acceleration" => GaugeChoice::Acceleration,
-            _ => return Err("unknown gauge".into()),
-        };
+        let method: MethodChoice = need("method")?.parse().map_err(|_| "unknown method")?;
+        let gauge: Gauge = need("gauge")?.parse().map_err(|_| "unknown gauge")?;
         Ok(TableSettings {
             n_min: num("n_min")?,
             n_max: num("n_max")?,
@@ -196,45 +192,6 @@ impl TableSettings {
     }
 }
 
-/// A part K of M of a table (`--shard K/M`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct Shard {
-    /// Index, 1-based.
-    pub k: u32,
-    /// Number of parts.
-    pub m: u32,
-}
-
-impl Shard {
-    /// The whole table.
-    pub const WHOLE: Shard = Shard { k: 1, m: 1 };
-
-    /// Parses `K/M` with 1 <= K <= M.
-    pub fn parse(s: &str) -> Result<Self, String> {
-        let (a, b) = s
-            .split_once('/')
-            .ok_or_else(|| format!("'{s}' is not of the form K/M"))?;
-        let k: u32 = a
-            .trim()
-            .parse()
-            .map_err(|_| format!("'{s}': K is not a positive integer"))?;
-        let m: u32 = b
-            .trim()
-            .parse()
-            .map_err(|_| format!("'{s}': M is not a positive integer"))?;
-        if m == 0 || k == 0 || k > m {
-            return Err(format!("'{s}': need 1 <= K <= M"));
-        }
-        Ok(Shard { k, m })
-    }
-}
-
-impl std::fmt::Display for Shard {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        write!(f, "{}/{}", self.k, self.m)
-    }
-}
-
 /// One table row, all values already formatted (strings are what is written).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Row {
@@ -246,8 +203,8 @@ pub struct Row {
     pub ln_k0: String,
     /// Error estimate.
     pub abs_err: String,
-    /// Method name.
-    pub method: String,
+    /// Method(s).
+    pub method: MethodChoice,
     /// Requested digits.
     pub digits: u32,
     /// Working bits of the final evaluation.
@@ -262,9 +219,9 @@ impl Row {
     /// The row for a computed state.
     pub fn from_computed(c: &Computed, method: MethodChoice) -> Row {
         let p = c.primary();
-        let both = match (&c.spectral, c.agreement()) {
-            (Some(s), Some((d, _))) if method == MethodChoice::Both => {
-                Some((s.value_string(), s.abs_err_string(), d))
+        let both = match (c.spectral(), c.agreement()) {
+            (Some(s), Some(a)) if method == MethodChoice::Both => {
+                Some((s.value_string(), s.abs_err_string(), a.digits))
             }
             _ => None,
         };
@@ -273,7 +230,7 @@ impl Row {
             l: p.l,
             ln_k0: p.value_string(),
             abs_err: p.abs_err_string(),
-            method: method.name().to_string(),
+            method,
             digits: p.digits,
             bits: p.bits,
             seconds: format!("{:.3}", c.seconds()),
@@ -323,7 +280,9 @@ impl Row {
             l: int(1)?,
             ln_k0: decimal(2)?,
             abs_err: decimal(3)?,
-            method: f[4].to_string(),
+            method: f[4]
+                .parse()
+                .map_err(|_| format!("field '{}' is not a method", f[4]))?,
             digits: int(5)?,
             bits: int(6)?,
             seconds: decimal(7)?,
@@ -341,7 +300,7 @@ impl Row {
         m.insert("l".into(), json!(self.l));
         m.insert("ln_k0".into(), json!(self.ln_k0));
         m.insert("abs_err".into(), json!(self.abs_err));
-        m.insert("method".into(), json!(self.method));
+        m.insert("method".into(), json!(self.method.name()));
         m.insert("digits".into(), json!(self.digits));
         m.insert("bits".into(), json!(self.bits));
         let secs: f64 = self.seconds.parse().unwrap_or(0.0);
@@ -377,7 +336,9 @@ impl Row {
             l: int("l")?,
             ln_k0: text("ln_k0")?,
             abs_err: text("abs_err")?,
-            method: text("method")?,
+            method: text("method")?
+                .parse()
+                .map_err(|_| "row field 'method' is not a method".to_string())?,
             digits: int("digits")?,
             bits: int("bits")?,
             seconds: format!("{secs:.3}"),
@@ -538,7 +499,7 @@ fn check_row(r: &Row, settings: &TableSettings) -> Result<(), String> {
             r.n, r.l
         ));
     }
-    if r.digits != settings.digits || r.method != settings.method.name() {
+    if r.digits != settings.digits || r.method != settings.method {
         return Err(format!(
             "row (n={}, l={}) has digits/method that differ from the settings",
             r.n, r.l
@@ -635,12 +596,12 @@ fn parse_csv(text: &str) -> Result<Table, String> {
 /// The shard named by the `shard` provenance entry (an empty text when it
 /// is absent, which `Shard::parse` judges).
 fn shard_of(prov: &[(String, String)]) -> Result<Shard, String> {
-    Shard::parse(
-        prov.iter()
-            .find(|(k, _)| k == "shard")
-            .map(|(_, v)| v.as_str())
-            .unwrap_or_default(),
-    )
+    prov.iter()
+        .find(|(k, _)| k == "shard")
+        .map(|(_, v)| v.as_str())
+        .unwrap_or_default()
+        .parse()
+        .map_err(|e: kzero_engine::ShardError| e.to_string())
 }
 
 /// A parsed row that also passes `check_row`; either error is prefixed
@@ -859,7 +820,7 @@ mod tests {
             l: LSelect::All,
             digits: 10,
             method: MethodChoice::Green,
-            gauge: GaugeChoice::Velocity,
+            gauge: Gauge::Velocity,
         }
     }
 
@@ -873,7 +834,7 @@ mod tests {
                 l: 1,
                 ln_k0: "-0.030016708630".into(),
                 abs_err: "1.0e-12".into(),
-                method: "green".into(),
+                method: MethodChoice::Green,
                 digits: 10,
                 bits: 96,
                 seconds: "0.010".into(),
@@ -949,13 +910,5 @@ mod tests {
         assert_eq!(s.states(), vec![(2, 1), (3, 1)]);
         s.l = LSelect::Max(0);
         assert_eq!(s.states(), vec![(1, 0), (2, 0), (3, 0)]);
-    }
-
-    #[test]
-    fn shard_parsing_rejects_out_of_range() {
-        assert!(Shard::parse("0/3").is_err());
-        assert!(Shard::parse("4/3").is_err());
-        assert!(Shard::parse("x/3").is_err());
-        assert_eq!(Shard::parse("2/3").unwrap(), Shard { k: 2, m: 3 });
     }
 }

@@ -7,6 +7,7 @@
 //! form); <1s| r |2p> = 2^8/(81 sqrt 6) bohr (closed form, Gordon's formula;
 //! Bethe & Salpeter 1957).
 
+use rug::ops::Pow;
 use std::fs;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output, Stdio};
@@ -57,6 +58,13 @@ fn value_columns(text: &str) -> Vec<String> {
             f.join(",")
         })
         .collect()
+}
+
+/// A JSON number, or a number written as a JSON string.
+fn number(v: &serde_json::Value) -> f64 {
+    v.as_f64()
+        .or_else(|| v.as_str().and_then(|s| s.parse().ok()))
+        .unwrap_or_else(|| panic!("not a number: {v}"))
 }
 
 /// Asserts a bad-input failure: exit 2, one stderr line, no panic text.
@@ -238,9 +246,11 @@ fn wait_for_rows(path: &Path, rows: usize, child: &mut std::process::Child) -> b
     false
 }
 
-/// Starts a table run, interrupts it with `signal` once a few rows are in,
-/// and returns the text left on disk plus its finished rows. If the machine
-/// finishes first, cuts the file back to a crash state by hand.
+/// Starts a table run, interrupts it with `signal` once `ROWS_BEFORE_SIGNAL`
+/// rows are on disk, and returns the text left there plus its finished rows.
+/// The table is chosen so that the rest of the run takes far longer than
+/// sending the signal; a run that ends before the signal fails the test
+/// (there is no fallback that fakes the crash state).
 fn interrupted_run(args: &[&str], part: &str, signal: &str, total: usize) -> (String, Vec<String>) {
     let mut child = Command::new(BIN)
         .args([args, &["--out", part]].concat())
@@ -248,37 +258,53 @@ fn interrupted_run(args: &[&str], part: &str, signal: &str, total: usize) -> (St
         .stderr(Stdio::null())
         .spawn()
         .unwrap();
-    let got_rows = wait_for_rows(Path::new(part), 3, &mut child);
+    let got_rows = wait_for_rows(Path::new(part), ROWS_BEFORE_SIGNAL, &mut child);
+    let running = matches!(child.try_wait(), Ok(None));
     let _ = Command::new("kill")
         .args([signal, &child.id().to_string()])
         .status();
     let status = child.wait().unwrap();
-    let mut text = fs::read_to_string(part).unwrap();
+    assert!(
+        got_rows,
+        "{ROWS_BEFORE_SIGNAL} rows did not appear while the run was going"
+    );
+    assert!(running, "the run ended before {signal} was sent");
+    assert!(
+        !status.success(),
+        "the run was not interrupted by {signal}: {status}"
+    );
+    let text = fs::read_to_string(part).unwrap();
     let mut finished = data_lines(&text);
-    if !got_rows || finished.len() >= total {
-        eprintln!("note: the run ended before {signal}; crash state made by hand");
-        let header_end = text.find("\nn,l,").unwrap() + 1;
-        let header_end = header_end + text[header_end..].find('\n').unwrap() + 1;
-        let keep: Vec<String> = finished.iter().take(5).cloned().collect();
-        text = format!("{}{}\n", &text[..header_end], keep.join("\n"));
-        finished = keep;
-    } else {
-        assert!(!status.success(), "the run was not interrupted by {signal}");
+    if !text.ends_with('\n') {
+        // A line cut by the signal is not a finished row.
+        finished.pop();
     }
-    assert!(finished.len() < total, "the run was not interrupted");
+    assert!(
+        finished.len() >= ROWS_BEFORE_SIGNAL && finished.len() < total,
+        "{} of {total} rows after {signal}",
+        finished.len()
+    );
     (text, finished)
 }
+
+/// Rows that must be on disk before the signal is sent.
+const ROWS_BEFORE_SIGNAL: usize = 2;
 
 #[test]
 fn resume_after_kill_equals_an_uninterrupted_run() {
     let dir = tempfile::tempdir().unwrap();
     let full = p(dir.path(), "full.csv");
+    // 19 states of similar cost (n = 9 and 10), computed most expensive first:
+    // after the first two rows, the other 17 still take many times longer
+    // than the few milliseconds between seeing the rows and the signal.
     let args = [
         "table",
+        "--n-min",
+        "9",
         "--n-max",
-        "7",
+        "10",
         "--digits",
-        "12",
+        "20",
         "--threads",
         "2",
         "--quiet",
@@ -287,7 +313,7 @@ fn resume_after_kill_equals_an_uninterrupted_run() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let full_text = fs::read_to_string(&full).unwrap();
     let total = data_lines(&full_text).len();
-    assert_eq!(total, 28);
+    assert_eq!(total, 19);
 
     // kill -9, then Ctrl-C (SIGINT), each followed by --resume.
     for (signal, torn) in [("-KILL", true), ("-INT", false)] {
@@ -295,7 +321,7 @@ fn resume_after_kill_equals_an_uninterrupted_run() {
         let (mut text, finished) = interrupted_run(&args, &part, signal, total);
         if torn {
             // A write torn by the kill: a partial last line.
-            text.push_str("7,3,-0.0012");
+            text.push_str("9,3,-0.00");
         }
         fs::write(&part, &text).unwrap();
 
@@ -417,6 +443,7 @@ fn sigint_and_sigterm_say_how_to_continue() {
         ),
         ("-INT", 2, &["--resume"][..], "run the same command again"),
     ] {
+        let before = fs::read_to_string(&part).map_or(0, |t| data_lines(&t).len());
         let mut child = Command::new(BIN)
             .args([&args[..], extra, &["--out", &part]].concat())
             .stdout(Stdio::null())
@@ -424,7 +451,7 @@ fn sigint_and_sigterm_say_how_to_continue() {
             .spawn()
             .unwrap();
         assert!(
-            wait_for_rows(Path::new(&part), 2, &mut child),
+            wait_for_rows(Path::new(&part), before + 2, &mut child),
             "the run ended before {signal}"
         );
         let _ = Command::new("kill")
@@ -686,20 +713,17 @@ fn radial_and_oscillator_match_closed_forms() {
     let o = kzero(&["radial", "1", "0", "2", "1", "--digits", "30", "--json"]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
-    // 2^8 / (81 sqrt 6) = 1.290266201959863360365...  (closed form)
-    let exact = 256.0 / (81.0 * 6f64.sqrt());
-    let got: f64 = v["value"].as_str().unwrap().parse().unwrap();
-    assert!((got - exact).abs() < 1e-15);
-    assert_eq!(
-        v["value"]
-            .as_str()
-            .unwrap()
-            .split('.')
-            .nth(1)
-            .unwrap()
-            .len(),
-        30
-    );
+    // 2^8 / (81 sqrt 6) = 1.290266201959863360367293668980881... (closed form),
+    // so to 30 decimals, rounded: 1.290266201959863360367293668981.
+    // The same digits independently, in exact integers: x^2 = 2^16 / (81^2 6),
+    // so floor(2 x 10^30) = isqrt(floor(4 2^16 10^60 / 39366)), and the
+    // rounded 10^30 x is (floor(2 x 10^30) + 1) / 2 (x is irrational).
+    let four_x2 = rug::Integer::from(4 * 65_536) * rug::Integer::from(10).pow(60);
+    let two_x: rug::Integer = (four_x2 / 39_366u32).sqrt();
+    let digits = ((two_x + 1u32) / 2u32).to_string();
+    let want = format!("{}.{}", &digits[..1], &digits[1..]);
+    assert_eq!(want, "1.290266201959863360367293668981"); // closed form, above
+    assert_eq!(v["value"], want.as_str());
     let o = kzero(&["oscillator", "1", "0", "2", "1", "--json"]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
@@ -722,6 +746,16 @@ fn sweep_reports_every_setting_and_plots() {
         assert_eq!(
             r["covered"], true,
             "estimate does not cover the actual error: {r}"
+        );
+    }
+    // "covered" alone would also hold for a huge estimate: every estimate
+    // must be below its goal 10^-D as well.
+    for (r, d) in rows.iter().zip([10, 15, 25]) {
+        assert_eq!(r["digits"], d);
+        let est = number(&r["abs_err"]);
+        assert!(
+            est < 10f64.powi(-d),
+            "estimate {est:e} not below 1e-{d}: {r}"
         );
     }
     assert!(rows[2]["actual_err"].is_null());

@@ -64,7 +64,6 @@ use crate::state::BoundState;
 use rug::float::Constant;
 use rug::ops::Pow;
 use rug::{Complex, Float, Rational};
-use std::sync::atomic::{AtomicU32, Ordering};
 
 /// The three equivalent forms of a dipole matrix element.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -107,7 +106,9 @@ pub struct RadialValue {
 /// the lowest powers of the acceleration form removed.
 ///
 /// Built once per (state, channel, form) and evaluated at many energies.
-#[derive(Debug)]
+/// It holds no state that changes with use: an evaluation depends only on
+/// its arguments (and on the [`LossHint`] a caller passes explicitly).
+#[derive(Debug, Clone)]
 pub struct BoundFreeKernel {
     state: BoundState,
     channel: Channel,
@@ -120,22 +121,30 @@ pub struct BoundFreeKernel {
     energy_coef: Rational,
     /// Normalization: the function carries sqrt(radicand).
     radicand: Rational,
-    /// Bits lost at the last evaluation (0: none yet).
-    loss_hint: AtomicU32,
 }
 
-impl Clone for BoundFreeKernel {
-    fn clone(&self) -> Self {
-        BoundFreeKernel {
-            state: self.state.clone(),
-            channel: self.channel,
-            form: self.form,
-            big_l: self.big_l,
-            coeffs: self.coeffs.clone(),
-            energy_coef: self.energy_coef.clone(),
-            radicand: self.radicand.clone(),
-            loss_hint: AtomicU32::new(self.loss_hint.load(Ordering::Relaxed)),
-        }
+/// The loss to cancellation measured by the previous evaluation of a
+/// sequence, from which the next evaluation starts its working precision.
+///
+/// Neighbouring energies cancel alike, so a caller that evaluates a kernel
+/// at a sequence of energies and passes the same `LossHint` to each call
+/// (the `*_hinted` methods of [`BoundFreeKernel`]) saves the re-runs at
+/// higher precision that a fixed first guess would cost. The hint is owned
+/// by the caller: what it changes (the working precision of the first try,
+/// hence the cost and, in the last bits, the rounding) depends only on the
+/// caller's own sequence of calls, never on other users of the kernel. A
+/// fresh hint (`LossHint::default()`) starts from a guess that grows with n;
+/// the methods without a hint use a fresh one every time.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct LossHint {
+    /// Bits lost at the last evaluation plus one, if there was one.
+    last: Option<u32>,
+}
+
+impl LossHint {
+    /// A hint with no evaluation recorded yet.
+    pub fn new() -> Self {
+        LossHint::default()
     }
 }
 
@@ -229,7 +238,6 @@ impl BoundFreeKernel {
             coeffs,
             energy_coef,
             radicand,
-            loss_hint: AtomicU32::new(0),
         })
     }
 
@@ -291,6 +299,20 @@ impl BoundFreeKernel {
     /// [`BasisError::PrecisionTooLow`] below 53 bits;
     /// [`BasisError::InvalidArgument`] for a negative or non-finite energy.
     pub fn continuum(&self, energy: &Float, prec: u32) -> Result<RadialValue, BasisError> {
+        self.continuum_hinted(energy, prec, &mut LossHint::new())
+    }
+
+    /// As [`BoundFreeKernel::continuum`], starting from the loss recorded in
+    /// `hint` and recording this evaluation's loss in it (see [`LossHint`]).
+    ///
+    /// # Errors
+    /// As [`BoundFreeKernel::continuum`].
+    pub fn continuum_hinted(
+        &self,
+        energy: &Float,
+        prec: u32,
+        hint: &mut LossHint,
+    ) -> Result<RadialValue, BasisError> {
         check_prec(prec)?;
         if !energy.is_finite() || *energy < 0 {
             return Err(BasisError::InvalidArgument(format!(
@@ -298,7 +320,7 @@ impl BoundFreeKernel {
                 energy.to_f64()
             )));
         }
-        self.with_precision(prec, |p| {
+        self.with_precision(prec, hint, |p| {
             let e = Float::with_val(p, energy);
             let k = Float::with_val(p, Float::with_val(p, &e * 2u32).sqrt());
             self.continuum_k_at(&k, &e, p)
@@ -311,6 +333,21 @@ impl BoundFreeKernel {
     /// # Errors
     /// As [`BoundFreeKernel::continuum`].
     pub fn continuum_k(&self, k: &Float, prec: u32) -> Result<RadialValue, BasisError> {
+        self.continuum_k_hinted(k, prec, &mut LossHint::new())
+    }
+
+    /// As [`BoundFreeKernel::continuum_k`], starting from the loss recorded
+    /// in `hint` and recording this evaluation's loss in it (see
+    /// [`LossHint`]).
+    ///
+    /// # Errors
+    /// As [`BoundFreeKernel::continuum`].
+    pub fn continuum_k_hinted(
+        &self,
+        k: &Float,
+        prec: u32,
+        hint: &mut LossHint,
+    ) -> Result<RadialValue, BasisError> {
         check_prec(prec)?;
         if !k.is_finite() || *k < 0 {
             return Err(BasisError::InvalidArgument(format!(
@@ -318,7 +355,7 @@ impl BoundFreeKernel {
                 k.to_f64()
             )));
         }
-        self.with_precision(prec, |p| {
+        self.with_precision(prec, hint, |p| {
             let k = Float::with_val(p, k);
             let e = Float::with_val(p, k.clone().square() / 2u32);
             self.continuum_k_at(&k, &e, p)
@@ -339,6 +376,21 @@ impl BoundFreeKernel {
     /// # Errors
     /// [`BasisError::InvalidArgument`] unless nu > n; precision as above.
     pub fn bound_continued(&self, nu: &Float, prec: u32) -> Result<RadialValue, BasisError> {
+        self.bound_continued_hinted(nu, prec, &mut LossHint::new())
+    }
+
+    /// As [`BoundFreeKernel::bound_continued`], starting from the loss
+    /// recorded in `hint` and recording this evaluation's loss in it (see
+    /// [`LossHint`]).
+    ///
+    /// # Errors
+    /// As [`BoundFreeKernel::bound_continued`].
+    pub fn bound_continued_hinted(
+        &self,
+        nu: &Float,
+        prec: u32,
+        hint: &mut LossHint,
+    ) -> Result<RadialValue, BasisError> {
         check_prec(prec)?;
         if !nu.is_finite() || *nu <= self.state.n() {
             return Err(BasisError::InvalidArgument(format!(
@@ -347,7 +399,9 @@ impl BoundFreeKernel {
                 nu.to_f64()
             )));
         }
-        self.with_precision(prec, |p| self.bound_at(&Float::with_val(p, nu), None, p))
+        self.with_precision(prec, hint, |p| {
+            self.bound_at(&Float::with_val(p, nu), None, p)
+        })
     }
 
     /// The bound-bound integral sqrt(n'^3/Z^2) int u_n'L f dr for an integer
@@ -363,6 +417,21 @@ impl BoundFreeKernel {
     /// # Errors
     /// [`BasisError::InvalidArgument`] for n' <= L or n' = n; precision as above.
     pub fn bound_bound(&self, n_prime: u32, prec: u32) -> Result<RadialValue, BasisError> {
+        self.bound_bound_hinted(n_prime, prec, &mut LossHint::new())
+    }
+
+    /// As [`BoundFreeKernel::bound_bound`], starting from the loss recorded
+    /// in `hint` and recording this evaluation's loss in it (see
+    /// [`LossHint`]).
+    ///
+    /// # Errors
+    /// As [`BoundFreeKernel::bound_bound`].
+    pub fn bound_bound_hinted(
+        &self,
+        n_prime: u32,
+        prec: u32,
+        hint: &mut LossHint,
+    ) -> Result<RadialValue, BasisError> {
         check_prec(prec)?;
         if n_prime <= self.big_l || n_prime == self.state.n() {
             return Err(BasisError::InvalidArgument(format!(
@@ -371,24 +440,28 @@ impl BoundFreeKernel {
                 self.state.n()
             )));
         }
-        self.with_precision(prec, |p| {
+        self.with_precision(prec, hint, |p| {
             self.bound_at(&Float::with_val(p, n_prime), Some(n_prime), p)
         })
     }
 
     /// Runs `f` at increasing working precision until the measured loss
-    /// leaves `prec` bits.
-    fn with_precision<F>(&self, prec: u32, f: F) -> Result<RadialValue, BasisError>
+    /// leaves `prec` bits, starting from `hint` and recording the loss there.
+    fn with_precision<F>(
+        &self,
+        prec: u32,
+        hint: &mut LossHint,
+        f: F,
+    ) -> Result<RadialValue, BasisError>
     where
         F: Fn(u32) -> (Float, f64),
     {
-        // start from the loss measured at the previous evaluation (neighbouring
-        // energies cancel alike), else from a guess growing with n
-        let hint = self.loss_hint.load(Ordering::Relaxed);
-        let guess = if hint > 0 {
-            hint + 24
-        } else {
-            40 + 3 * self.state.n().min(1000)
+        // start from the loss measured at the caller's previous evaluation
+        // (neighbouring energies cancel alike), else from a guess growing
+        // with n
+        let guess = match hint.last {
+            Some(h) => h + 24,
+            None => 40 + 3 * self.state.n().min(1000),
         };
         let mut work = prec + guess;
         let mut last = None;
@@ -401,8 +474,7 @@ impl BoundFreeKernel {
                 (mag - vm).max(0.0)
             };
             if f64::from(work) - lost >= f64::from(prec) + 8.0 {
-                self.loss_hint
-                    .store(lost.ceil() as u32 + 1, Ordering::Relaxed);
+                hint.last = Some(lost.ceil() as u32 + 1);
                 return Ok(RadialValue {
                     value: Float::with_val(prec, &v),
                     lost_bits: lost.ceil() as u32,

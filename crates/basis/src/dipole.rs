@@ -21,7 +21,7 @@
 //!   (hartree per bohr).
 //!
 //! The three satisfy |p_rad| = |dE| |r_rad| and |a_rad| = |dE| |p_rad| with
-//! dE = E_n' - E_n (hartree): the gauge identities of PHYSICS.md section 2,
+//! dE = E_n' - E_n (hartree): the gauge identities of docs/physics.md, section 2,
 //! checked exactly in the tests. For n' = n (degenerate levels) the velocity
 //! and acceleration elements vanish exactly while the length element does not.
 //!

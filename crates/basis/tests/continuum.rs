@@ -9,7 +9,7 @@
 //! energy-normalized radial function (common practice).
 
 use gauss_quad::GaussLaguerre;
-use kzero_basis::continuum::{continuum_function, BoundFreeKernel, DipoleForm};
+use kzero_basis::continuum::{continuum_function, BoundFreeKernel, DipoleForm, LossHint};
 use kzero_basis::gradient::{gradient_function, Channel};
 use kzero_basis::radial::{radial_integral, reduced_radial_function};
 use kzero_basis::{BasisError, BoundState};
@@ -258,4 +258,46 @@ fn bad_arguments_are_typed_errors() {
     ));
     let nan = Float::with_val(P, rug::float::Special::Nan);
     assert!(k.continuum(&nan, P).is_err());
+}
+
+/// An evaluation depends only on its arguments and on the loss hint its
+/// caller passes: the same call gives the same value, measured loss and
+/// working precision whatever the kernel evaluated before (here, high
+/// energies that cancel strongly), and a hinted sequence repeated with a
+/// fresh hint repeats its results exactly.
+#[test]
+fn evaluations_do_not_depend_on_earlier_calls() {
+    let s = BoundState::hydrogen(40, 1).unwrap();
+    let same = |a: &kzero_basis::continuum::RadialValue,
+                b: &kzero_basis::continuum::RadialValue| {
+        a.value == b.value && a.lost_bits == b.lost_bits && a.work_bits == b.work_bits
+    };
+    for form in FORMS {
+        let e = Float::with_val(P, 0.3);
+        let fresh = BoundFreeKernel::new(&s, Channel::Up, form).unwrap();
+        let first = fresh.continuum(&e, P).unwrap();
+        let used = BoundFreeKernel::new(&s, Channel::Up, form).unwrap();
+        for k in [3.0, 8.0, 20.0] {
+            used.continuum_k(&Float::with_val(P, k), P).unwrap();
+        }
+        used.bound_continued(&Float::with_val(P, 55.5), P).unwrap();
+        let again = used.continuum(&e, P).unwrap();
+        assert!(same(&first, &again), "{form:?}: {first:?} then {again:?}");
+        let copy = used.clone();
+        assert!(
+            same(&first, &copy.continuum(&e, P).unwrap()),
+            "{form:?}: clone"
+        );
+        let run = || {
+            let mut hint = LossHint::new();
+            [20.0, 8.0, 0.7].map(|k| {
+                used.continuum_k_hinted(&Float::with_val(P, k), P, &mut hint)
+                    .unwrap()
+            })
+        };
+        let (a, b) = (run(), run());
+        for (x, y) in a.iter().zip(&b) {
+            assert!(same(x, y), "{form:?}: hinted sequence {x:?} then {y:?}");
+        }
+    }
 }

@@ -1,5 +1,5 @@
 //! Gordon's closed formula against direct exact integration, and the three
-//! dipole forms against each other (gauge identities, PHYSICS.md section 2).
+//! dipole forms against each other (gauge identities, docs/physics.md, section 2).
 
 use kzero_basis::dipole::{dipole_squared, radial_amplitude, transition_energy, DipoleForm};
 use kzero_basis::exact::Surd;

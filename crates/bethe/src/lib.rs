@@ -11,7 +11,9 @@
 //! ## Definition and units
 //! ln k0(n,l) = S / D0 with S = sum_m |<n l|p|m>|^2 (E_m - E_n) ln(|E_m - E_n| / (Z^2 Ry))
 //! and D0 = 2 Z^4 / n^3 for every l. The result does not depend on Z; all
-//! computations run at Z = 1 (atomic units, infinite nuclear mass).
+//! computations run at Z = 1 (atomic units, infinite nuclear mass). The
+//! definitions, conventions and derivations are in the repository's
+//! docs/physics.md.
 //!
 //! ## Accuracy contract
 //! [`Settings::digits`] = D asks for an absolute error below 10^-D
@@ -43,4 +45,4 @@ pub mod value;
 
 pub use error::BetheError;
 pub use settings::{Goal, Settings};
-pub use value::{BetheValue, Gauge, Method, Printed};
+pub use value::{agreement, Agreement, BetheValue, Gauge, Method, Printed, UnknownName};

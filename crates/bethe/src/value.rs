@@ -1,8 +1,23 @@
-//! The result of a Bethe-logarithm computation: value, error estimate, diagnostics.
+//! The result of a Bethe-logarithm computation: value, error estimate,
+//! diagnostics; the names of the methods and gauges; the comparison of two
+//! values ([`agreement`]).
 
 use crate::settings::Goal;
 use rug::Float;
 use std::fmt::Write as _;
+use std::str::FromStr;
+use thiserror::Error;
+
+/// A name that is not one of the accepted spellings (of a method, a gauge or
+/// another named choice).
+#[derive(Debug, Clone, PartialEq, Eq, Error)]
+#[error("'{given}' is not one of: {}", expected.join(", "))]
+pub struct UnknownName {
+    /// The text given.
+    pub given: String,
+    /// The accepted names.
+    pub expected: &'static [&'static str],
+}
 
 /// Which method produced a value.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -14,12 +29,35 @@ pub enum Method {
 }
 
 impl Method {
+    /// Every method, in the order of [`Method::NAMES`].
+    pub const ALL: [Method; 2] = [Method::Green, Method::Spectral];
+    /// The accepted names, the only spelling of the methods anywhere.
+    pub const NAMES: &'static [&'static str] = &["green", "spectral"];
+
     /// The name used on the command line and in tables: `green` or `spectral`.
     pub fn name(self) -> &'static str {
-        match self {
-            Method::Green => "green",
-            Method::Spectral => "spectral",
-        }
+        Self::NAMES[self as usize]
+    }
+}
+
+impl std::fmt::Display for Method {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for Method {
+    type Err = UnknownName;
+
+    /// Parses a name written by [`Method::name`] (exact, lower case).
+    fn from_str(s: &str) -> Result<Self, UnknownName> {
+        Self::ALL
+            .into_iter()
+            .find(|m| m.name() == s)
+            .ok_or_else(|| UnknownName {
+                given: s.to_string(),
+                expected: Self::NAMES,
+            })
     }
 }
 
@@ -36,13 +74,45 @@ pub enum Gauge {
 }
 
 impl Gauge {
+    /// The three forms, in the order velocity, length, acceleration (the
+    /// order of [`Gauge::NAMES`]).
+    pub const ALL: [Gauge; 3] = [Gauge::Velocity, Gauge::Length, Gauge::Acceleration];
+    /// The accepted names, the only spelling of the gauges anywhere.
+    pub const NAMES: &'static [&'static str] = &["velocity", "length", "acceleration"];
+
     /// The name used on the command line: `velocity`, `length`, `acceleration`.
     pub fn name(self) -> &'static str {
+        Self::NAMES[self as usize]
+    }
+
+    /// One line saying which dipole matrix element the form uses.
+    pub fn description(self) -> &'static str {
         match self {
-            Gauge::Velocity => "velocity",
-            Gauge::Length => "length",
-            Gauge::Acceleration => "acceleration",
+            Gauge::Velocity => "|p|^2 D ln D",
+            Gauge::Length => "|r|^2 D^3 ln D",
+            Gauge::Acceleration => "|grad V|^2 D^-1 ln D",
         }
+    }
+}
+
+impl std::fmt::Display for Gauge {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for Gauge {
+    type Err = UnknownName;
+
+    /// Parses a name written by [`Gauge::name`] (exact, lower case).
+    fn from_str(s: &str) -> Result<Self, UnknownName> {
+        Self::ALL
+            .into_iter()
+            .find(|g| g.name() == s)
+            .ok_or_else(|| UnknownName {
+                given: s.to_string(),
+                expected: Self::NAMES,
+            })
     }
 }
 
@@ -230,6 +300,53 @@ pub fn format_err(e: f64) -> String {
         m
     };
     format!("{}.{}e{exp}", m / 10, m % 10)
+}
+
+/// How two values of the same ln k0 compare (see [`agreement`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Agreement {
+    /// Agreeing decimal digits after the point: floor(-log10 |a - b|),
+    /// clipped to 0..=max(digits)+2 (the decimals printed); identical values
+    /// give max(digits) + 2.
+    pub digits: u32,
+    /// |a - b| <= a.abs_err + b.abs_err: the values agree within their
+    /// combined error estimates.
+    pub consistent: bool,
+    /// a - b, rounded to f64 (signed).
+    pub difference: f64,
+}
+
+/// Compares two values of the same quantity: the one comparison used by the
+/// cross-method checks, `--method both`, `kzero check` and precision sweeps.
+///
+/// The difference is formed at the larger of the two working precisions and
+/// rounded once to f64.
+///
+/// # Accuracy
+/// `consistent` compares that f64 difference with the sum of the two error
+/// estimates; both are estimates, so this is a statistical statement, not a
+/// proof.
+pub fn agreement(a: &BetheValue, b: &BetheValue) -> Agreement {
+    let prec = a.value.prec().max(b.value.prec());
+    let signed = Float::with_val(prec, &a.value - &b.value);
+    let diff = signed.clone().abs();
+    let cap = a.digits.max(b.digits) + 2;
+    let digits = if diff.is_zero() {
+        cap
+    } else {
+        let l = -diff.clone().log10().to_f64();
+        if l <= 0.0 {
+            0
+        } else {
+            (l.floor() as u32).min(cap)
+        }
+    };
+    let tol = a.abs_err + b.abs_err;
+    Agreement {
+        digits,
+        consistent: diff.to_f64() <= tol,
+        difference: signed.to_f64(),
+    }
 }
 
 /// Hint for `rug::Integer::pow` in `decimal_string`.

@@ -7,17 +7,18 @@
 //! (l = 0, 1, n-1 and a middle l). With `KZERO_HEAVY=1`: every state with
 //! n <= 30 as well.
 
-use kzero_bethe::{green, spectral, Gauge, Settings};
+use kzero_bethe::{agreement, green, spectral, Gauge, Settings};
 use rayon::prelude::*;
-use rug::Float;
 
 fn agree(n: i64, l: i64) -> Result<(), String> {
     let s = Settings::with_digits(20);
     let g = green::ln_k0(n, l, &s).map_err(|e| format!("green ({n},{l}): {e}"))?;
     let p = spectral::ln_k0(n, l, Gauge::Velocity, &s)
         .map_err(|e| format!("spectral ({n},{l}): {e}"))?;
-    let d = Float::with_val(256, &g.value - &p.value).abs().to_f64();
-    if d > g.abs_err + p.abs_err || d > 1e-18 {
+    let a = agreement(&g, &p);
+    let d = a.difference.abs();
+    // Within the combined estimates, and never worse than 1e-18 at 20 digits.
+    if !a.consistent || d > 1e-18 {
         return Err(format!(
             "({n},{l}): green {} +- {:e}, spectral {} +- {:e}, |diff| = {d:e}",
             g.value_string(),

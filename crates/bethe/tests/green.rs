@@ -71,7 +71,7 @@ fn error_estimate_covers_higher_precision() {
     }
 }
 
-/// Shape (common practice, and PHYSICS.md section 1): S-state values lie
+/// Shape (common practice, noted in docs/physics.md, section 1): S-state values lie
 /// between 2.7 and 3.0 and decrease with n toward a finite limit, with
 /// shrinking steps; l > 0 values are small, negative, and shrink in size with l.
 #[test]
@@ -83,7 +83,7 @@ fn physical_shape() {
     for w in s.windows(3) {
         assert!(w[0] - w[1] > w[1] - w[2], "steps not shrinking: {s:?}");
     }
-    assert!(s.iter().all(|v| (2.7..3.0).contains(v))); // common practice (PHYSICS.md section 1)
+    assert!(s.iter().all(|v| (2.7..3.0).contains(v))); // common practice (docs/physics.md, section 1)
     let far = value(40, 0, 12).value.to_f64();
     assert!(far < s[7] && far > 2.7, "ln k0(40,0) = {far}");
     let n = 10;

@@ -239,3 +239,34 @@ fn cost_grows_with_n_and_digits() {
     assert!(cost_estimate(20, 0, 40) > cost_estimate(20, 0, 20));
     assert!(cost_estimate(5, 1, 20) > cost_estimate(5, 0, 20));
 }
+
+/// The three forms are independent computations: not bit-identical, with
+/// their own nodes and terms, and each within its own estimate of a more
+/// precise Green's-function value (an independent method).
+#[test]
+fn forms_are_independent_paths() {
+    use kzero_bethe::spectral::ln_k0_all_forms;
+    for (n, l) in [(3, 1), (5, 0), (20, 3)] {
+        let c = ln_k0_all_forms(n, l, &Settings::with_digits(20)).unwrap();
+        let reference = kzero_bethe::green::ln_k0(n, l, &Settings::with_digits(32)).unwrap();
+        assert!(c.consistent, "({n},{l}) forms disagree");
+        assert!(c.spread > 0, "({n},{l}) forms bit-identical");
+        let (v, len, acc) = (&c.values[0], &c.values[1], &c.values[2]);
+        assert_eq!(
+            (v.method, len.method, acc.method),
+            (Method::Spectral, Method::Spectral, Method::Spectral)
+        );
+        assert!(v.nodes != len.nodes || v.terms != len.terms);
+        assert!(v.terms != acc.terms);
+        for (g, x) in Gauge::ALL.iter().zip(&c.values) {
+            let d = diff(&x.value, &reference.value);
+            assert!(
+                d <= x.abs_err + reference.abs_err,
+                "({n},{l}) {}: off by {d:e}, estimate {:e}",
+                g.name(),
+                x.abs_err
+            );
+        }
+        assert!(c.spread_f64() <= 2.0 * c.values.iter().map(|x| x.abs_err).fold(0.0, f64::max));
+    }
+}

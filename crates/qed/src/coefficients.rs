@@ -52,7 +52,7 @@ fn delta_l0(level: &Level) -> f64 {
 /// A41 = (4/3) delta_l0.
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
-/// coefficients (from memory); same as PHYSICS.md section 6.
+/// coefficients (from memory); restated in docs/physics.md, section 7.
 ///
 /// # Accuracy
 /// Closed form evaluated in f64: relative rounding error below 1e-15.
@@ -63,8 +63,9 @@ pub fn a41(level: &Level) -> f64 {
 /// The Bethe-logarithm part of A40: -(4/3) ln k0(n, l) + (10/9) delta_l0.
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
-/// coefficients (from memory); same as PHYSICS.md section 6. `ln_k0` in the
-/// convention of PHYSICS.md section 1 (energies in units of Z^2 Ry).
+/// coefficients (from memory); restated in docs/physics.md, section 7. `ln_k0`
+/// in the convention of docs/physics.md, section 1 (energies in units of
+/// Z^2 Ry).
 ///
 /// # Accuracy
 /// Closed form evaluated in f64: relative rounding error below 1e-15.
@@ -76,7 +77,7 @@ pub fn a40_bethe(level: &Level, ln_k0: f64) -> f64 {
 /// kappa the Dirac quantum number ([`Level::kappa`]).
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), self-energy
-/// coefficients (from memory); same as PHYSICS.md section 6. Derived again in
+/// coefficients (from memory); restated in docs/physics.md, section 7. Derived again in
 /// the tests from the Schwinger moment (see the module notes). In the reduced-mass
 /// treatment of that source this part carries (m_r/m_e)^2 instead of
 /// (m_r/m_e)^3 (from memory). That is also what the physics gives: the
@@ -158,7 +159,7 @@ pub fn a61(level: &Level) -> f64 {
 /// V40 = -(4/15) delta_l0 (Uehling potential, leading order).
 ///
 /// Source: Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021), vacuum
-/// polarization (from memory); same as PHYSICS.md section 6. Derived again in
+/// polarization (from memory); restated in docs/physics.md, section 7. Derived again in
 /// the tests from the contact form of the Uehling potential.
 ///
 /// # Accuracy

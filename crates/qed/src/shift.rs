@@ -7,7 +7,7 @@ use crate::error::QedError;
 use crate::level::Level;
 use crate::nucleus::{check_z, Nucleus, MAX_RADIUS_FM, MIN_MASS};
 
-/// A Bethe logarithm ln k0(n, l) (PHYSICS.md conventions: energies in units
+/// A Bethe logarithm ln k0(n, l) (docs/physics.md, section 1: energies in units
 /// of Z^2 Ry, independent of Z and of the masses) with its error estimate.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BetheLog {
@@ -360,8 +360,9 @@ pub struct CutoffEstimate {
 /// ```
 ///
 /// from dE = (2 alpha / 3 pi m_e^2) sum_m |p_nm|^2 (E_m - E_n) ln(K/|E_m - E_n|)
-/// with the sum rules of PHYSICS.md section 2; the electron-spin terms and
-/// vacuum polarization are not part of it. For comparison only.
+/// with the sum rules of docs/physics.md, section 2 (worked out in section 7);
+/// the electron-spin terms and vacuum polarization are not part of it. For
+/// comparison only.
 ///
 /// # Accuracy
 /// Exact evaluation of that formula in f64; as a physical prediction it is

@@ -3,10 +3,10 @@
 //!
 //! With D_m = E_m - E_n in hartree (Z = 1), the photon-energy integral is
 //! written for S_h = sum_m |p_nm|^2 D_m ln|D_m| (logarithm of D in
-//! hartree). The Bethe-logarithm numerator uses D in units of Z^2 Ry
-//! (= 2 D hartree at Z = 1): S = S_h + Dsum ln 2 with
+//! hartree). The Bethe-logarithm numerator measures D in units of Z^2 Ry,
+//! and D / (Z^2 Ry) = 2 D / hartree at Z = 1: S = S_h + Dsum ln 2 with
 //! Dsum = sum_m |p_nm|^2 D_m, and [`ExactState::exact_part`] adds that
-//! Dsum ln 2 explicitly.
+//! Dsum ln 2 explicitly (docs/physics.md, section 3.4).
 
 use super::channel::{channels, ChannelData, ChannelFloat};
 use super::integrand::{Integrand, LowerPole};

@@ -9,7 +9,9 @@
 //! S_up = Dsum_up ln(w0) - int_0^n I(nu) dnu,   I = (f_up - 2 Dsum_up nu^2) / nu^3
 //! ```
 //!
-//! is the upper-spectrum part of S = sum_m |p_nm|^2 D_m ln|D_m|. Writing
+//! is the upper-spectrum part of S_h = sum_m |p_nm|^2 D_m ln|D_m|, with D in
+//! hartree (the change to units of Z^2 Ry, Dsum ln 2, is added in the exact
+//! part; docs/physics.md, sections 3.2 to 3.4). Writing
 //! A = c D and using w + D = (n'^2 - nu^2)/(2 nu^2 n'^2),
 //!
 //! ```text

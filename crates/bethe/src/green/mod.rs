@@ -20,7 +20,10 @@
 //! integral runs over nu in (0, n]: a first panel [0, nu1] with a
 //! logarithmic product rule (the integrand is analytic plus analytic times
 //! ln nu there), then Gauss–Legendre panels graded toward the pole of the
-//! first upper state at nu = n + 1.
+//! first upper state at nu = n + 1. The derivations are in docs/physics.md:
+//! section 3 (the integral, the lower states, the variable nu, the units),
+//! section 4 (the Sturmian Green's function and its closed form) and
+//! section 6 (the error estimate).
 //!
 //! ## Error estimate
 //! Panel by panel: a pair of Gauss rules (N nodes at p bits, and about

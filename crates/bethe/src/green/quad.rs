@@ -2,7 +2,14 @@
 //!
 //! Nodes are seeded by the double-precision rule of `gauss-quad` and refined
 //! by Newton's method on the Legendre recurrence at the working precision.
-//! Rules are cached per (nodes, bits).
+//!
+//! ## The rule cache
+//! Rules are kept per (nodes, bits) in one process-wide cache, because a
+//! table run asks for the same rules over and over (building them anew for
+//! every state costs about as much as a whole small state). A rule depends
+//! only on (nodes, bits), never on what was computed before, so the cache
+//! changes times, not results. Its size is bounded: past
+//! [`CACHE_BUDGET_BYTES`] the least recently used rules are dropped.
 
 use gauss_quad::GaussLegendre;
 use rug::Float;
@@ -22,21 +29,83 @@ pub(crate) struct Rule {
     pub(crate) wlog: Vec<Float>,
 }
 
-type Cache = Mutex<HashMap<(usize, u32), Arc<Rule>>>;
-
-fn cache() -> &'static Cache {
-    static C: OnceLock<Cache> = OnceLock::new();
-    C.get_or_init(|| Mutex::new(HashMap::new()))
+impl Rule {
+    /// Approximate memory held by the rule (bytes): three MPFR numbers per
+    /// node, each a limb array plus its header.
+    fn bytes(&self) -> usize {
+        let per_float = |x: &Float| (x.prec() as usize).div_ceil(64) * 8 + 32;
+        self.x
+            .iter()
+            .chain(&self.w)
+            .chain(&self.wlog)
+            .map(per_float)
+            .sum()
+    }
 }
 
-/// The N-point rule at `prec` bits (cached).
+/// Most memory the rule cache keeps (bytes). A rule of N nodes at p bits
+/// takes about 3 N (p/8 + 32) bytes: 600 nodes at 1000 bits, the largest
+/// rules in use, take about 0.3 MB.
+pub(crate) const CACHE_BUDGET_BYTES: usize = 64 << 20;
+
+/// Cached rules with the time of their last use.
+#[derive(Default)]
+struct RuleCache {
+    rules: HashMap<(usize, u32), (Arc<Rule>, u64)>,
+    /// Use counter (a logical clock for least-recently-used eviction).
+    clock: u64,
+    /// Sum of [`Rule::bytes`] over the cached rules.
+    bytes: usize,
+}
+
+impl RuleCache {
+    fn get(&mut self, key: (usize, u32)) -> Option<Arc<Rule>> {
+        self.clock += 1;
+        let now = self.clock;
+        self.rules.get_mut(&key).map(|(r, used)| {
+            *used = now;
+            r.clone()
+        })
+    }
+
+    /// Inserts a rule, then drops the least recently used ones while the
+    /// cache is over its budget (never the rule just inserted).
+    fn insert(&mut self, key: (usize, u32), rule: Arc<Rule>) {
+        self.clock += 1;
+        let size = rule.bytes();
+        if let Some((old, _)) = self.rules.insert(key, (rule, self.clock)) {
+            self.bytes -= old.bytes();
+        }
+        self.bytes += size;
+        while self.bytes > CACHE_BUDGET_BYTES && self.rules.len() > 1 {
+            let oldest = self
+                .rules
+                .iter()
+                .filter(|(k, _)| **k != key)
+                .min_by_key(|(_, (_, used))| *used)
+                .map(|(k, _)| *k);
+            match oldest.and_then(|k| self.rules.remove(&k)) {
+                Some((r, _)) => self.bytes -= r.bytes(),
+                None => break,
+            }
+        }
+    }
+}
+
+fn cache() -> &'static Mutex<RuleCache> {
+    static C: OnceLock<Mutex<RuleCache>> = OnceLock::new();
+    C.get_or_init(|| Mutex::new(RuleCache::default()))
+}
+
+/// The N-point rule at `prec` bits, from the cache or built (see the module
+/// docs: the cache is bounded and never changes a result).
 ///
 /// # Accuracy
 /// Nodes and weights are correct to about 2^-(prec-8) (Newton converges
 /// quadratically from the double-precision seeds; iteration stops when the
 /// correction is below 2^-(prec-4) relative).
 pub(crate) fn rule(n: usize, prec: u32) -> Arc<Rule> {
-    if let Some(r) = cache().lock().ok().and_then(|c| c.get(&(n, prec)).cloned()) {
+    if let Some(r) = cache().lock().ok().and_then(|mut c| c.get((n, prec))) {
         return r;
     }
     let r = Arc::new(build(n, prec));
@@ -155,6 +224,39 @@ fn log_weights(xs: &[Float], ws: &[Float], prec: u32) -> Vec<Float> {
 mod tests {
     use super::*;
     use rug::ops::Pow;
+
+    /// A rule is the same whether it comes from the cache or is built anew
+    /// (the cache cannot change a result), and a cache over its budget drops
+    /// its least recently used rules but keeps the newest.
+    #[test]
+    fn cache_is_bounded_and_pure() {
+        let cached = rule(24, 192);
+        let fresh = build(24, 192);
+        assert_eq!(cached.x, fresh.x);
+        assert_eq!(cached.w, fresh.w);
+        assert_eq!(cached.wlog, fresh.wlog);
+        let mut c = RuleCache::default();
+        let big = Arc::new(build(40, 2048));
+        let per = big.bytes();
+        assert!(per > 40 * 3 * 256, "{per}");
+        let fit = CACHE_BUDGET_BYTES / per;
+        for i in 0..fit + 3 {
+            c.insert((i, 2048), big.clone());
+            if i + 1 == fit {
+                // the cache is full, nothing dropped yet; a use keeps the
+                // oldest rule recent
+                assert!(c.get((0, 2048)).is_some());
+            }
+        }
+        assert!(c.bytes <= CACHE_BUDGET_BYTES, "{} bytes", c.bytes);
+        assert_eq!(c.rules.len(), fit);
+        assert!(c.get((fit + 2, 2048)).is_some(), "newest rule kept");
+        assert!(c.get((0, 2048)).is_some(), "recently used rule kept");
+        assert!(
+            c.get((1, 2048)).is_none(),
+            "least recently used rule dropped"
+        );
+    }
 
     #[test]
     fn integrates_polynomials_and_logs() {

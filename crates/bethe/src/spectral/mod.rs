@@ -6,10 +6,13 @@
 //!
 //! over the intermediate angular momenta L = l +- 1 (angular weights of
 //! [`kzero_basis::gradient::Channel::weight`]), in three equal forms:
-//! velocity |p|^2 D, length |r|^2 D^3, acceleration |grad V|^2 / D.
+//! velocity |p|^2 D, length |r|^2 D^3, acceleration |grad V|^2 / D
+//! (docs/physics.md, sections 1, 2 and 5; D in hartree at Z = 1, where
+//! ln(|D| / (Z^2 Ry)) = ln(2|D|)).
 //!
 //! ## Pieces
-//! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n)): exact rational
+//! * **Bound states n' <= N1** (N1 = max(n + 10, 1.3 n), plus the offset of
+//!   the form, see Gauges): exact rational
 //!   squared radial integrals (only the logarithm is rounded): the length
 //!   form by Gordon's formula ([`kzero_basis::gordon::radial_dipole`]), the
 //!   velocity and acceleration forms for n <= `EXACT_MAX_N` (60) by direct exact
@@ -30,18 +33,28 @@
 //!   give the tail's error estimate.
 //! * **Continuum**: integral over the photo-electron energy with the
 //!   closed-form energy-normalized bound-free integrals; the logarithm is
-//!   part of the integrand. The map k = kappa tan(phi), phi in (0, pi/2),
+//!   part of the integrand. The map k = s tan(phi), phi in (0, pi/2), s a
+//!   multiple of kappa that depends on the form,
 //!   turns the E^(-3/2) ln E decay into a logarithmic endpoint
 //!   singularity that tanh-sinh quadrature (`quadrature`) integrates with
 //!   geometric-in-level convergence; successive levels give its error estimate.
 //!
 //! ## Gauges
 //! The three forms agree term by term (|p_nm| = |D| |r_nm|, |grad V_nm| =
-//! |D| |p_nm|), so all three converge for every state; they differ in the
-//! numbers that are computed (different bound-side polynomials, exact
-//! bound integrals of r, of the gradient, of r^-2) and in the cancellation at
-//! high photo-electron energy (largest in the length form), which is
-//! measured and compensated. No form is unsupported.
+//! |D| |p_nm|), so all three converge for every state. They are computed
+//! as independent paths, so that their agreement is evidence:
+//! * their own exact bound matrix elements (Gordon's formula for r, exact
+//!   integrals of the gradient functions for p, of r^-2 for grad V);
+//! * their own bound-free closed forms (different bound-side polynomials,
+//!   with the largest high-energy cancellation in the length form, measured
+//!   and compensated) in the tail and the continuum;
+//! * their own discretization: the continuum map k = s tan(phi) with
+//!   s = kappa (velocity), 2 kappa (length), kappa / 2 (acceleration), and
+//!   the split point N1 + 0, N1 + 2, N1 + 5, so that quadrature nodes, tail
+//!   interpolation and truncation errors differ between the forms.
+//!
+//! [`ln_k0_all_forms`] computes all three and reports their spread. No form
+//! is unsupported.
 //!
 //! ## Accuracy
 //! `settings.digits` = D asks for |error| < 10^-D (for ln k0: on S, a goal
@@ -79,13 +92,13 @@ mod tail;
 use crate::error::BetheError;
 use crate::settings::{meet_significant, significant_loop, validate_state, Goal, Settings};
 use crate::value::{BetheValue, Gauge, Method};
-use kzero_basis::continuum::{BoundFreeKernel, DipoleForm};
+use kzero_basis::continuum::{BoundFreeKernel, DipoleForm, LossHint};
 use kzero_basis::gordon::radial_dipole;
 use kzero_basis::gradient::{gradient_function, Channel};
 use kzero_basis::radial::{radial_integral, reduced_radial_function};
 use kzero_basis::BoundState;
 use rug::ops::Pow;
-use rug::{Float, Rational};
+use rug::{Assign, Float, Rational};
 use std::time::Instant;
 
 const METHOD: &str = "spectral";
@@ -269,8 +282,28 @@ struct SpectralSumSetup {
     form: DipoleForm,
     weight: SpectralWeight,
     kernels: Vec<(BoundFreeKernel, Rational)>,
+    /// One loss hint per kernel, carried from each evaluation of that kernel
+    /// to the next within this sum only (see
+    /// [`kzero_basis::continuum::LossHint`]): the sum's evaluations run in a
+    /// fixed order, so its results do not depend on anything else.
+    loss_hints: Vec<LossHint>,
     /// Bound terms from the MPFR closed form instead of exact rationals.
     closed_form_bound: bool,
+    /// Scale of the continuum map k = 2^map_exp kappa tan(phi) (per form).
+    map_exp: i32,
+}
+
+/// The discretization of one form: the exponent e of the continuum map
+/// k = 2^e kappa tan(phi) and the offset of the split point N1. Each form
+/// places its quadrature nodes, its exact bound terms and its tail
+/// interpolation differently, so the three forms share no discretization
+/// error and their agreement tests the error estimates, not only rounding.
+fn form_discretization(form: DipoleForm) -> (i32, u32) {
+    match form {
+        DipoleForm::Velocity => (0, 0),
+        DipoleForm::Length => (1, 2),
+        DipoleForm::Acceleration => (-1, 5),
+    }
 }
 
 impl SpectralSumSetup {
@@ -279,32 +312,38 @@ impl SpectralSumSetup {
     }
 
     /// G(w) of the tail at w = 1/nu^2: sum_L w_L I_b(nu)^2 D^shift F(D).
-    fn tail_density(&self, u: &Float, a: u32, prec: u32) -> Result<Float, BetheError> {
+    fn tail_density(&mut self, u: &Float, a: u32, prec: u32) -> Result<Float, BetheError> {
         // w = u / a^2, nu = a / sqrt(u)
         let nu = Float::with_val(prec, a) / Float::with_val(prec, u.sqrt_ref());
         let n = self.state.n();
         let w = Float::with_val(prec, u / (a * a));
         let d = (Float::with_val(prec, Rational::from((1, n * n))) - &w) / 2u32;
         let mut dens = Float::with_val(prec, 0);
-        for (k, wl) in &self.kernels {
-            let v = k.bound_continued(&nu, prec)?;
+        for ((k, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
+            let v = k.bound_continued_hinted(&nu, prec, hint)?;
             dens += Float::with_val(prec, v.value.square_ref()) * wl;
         }
         dens *= pow_float(&d, self.shift(), prec);
         Ok(dens * weight_f(self.weight, &d, prec))
     }
 
-    /// Continuum integrand per dphi at a node: sum_L w_L I_c^2 D^shift F(D) dE/dphi.
-    fn cont_integrand(&self, sin: &Float, cos: &Float, prec: u32) -> Result<Float, BetheError> {
+    /// Continuum integrand per dphi at a node: sum_L w_L I_c^2 D^shift F(D) dE/dphi,
+    /// with k = s tan(phi), s = 2^map_exp kappa: D = (k^2 + kappa^2)/2 and
+    /// dE/dphi = s^2 sin(phi) / cos(phi)^3.
+    fn cont_integrand(&mut self, sin: &Float, cos: &Float, prec: u32) -> Result<Float, BetheError> {
         let kap = Float::with_val(prec, &self.state.kappa());
-        let k = Float::with_val(prec, &kap * sin) / cos;
+        let mut sc = kap.clone();
+        sc <<= self.map_exp;
+        let k = Float::with_val(prec, &sc * sin) / cos;
         let c2 = Float::with_val(prec, cos * cos);
         let kap2 = Float::with_val(prec, &kap * &kap);
-        let d = Float::with_val(prec, &kap2 / &c2) / 2u32;
-        let de = Float::with_val(prec, &kap2 * sin) / &c2 / cos;
+        let k2 = Float::with_val(prec, &k * &k);
+        let d = Float::with_val(prec, &kap2 + &k2) / 2u32;
+        let sc2 = Float::with_val(prec, &sc * &sc);
+        let de = Float::with_val(prec, &sc2 * sin) / &c2 / cos;
         let mut dens = Float::with_val(prec, 0);
-        for (kern, wl) in &self.kernels {
-            let v = kern.continuum_k(&k, prec)?;
+        for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
+            let v = kern.continuum_k_hinted(&k, prec, hint)?;
             dens += Float::with_val(prec, v.value.square_ref()) * wl;
         }
         dens *= pow_float(&d, self.shift(), prec);
@@ -312,7 +351,7 @@ impl SpectralSumSetup {
         Ok(dens * de)
     }
 
-    fn run(&self, p: &RunParams, exact: &[ExactTerm]) -> Result<RunResult, BetheError> {
+    fn run(&mut self, p: &RunParams, exact: &[ExactTerm]) -> Result<RunResult, BetheError> {
         let b = p.bits;
         // bound part
         let mut bound = Float::with_val(b, 0);
@@ -326,18 +365,19 @@ impl SpectralSumSetup {
         if self.closed_form_bound {
             let n = self.state.n();
             let en = self.state.energy();
-            for (kern, wl) in &self.kernels {
+            let shift = self.shift();
+            for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
                 for np in kern.big_l() + 1..=p.n1 {
                     if np == n {
                         continue;
                     }
-                    let i = kern.bound_bound(np, b)?;
+                    let i = kern.bound_bound_hinted(np, b, hint)?;
                     let m =
                         BoundState::new(i64::from(np), i64::from(kern.big_l()), Rational::from(1))?;
                     let d = Float::with_val(b, &Rational::from(&m.energy() - &en));
                     let mut v = Float::with_val(b, i.value.square_ref()) * wl;
                     v /= Float::with_val(b, np).pow(3u32);
-                    v *= pow_float(&d, self.shift(), b);
+                    v *= pow_float(&d, shift, b);
                     v *= weight_f(self.weight, &d, b);
                     abs_sum += v.to_f64().abs();
                     bound += v;
@@ -513,14 +553,18 @@ fn sum_with_goal(
     for ch in Channel::open(l) {
         kernels.push((BoundFreeKernel::new(&state, ch, form)?, ch.weight(l)));
     }
-    let setup = SpectralSumSetup {
+    let (map_exp, split_offset) = form_discretization(form);
+    let loss_hints = vec![LossHint::new(); kernels.len()];
+    let mut setup = SpectralSumSetup {
         state,
         form,
         weight,
         kernels,
+        loss_hints,
         closed_form_bound: n > EXACT_MAX_N && form != DipoleForm::Length,
+        map_exp,
     };
-    let n1 = split_point(n);
+    let n1 = split_point(n) + split_offset;
     let (exact, extra) = if setup.closed_form_bound {
         (Vec::new(), Vec::new())
     } else {
@@ -644,6 +688,62 @@ pub fn ln_k0(n: i64, l: i64, gauge: Gauge, settings: &Settings) -> Result<BetheV
         nodes: s.nodes,
         terms: s.terms,
         seconds: start.elapsed().as_secs_f64(),
+    })
+}
+
+/// ln k0(n, l) in the three dipole forms, and how far apart they are.
+#[derive(Debug, Clone)]
+pub struct FormComparison {
+    /// The values in the order of [`Gauge::ALL`] (velocity, length, acceleration).
+    pub values: Vec<BetheValue>,
+    /// max - min of the three values (at full working precision).
+    pub spread: Float,
+    /// Every pair agrees within the sum of its two error estimates.
+    pub consistent: bool,
+}
+
+impl FormComparison {
+    /// The spread as a number (rounded up).
+    pub fn spread_f64(&self) -> f64 {
+        Float::with_val_round(53, &self.spread, rug::float::Round::Up)
+            .0
+            .to_f64()
+    }
+}
+
+/// ln k0(n, l) by [`ln_k0`] in each of the three dipole forms. The forms
+/// are independent computations: their own exact bound matrix elements,
+/// their own bound-free closed forms in the tail and the continuum, and
+/// their own discretization (continuum map and split point, see the module
+/// documentation). Their spread is evidence about the error estimates.
+///
+/// # Errors
+/// As [`ln_k0`].
+pub fn ln_k0_all_forms(n: i64, l: i64, settings: &Settings) -> Result<FormComparison, BetheError> {
+    let values = Gauge::ALL
+        .iter()
+        .map(|g| ln_k0(n, l, *g, settings))
+        .collect::<Result<Vec<_>, _>>()?;
+    let prec = values.iter().map(|v| v.value.prec()).max().unwrap_or(64);
+    let mut lo = Float::with_val(prec, &values[0].value);
+    let mut hi = lo.clone();
+    let mut consistent = true;
+    for (i, a) in values.iter().enumerate() {
+        if a.value < lo {
+            lo.assign(&a.value);
+        }
+        if a.value > hi {
+            hi.assign(&a.value);
+        }
+        for b in &values[i + 1..] {
+            let d = Float::with_val(prec, &a.value - &b.value).abs();
+            consistent &= d.to_f64() <= a.abs_err + b.abs_err;
+        }
+    }
+    Ok(FormComparison {
+        values,
+        spread: hi - lo,
+        consistent,
     })
 }
 

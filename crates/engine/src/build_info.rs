@@ -1,13 +1,14 @@
-//! Provenance of every table: program and library versions, command line,
-//! start time.
+//! Build information and provenance: versions, git revision, command line,
+//! UTC time. The one provenance schema of every file kzero writes (tables,
+//! shift tables, sweeps) is [`Provenance`].
 
 use std::time::{SystemTime, UNIX_EPOCH};
 
-/// kzero version (from Cargo).
+/// kzero version (the workspace version, from Cargo).
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");
 /// Git revision at build time (`unknown` outside a git checkout).
 pub const GIT_REVISION: &str = env!("KZERO_GIT_REV");
-/// Version line printed by `kzero --version`.
+/// Version line, e.g. `0.1.0 (git 0123456789ab)` (printed by `kzero --version`).
 pub const LONG_VERSION: &str = concat!(
     env!("CARGO_PKG_VERSION"),
     " (git ",
@@ -15,7 +16,7 @@ pub const LONG_VERSION: &str = concat!(
     ")"
 );
 
-/// MPFR version the binary is linked with, e.g. `4.2.1`.
+/// MPFR version the library is linked with, e.g. `4.2.1`.
 pub fn mpfr_version() -> String {
     use gmp_mpfr_sys::mpfr;
     format!(
@@ -26,7 +27,7 @@ pub fn mpfr_version() -> String {
     )
 }
 
-/// GMP version the binary is linked with, e.g. `6.3.0`.
+/// GMP version the library is linked with, e.g. `6.3.0`.
 pub fn gmp_version() -> String {
     use gmp_mpfr_sys::gmp;
     format!(
@@ -37,7 +38,8 @@ pub fn gmp_version() -> String {
     )
 }
 
-/// The full command line, each argument quoted for a POSIX shell when needed.
+/// The full command line of this process, each argument quoted for a POSIX
+/// shell when needed.
 pub fn command_line() -> String {
     std::env::args_os()
         .map(|a| shell_quote(&a.to_string_lossy()))
@@ -45,7 +47,8 @@ pub fn command_line() -> String {
         .join(" ")
 }
 
-fn shell_quote(s: &str) -> String {
+/// `s` quoted for a POSIX shell when it holds anything but plain characters.
+pub fn shell_quote(s: &str) -> String {
     let safe = !s.is_empty()
         && s.chars()
             .all(|c| c.is_ascii_alphanumeric() || "-_./=:,+%@".contains(c));
@@ -93,6 +96,68 @@ fn civil_from_days(z: i64) -> (i64, u32, u32) {
     (if m <= 2 { y + 1 } else { y }, m, d)
 }
 
+/// Where a result file came from: the one provenance schema of every file
+/// kzero writes (tables, shift tables, sweeps). Written as `# key: value`
+/// lines in CSV and as string fields of `meta` in JSON, in the order of
+/// [`Provenance::KEYS`].
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Provenance {
+    /// kzero version ([`VERSION`]).
+    pub version: String,
+    /// Git revision of the build ([`GIT_REVISION`]).
+    pub git_revision: String,
+    /// MPFR version.
+    pub mpfr: String,
+    /// GMP version.
+    pub gmp: String,
+    /// The command (or call) that produced the file.
+    pub command: String,
+    /// UTC start time, ISO 8601.
+    pub started_utc: String,
+}
+
+impl Provenance {
+    /// The keys, in file order.
+    pub const KEYS: [&'static str; 6] = [
+        "version",
+        "git_revision",
+        "mpfr",
+        "gmp",
+        "command",
+        "started_utc",
+    ];
+
+    /// Provenance of this build, started now, with `command` (for the binary
+    /// [`command_line`]; a library front end names its own call).
+    pub fn now(command: impl Into<String>) -> Provenance {
+        Provenance {
+            version: VERSION.into(),
+            git_revision: GIT_REVISION.into(),
+            mpfr: mpfr_version(),
+            gmp: gmp_version(),
+            command: command.into(),
+            started_utc: utc_now(),
+        }
+    }
+
+    /// The (key, value) pairs in the order of [`Provenance::KEYS`].
+    pub fn pairs(&self) -> Vec<(String, String)> {
+        let v = [
+            &self.version,
+            &self.git_revision,
+            &self.mpfr,
+            &self.gmp,
+            &self.command,
+            &self.started_utc,
+        ];
+        Self::KEYS
+            .iter()
+            .zip(v)
+            .map(|(k, v)| (k.to_string(), v.clone()))
+            .collect()
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -111,5 +176,13 @@ mod tests {
         assert_eq!(shell_quote("--n-max"), "--n-max");
         assert_eq!(shell_quote("a b"), "'a b'");
         assert_eq!(shell_quote("it's"), "'it'\\''s'");
+    }
+
+    #[test]
+    fn provenance_pairs_follow_the_keys() {
+        let p = Provenance::now("test");
+        let keys: Vec<String> = p.pairs().into_iter().map(|(k, _)| k).collect();
+        assert_eq!(keys, Provenance::KEYS);
+        assert_eq!(p.version, VERSION);
     }
 }
