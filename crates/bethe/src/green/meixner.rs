@@ -166,7 +166,7 @@ pub(crate) fn channel_j_with(
     let mut em = Float::new(prec);
     let mut inner = Float::new(prec);
     let mut biggest = Float::with_val(prec, 0);
-    for j in 0..m {
+    for (j, (c, rho_j)) in ch.coef.iter().zip(&rho).enumerate() {
         if j == 1 {
             let zb = Float::with_val(prec, &zp.z * beta);
             m_cur.assign(&rec.c1 / &zb);
@@ -176,13 +176,13 @@ pub(crate) fn channel_j_with(
             std::mem::swap(&mut m_prev, &mut m_cur);
             std::mem::swap(&mut m_cur, &mut m_next);
         }
-        eta.assign(&ch.coef[j] * &pw);
+        eta.assign(c * &pw);
         pw *= &mtau;
         em.assign(&eta * &m_cur);
         inner.assign(&s_prev * 2u32);
         inner += &em;
         inner *= &eta;
-        inner *= &rho[j];
+        inner *= rho_j;
         if inner.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
             biggest.assign(&inner);
         }

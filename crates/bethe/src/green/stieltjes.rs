@@ -62,8 +62,10 @@ pub(crate) fn meixner_stieltjes(
     if pt.z < Z_SERIES {
         // r = C(beta-1-a, beta-1) = prod_{j=1}^{beta-1} (j - a) / j
         let mut r = Float::with_val(prec, 1);
+        let mut f = Float::new(prec);
         for j in 1..beta {
-            r *= Float::with_val(prec, j - Float::with_val(prec, a));
+            f.assign(j - a);
+            r *= &f;
             r /= j;
         }
         let y_beta = Float::with_val(prec, pt.one_minus_z.clone().pow(beta));
@@ -123,9 +125,11 @@ fn series(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let peak = (beta as f64 * pt.z.to_f64() / (1.0 - pt.z.to_f64()).max(1e-300)).ceil() as usize;
     let ar = a.to_f64();
     let mut k = 0usize;
+    let mut den = Float::new(prec);
+    let mut t = Float::new(prec);
     loop {
-        let den = Float::with_val(prec, a + k as u32);
-        let t = Float::with_val(prec, &c / &den);
+        den.assign(a + k as u32);
+        t.assign(&c / &den);
         meter.term(&t);
         sum += &t;
         let beyond_pole = (k as f64) > -ar + 1.0;
@@ -211,8 +215,11 @@ fn phi_series(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let mut sum = Float::with_val(prec, 0);
     let ar = a.to_f64();
     let mut k = 0u32;
+    let mut den = Float::new(prec);
+    let mut t = Float::new(prec);
     loop {
-        let t = Float::with_val(prec, &zk / Float::with_val(prec, a + k));
+        den.assign(a + k);
+        t.assign(&zk / &den);
         meter.term(&t);
         sum += &t;
         if f64::from(k) > -ar + 1.0
