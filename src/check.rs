@@ -395,8 +395,11 @@ fn run_interval_file(
                 )
                 .map_err(|e| e.to_string())?;
                 let v = ctx.ln_k0(lv.n(), lv.l(), MethodChoice::Green)?;
-                let b = kzero_qed::BetheLog::new(lv.n(), lv.l(), v.value.to_f64(), v.abs_err)
-                    .map_err(|e| e.to_string())?;
+                let b = {
+                    let (x, err) = v.to_f64_with_err();
+                    kzero_qed::BetheLog::new(lv.n(), lv.l(), x, err)
+                }
+                .map_err(|e| e.to_string())?;
                 kzero_qed::level_shift(&lv, &nucleus, &b).map_err(|e| e.to_string())
             };
             let up = shift("upper")?;

@@ -740,7 +740,23 @@ pub fn check_output_folder(path: &Path, what: &str) -> Result<(), AppError> {
             path.display()
         )));
     }
-    Ok(())
+    // a folder we cannot create files in is bad input too (exit 2): try
+    let probe = parent.join(format!(".kzero-write-check-{}", std::process::id()));
+    match std::fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(&probe)
+    {
+        Ok(_) => {
+            let _ = std::fs::remove_file(&probe);
+            Ok(())
+        }
+        Err(e) => Err(AppError::BadInput(format!(
+            "{what} {}: cannot create files in folder {}: {e}",
+            path.display(),
+            parent.display()
+        ))),
+    }
 }
 
 /// Writes `contents` to `path` atomically: a temporary file in the same

@@ -64,14 +64,14 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
             nodes_for(plan.magnitude_exp, tol, rate, 4.0)
         };
         match converge_panel(&mut integrands, panel, bits, plan.guard, start, tol) {
-            Ok(r) => {
+            Ok(done) => {
                 if !panel.first {
-                    rate = r.rate.clamp(BITS_PER_NODE, MAX_RATE);
+                    rate = done.rate.clamp(BITS_PER_NODE, MAX_RATE);
                 }
-                err += r.err;
-                nodes += r.nodes;
-                prec = prec.max(r.prec);
-                values.push(r.value);
+                err += done.err;
+                nodes += done.nodes;
+                prec = prec.max(done.prec);
+                values.push(done.value);
             }
             Err(panel_best) => {
                 return Err(BetheError::NoConvergence {
@@ -85,12 +85,13 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
         }
     }
     // panels may differ in precision: sum at the highest
-    let mut s = state.exact_part(prec);
+    let mut numerator = state.exact_part(prec);
     for v in &values {
-        s -= v;
+        numerator -= v;
     }
+    // ln k0 = S / D0 with D0 = 2/n^3 (Z = 1)
     let n3 = u64::from(state.n).pow(3);
-    let value = Float::with_val(prec, s * n3 / 2u32);
+    let value = Float::with_val(prec, numerator * n3 / 2u32);
     if err < goal {
         let terms = state.channels.iter().map(|c| c.coef.len()).sum();
         return Ok(BetheValue {

@@ -70,47 +70,54 @@ pub(crate) fn panel_layout(n: u32, first_lower: Option<u32>) -> Vec<Panel> {
 pub(crate) fn panel_integral(integrand: &Integrand, panel: &Panel, nodes: usize) -> (Float, i32) {
     let prec = integrand.prec();
     let scale_exp = ln_k0_scale_exp(integrand.n);
-    let r = quad::rule(nodes, prec);
+    let rule = quad::rule(nodes, prec);
     let start = Float::with_val(prec, panel.start);
     // width in MPFR: the f64 difference would leave gaps between panels
-    let h = Float::with_val(prec, Float::with_val(prec, panel.end) - &start);
-    let parts: Vec<(Float, i32)> = if panel.first {
+    let width = Float::with_val(prec, Float::with_val(prec, panel.end) - &start);
+    // per node: (weighted contribution, loss on the scale of ln k0)
+    let contributions: Vec<(Float, i32)> = if panel.first {
         // int_0^nu1 I = nu1 [sum w_i I_an + sum (W_i + w_i ln nu1) I_log]
-        let ln_h = Float::with_val(prec, h.ln_ref());
-        r.x.par_iter()
-            .zip(r.w.par_iter().zip(r.wlog.par_iter()))
-            .map(|(x, (w, wl))| {
-                let nu = Float::with_val(prec, x * &h);
-                let mut m = Meter::new();
-                let s = integrand.sample(&nu, &mut m);
+        let ln_width = Float::with_val(prec, width.ln_ref());
+        rule.x
+            .par_iter()
+            .zip(rule.w.par_iter().zip(rule.wlog.par_iter()))
+            .map(|(x, (w, w_log))| {
+                let nu = Float::with_val(prec, x * &width);
+                let mut meter = Meter::new();
+                let sample = integrand.sample(&nu, &mut meter);
                 let ln_nu = Float::with_val(prec, nu.ln_ref());
-                let an =
-                    Float::with_val(prec, &s.value - Float::with_val(prec, &s.log_coef * &ln_nu));
-                let wlt = Float::with_val(prec, wl + Float::with_val(prec, w * &ln_h));
-                let pa = Float::with_val(prec, &an * w);
-                let pl = Float::with_val(prec, &s.log_coef * &wlt);
-                let big = exp2_of(&pa).max(exp2_of(&pl)) + exp2_of(&h) + scale_exp;
-                (pa + pl, m.loss_bits + big)
+                let analytic = Float::with_val(
+                    prec,
+                    &sample.value - Float::with_val(prec, &sample.log_coef * &ln_nu),
+                );
+                let log_weight =
+                    Float::with_val(prec, w_log + Float::with_val(prec, w * &ln_width));
+                let analytic_part = Float::with_val(prec, &analytic * w);
+                let log_part = Float::with_val(prec, &sample.log_coef * &log_weight);
+                let size =
+                    exp2_of(&analytic_part).max(exp2_of(&log_part)) + exp2_of(&width) + scale_exp;
+                (analytic_part + log_part, meter.loss_bits + size)
             })
             .collect()
     } else {
-        r.x.par_iter()
-            .zip(r.w.par_iter())
+        rule.x
+            .par_iter()
+            .zip(rule.w.par_iter())
             .map(|(x, w)| {
-                let nu = Float::with_val(prec, &start + Float::with_val(prec, x * &h));
-                let mut m = Meter::new();
-                let s = integrand.sample(&nu, &mut m);
-                let c = Float::with_val(prec, &s.value * w);
-                let big = exp2_of(&c) + exp2_of(&h) + scale_exp;
-                (c, m.loss_bits + big)
+                let nu = Float::with_val(prec, &start + Float::with_val(prec, x * &width));
+                let mut meter = Meter::new();
+                let sample = integrand.sample(&nu, &mut meter);
+                let weighted = Float::with_val(prec, &sample.value * w);
+                let size = exp2_of(&weighted) + exp2_of(&width) + scale_exp;
+                (weighted, meter.loss_bits + size)
             })
             .collect()
     };
     let mut sum = Float::with_val(prec, 0);
     let mut loss = i32::MIN;
-    for (c, l) in &parts {
-        sum += c;
-        loss = loss.max(*l);
+    for (contribution, node_loss) in &contributions {
+        sum += contribution;
+        loss = loss.max(*node_loss);
     }
-    (sum * h, loss)
+    (sum * width, loss)
 }

@@ -58,27 +58,28 @@ pub(crate) fn pilot_profile(state: &ExactState, bits: u32) -> Vec<PilotPoint> {
     let found: Vec<(i32, i32)> = points
         .par_iter()
         .map(|&x| {
-            let mut m = Meter::new();
-            let a = lo.sample(&Float::with_val(p_lo, x), &mut m).value;
-            let mut m2 = Meter::new();
-            let hi_sample = hi.sample(&Float::with_val(p_hi, x), &mut m2);
-            let b = hi_sample.value;
-            if !a.is_finite() || !b.is_finite() {
+            let mut meter = Meter::new();
+            let low_value = lo.sample(&Float::with_val(p_lo, x), &mut meter).value;
+            let mut high_meter = Meter::new();
+            let high_sample = hi.sample(&Float::with_val(p_hi, x), &mut high_meter);
+            let high_value = high_sample.value;
+            if !low_value.is_finite() || !high_value.is_finite() {
                 return (p_lo as i32 + 64, 0);
             }
             // contribution scale of the node: (n^3/2) nu |I| (log-spaced points)
             let weight = Float::with_val(p_hi, x) * scale;
-            let mag = exp2_of(&Float::with_val(p_hi, &b * &weight));
-            let d = Float::with_val(p_hi, Float::with_val(p_hi, &a) - &b).abs();
+            let mag = exp2_of(&Float::with_val(p_hi, &high_value * &weight));
+            let difference =
+                Float::with_val(p_hi, Float::with_val(p_hi, &low_value) - &high_value).abs();
             // the first panel splits I into I_an + I_log ln nu: each part
             // carries its own rounding
-            let log_part = Float::with_val(p_hi, &hi_sample.log_coef * x.ln()) * &weight;
-            let metered = m.loss_bits + mag.max(exp2_of(&log_part));
-            if d.is_zero() {
+            let log_part = Float::with_val(p_hi, &high_sample.log_coef * x.ln()) * &weight;
+            let metered = meter.loss_bits + mag.max(exp2_of(&log_part));
+            if difference.is_zero() {
                 return (metered, mag);
             }
-            // absolute error on ln k0 at p_lo is |d| (n^3/2) nu = 2^(loss - p_lo)
-            let seen = p_lo as i32 + exp2_of(&Float::with_val(p_hi, &d * &weight));
+            // absolute error on ln k0 at p_lo is |difference| (n^3/2) nu = 2^(loss - p_lo)
+            let seen = p_lo as i32 + exp2_of(&Float::with_val(p_hi, &difference * &weight));
             (seen.max(metered), mag)
         })
         .collect();
