@@ -440,7 +440,7 @@ fn bad_input_is_a_typed_error() {
         Err(BetheError::InvalidState { .. })
     ));
     assert!(matches!(
-        green_sums(201, 0, &[0], &s),
+        green_sums(i64::from(kzero_bethe::settings::MAX_N) + 1, 0, &[0], &s),
         Err(BetheError::OutOfRange { .. })
     ));
     assert!(matches!(

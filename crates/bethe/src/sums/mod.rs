@@ -65,7 +65,7 @@
 //! when S(k) is zero within its error (S(2) for l >= 1).
 //!
 //! ## Range
-//! 1 <= n <= 200, 0 <= l < n, k from [`K_MIN`] to [`K_MAX`] (the sums
+//! 1 <= n <= [`crate::settings::MAX_N`], 0 <= l < n, k from [`K_MIN`] to [`K_MAX`] (the sums
 //! converge at high energy for k < l + 5/2, so every state has k <= 2).
 //! Other k are refused with [`BetheError::PowerOutOfRange`]. The sums grow
 //! like n^(3(1-k)) for k < 1 (for example S(-4) is about 10^27 at n = 200),
@@ -275,7 +275,7 @@ fn depth_for(k: i32) -> u32 {
 /// [`crate::spectral`]) below 10^-digits, or the call fails.
 ///
 /// # Errors
-/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 200),
+/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > MAX_N),
 /// [`BetheError::DigitsOutOfRange`], [`BetheError::GoalUnsupported`]
 /// (a significant-digit goal), [`BetheError::PowerOutOfRange`],
 /// [`BetheError::NoPowers`], [`BetheError::NoConvergence`].
@@ -344,7 +344,7 @@ pub fn spectral_sums(
 /// bound of that rounding, far below the goal).
 ///
 /// # Errors
-/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 200),
+/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > MAX_N),
 /// [`BetheError::DigitsOutOfRange`], [`BetheError::GoalUnsupported`]
 /// (a significant-digit goal), [`BetheError::PowerOutOfRange`],
 /// [`BetheError::NoPowers`], [`BetheError::NoConvergence`].
