@@ -542,7 +542,7 @@ fn bad_state_and_number_input_exit_2() {
         &["state", "2", "0", "--digits", "-3"],
         &["state", "2", "0", "--digits", "ten"],
         &["state", "2", "0", "--method", "magic"],
-        &["state", "201", "0"],
+        &["state", "1001", "0"],
         &["table", "--n-max", "0"],
         &["table", "--n-max", "-2"],
         &["table", "--n-max", "3", "--n-min", "4"],
@@ -983,4 +983,32 @@ fn table_records_the_goal_and_refuses_to_resume_with_another() {
         &kzero(&["table", "--n-max", "2", "--gauge", "length"]),
         "--gauge with green",
     );
+}
+
+/// scripts/cluster-check.sh runs the README's cluster recipe as printed: it
+/// reads the code block after each of its marker lines. Each marker must
+/// stay a whole README line followed by a shell block, so that a README edit
+/// cannot leave the check without its recipe.
+#[test]
+fn the_cluster_check_finds_the_readme_recipe() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let readme = fs::read_to_string(root.join("README.md")).unwrap();
+    let script = fs::read_to_string(root.join("scripts/cluster-check.sh")).unwrap();
+    let markers: Vec<&str> = script
+        .lines()
+        .filter_map(|l| l.split_once("$(readme_block '"))
+        .map(|(_, rest)| rest.split_once("')").unwrap().0)
+        .collect();
+    assert_eq!(markers.len(), 3, "{markers:?}");
+    let lines: Vec<&str> = readme.lines().collect();
+    for m in markers {
+        let i = lines
+            .iter()
+            .position(|l| *l == m)
+            .unwrap_or_else(|| panic!("README.md has no line {m:?}"));
+        let next = lines[i + 1..].iter().find(|l| !l.is_empty());
+        assert_eq!(next, Some(&"```sh"), "no shell block after {m:?}");
+    }
+    // The batch script continues a part file whenever it exists.
+    assert!(readme.contains("if [ -e \"$OUT\" ]; then RESUME=\"--resume\"; fi"));
 }
