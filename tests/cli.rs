@@ -971,3 +971,31 @@ fn significant_goal_in_state_and_sweep() {
     let rows = v["rows"].as_array().unwrap();
     assert!(rows[..2].iter().all(|r| r["covered"] == true));
 }
+
+/// scripts/cluster-check.sh runs the README's cluster recipe as printed: it
+/// reads the code block after each of its marker lines. Each marker must
+/// stay a whole README line followed by a shell block, so that a README edit
+/// cannot leave the check without its recipe.
+#[test]
+fn the_cluster_check_finds_the_readme_recipe() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let readme = fs::read_to_string(root.join("README.md")).unwrap();
+    let script = fs::read_to_string(root.join("scripts/cluster-check.sh")).unwrap();
+    let markers: Vec<&str> = script
+        .lines()
+        .filter_map(|l| l.split_once("$(readme_block '"))
+        .map(|(_, rest)| rest.split_once("')").unwrap().0)
+        .collect();
+    assert_eq!(markers.len(), 3, "{markers:?}");
+    let lines: Vec<&str> = readme.lines().collect();
+    for m in markers {
+        let i = lines
+            .iter()
+            .position(|l| *l == m)
+            .unwrap_or_else(|| panic!("README.md has no line {m:?}"));
+        let next = lines[i + 1..].iter().find(|l| !l.is_empty());
+        assert_eq!(next, Some(&"```sh"), "no shell block after {m:?}");
+    }
+    // The batch script continues a part file whenever it exists.
+    assert!(readme.contains("if [ -e \"$OUT\" ]; then RESUME=\"--resume\"; fi"));
+}
