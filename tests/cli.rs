@@ -955,6 +955,36 @@ fn significant_goal_in_state_and_sweep() {
     assert!(rows[..2].iter().all(|r| r["covered"] == true));
 }
 
+#[test]
+fn table_records_the_goal_and_refuses_to_resume_with_another() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = p(dir.path(), "t.csv");
+    let o = kzero(&["table", "--n-max", "3", "--significant", "6", "--out", &out]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = fs::read_to_string(&out).unwrap();
+    assert!(text.contains("# setting.goal: significant\n"));
+    assert!(!text.contains("setting.gauge"));
+    // every value is printed with 8 significant digits
+    for line in data_lines(&text) {
+        let v = line.split(',').nth(2).unwrap();
+        let sig = v
+            .trim_start_matches('-')
+            .replace('.', "")
+            .trim_start_matches('0')
+            .len();
+        assert_eq!(sig, 8, "{line}");
+    }
+    let o = kzero(&[
+        "table", "--n-max", "3", "--digits", "6", "--out", &out, "--resume",
+    ]);
+    assert_bad_input(&o, "resume with another goal");
+    assert!(stderr(&o).contains("goal"));
+    assert_bad_input(
+        &kzero(&["table", "--n-max", "2", "--gauge", "length"]),
+        "--gauge with green",
+    );
+}
+
 /// scripts/cluster-check.sh runs the README's cluster recipe as printed: it
 /// reads the code block after each of its marker lines. Each marker must
 /// stay a whole README line followed by a shell block, so that a README edit
