@@ -48,6 +48,12 @@ pub enum EngineError {
         /// Agreeing decimal digits.
         digits: u32,
     },
+    /// A computed ln k0 that the QED assembly does not accept (not finite).
+    #[error("the engine returned an unusable ln k0: {source}")]
+    UnusableLnK0 {
+        /// Why.
+        source: QedError,
+    },
     /// A precision sweep needs one method.
     #[error("sweep takes --method green or --method spectral (run it once for each)")]
     SweepMethod,
@@ -104,7 +110,9 @@ impl EngineError {
                 }
             }
             EngineError::MethodsDisagree { .. } => ErrorClass::CheckFailed,
-            EngineError::Internal { .. } | EngineError::Threads { .. } => ErrorClass::Failure,
+            EngineError::Internal { .. }
+            | EngineError::Threads { .. }
+            | EngineError::UnusableLnK0 { .. } => ErrorClass::Failure,
         }
     }
 
