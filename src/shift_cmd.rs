@@ -231,7 +231,7 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
             m.insert("constants".into(), constants_json());
             m.insert(
                 "settings".into(),
-                json!({ "digits": settings.digits, "method": "green" }),
+                json!({ "digits": settings.digits, "goal": settings.goal.name(), "method": "green" }),
             );
         }
         let mut s = serde_json::to_string_pretty(&v)
@@ -541,7 +541,7 @@ mod tests {
         ]))
         .unwrap();
         let body: Vec<&str> = csv.lines().filter(|l| !l.starts_with('#')).collect();
-        assert!(body[0].starts_with("n,l,j,ln_k0,ln_k0_err,a41_mhz"));
+        assert!(body[0].starts_with("n,l,j,ln_k0,abs_err,a41_mhz"));
         assert!(body[0].ends_with("total_mhz,uncertainty_mhz,cutoff_mhz"));
         let keys: Vec<String> = body[1..]
             .iter()

@@ -1,13 +1,19 @@
-//! Level shifts through the engine: ln k0 from [`compute`] (Green's
+//! Level shifts through the engine: ln k0 from [`compute()`] (Green's
 //! function), the assembly from kzero-qed, and the shift-table format
 //! (CSV and JSON with the one [`Provenance`] schema).
+//!
+//! A shift table starts with `format: kzero-shift-table` and the provenance
+//! keys of every kzero table, then the settings (`# setting.KEY` lines in
+//! CSV, a `settings` object in JSON, like `kzero table`), then what the
+//! numbers mean (nucleus source, constants, terms, units, uncertainty rule,
+//! note) and, in CSV, the constants (`# constant NAME: value unit`).
 //!
 //! Shift-table columns (all shifts E/h in MHz, positive raises the level):
 //!
 //! | column | meaning |
 //! |---|---|
 //! | `n`, `l`, `j` | the level, j written like `1/2` |
-//! | `ln_k0`, `ln_k0_err` | Bethe logarithm (units of Z^2 Ry) and its error estimate |
+//! | `ln_k0`, `abs_err` | Bethe logarithm (units of Z^2 Ry) and the error of the printed value (as in `kzero table`) |
 //! | `a41_mhz` ... `v50_mhz` | the included terms by coefficient family ([`kzero_qed::shift::Family`]): A41 L, A40 (Bethe-log and magnetic-moment parts together), A50 (Z alpha), A62 (Z alpha)^2 L^2, A61 (Z alpha)^2 L, V40, V50 (Z alpha) |
 //! | `total_mhz` | their sum |
 //! | `uncertainty_mhz` | estimated size of the omitted terms (quadrature sum) |
@@ -257,33 +263,44 @@ impl ShiftTable {
         })
     }
 
-    /// The metadata (key, value) pairs: `program`, the [`Provenance`] keys,
-    /// then the settings, the nucleus and the notes.
-    pub fn meta(&self) -> Vec<(String, String)> {
+    /// `format` (`kzero-shift-table`) and the [`Provenance`] keys.
+    pub fn provenance_pairs(&self) -> Vec<(String, String)> {
+        let mut v: Vec<(String, String)> = vec![("format".into(), "kzero-shift-table".into())];
+        v.extend(self.provenance.pairs());
+        v
+    }
+
+    /// The settings: n_max, digits, goal, method and the nucleus.
+    pub fn setting_pairs(&self) -> Vec<(&'static str, Value)> {
         let nuc = &self.nucleus;
-        let mut meta: Vec<(String, String)> = vec![("program".into(), "kzero shift".into())];
-        meta.extend(self.provenance.pairs());
-        meta.extend([
-            ("n_max".into(), self.n_max.to_string()),
-            ("digits".into(), self.settings.digits.to_string()),
-            ("method".into(), MethodChoice::Green.name().into()),
-            ("nucleus".into(), nuc.name.clone()),
-            ("z".into(), nuc.z.to_string()),
-            ("mass_me".into(), mass_text(nuc)),
-            ("radius_fm".into(), radius_text(nuc.radius_fm)),
-            ("nucleus_source".into(), nuc.source.clone()),
+        vec![
+            ("n_max", json!(self.n_max)),
+            ("digits", json!(self.settings.digits)),
+            ("goal", json!(self.settings.goal.name())),
+            ("method", json!(MethodChoice::Green.name())),
+            ("nucleus", json!(nuc.name)),
+            ("z", json!(nuc.z)),
+            ("mass_me", json!(mass_text(nuc))),
+            ("radius_fm", json!(radius_text(nuc.radius_fm))),
+        ]
+    }
+
+    /// What the numbers mean: nucleus source, constants, terms, units,
+    /// uncertainty rule, the truncation note.
+    pub fn info_pairs(&self) -> Vec<(String, String)> {
+        vec![
+            ("nucleus_source".into(), self.nucleus.source.clone()),
             ("constants".into(), "CODATA 2018".into()),
             ("terms".into(), TERMS_NOTE.into()),
             ("units".into(), UNITS_NOTE.into()),
             ("uncertainty".into(), UNCERTAINTY_RULE.into()),
             ("note".into(), TRUNCATION_NOTE.into()),
-        ]);
-        meta
+        ]
     }
 
     /// The column names.
     pub fn columns(&self) -> Vec<&'static str> {
-        let mut columns = vec!["n", "l", "j", "ln_k0", "ln_k0_err"];
+        let mut columns = vec!["n", "l", "j", "ln_k0", "abs_err"];
         columns.extend(Family::ALL.iter().map(|f| f.column()));
         columns.extend(["total_mhz", "uncertainty_mhz"]);
         if self.with_cutoff {
@@ -314,7 +331,14 @@ impl ShiftTable {
     /// line, one row per level.
     pub fn to_csv(&self) -> String {
         let mut t = String::new();
-        for (k, v) in &self.meta() {
+        for (k, v) in &self.provenance_pairs() {
+            let _ = writeln!(t, "# {k}: {v}");
+        }
+        for (k, v) in &self.setting_pairs() {
+            let v = v.as_str().map_or_else(|| v.to_string(), str::to_string);
+            let _ = writeln!(t, "# setting.{k}: {v}");
+        }
+        for (k, v) in &self.info_pairs() {
             let _ = writeln!(t, "# {k}: {v}");
         }
         for (name, value, unit) in constants::listing() {
@@ -331,9 +355,15 @@ impl ShiftTable {
     pub fn to_json(&self) -> String {
         let columns = self.columns();
         let mut m = serde_json::Map::new();
-        for (k, v) in &self.meta() {
+        for (k, v) in self.provenance_pairs().iter().chain(&self.info_pairs()) {
             m.insert(k.clone(), json!(v));
         }
+        let settings: serde_json::Map<String, Value> = self
+            .setting_pairs()
+            .into_iter()
+            .map(|(k, v)| (k.to_string(), v))
+            .collect();
+        m.insert("settings".into(), Value::Object(settings));
         m.insert("constants_values".into(), constants_json());
         m.insert("columns".into(), json!(columns));
         let json_rows: Vec<Value> = self
