@@ -22,7 +22,7 @@
 //!   of a running table, resume and merge rules.
 //! * [`check`]: the check runner (bundled outside checks, closure sum
 //!   rules, cross-method sample); [`data_checks`]: the bundled files.
-//! * [`shift`]: QED level shifts with ln k0 from [`compute`], and the
+//! * [`shift`]: QED level shifts with ln k0 from [`compute()`], and the
 //!   shift-table format.
 //! * [`sweep`]: precision sweeps; [`exact`]: exact radial integrals and
 //!   oscillator strengths.
