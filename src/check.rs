@@ -5,6 +5,7 @@
 
 use crate::app_error::AppError;
 use crate::output;
+use kzero_bethe::value::format_err;
 use kzero_engine::check::{bundled_files, data_files_in, run_checks, CheckLine, LevelRef};
 use serde_json::{json, Map, Value};
 use std::path::PathBuf;
@@ -25,8 +26,11 @@ tolerance, computed, error, difference, pass):
   * green against spectral for a sample of states, within their combined
     error estimates.
 A line passes when |computed - expected| <= tolerance + the computed value's
-error estimate (a measured interval: within the quadrature sum of both). The
-printed error covers the printed computed decimal. Exit code 0 when every
+error estimate (a measured interval: within the quadrature sum of both), and
+every ln k0 behind it has an error estimate below the goal 10^-D (an estimate
+above the goal fails the line instead of widening it). A level interval also
+fails when its truncation uncertainty exceeds 0.3 % of the measured interval.
+The printed error covers the printed computed decimal. Exit code 0 when every
 line passes, 3 otherwise.")]
 pub struct CheckArgs {
     /// Requested digits of the Bethe-logarithm computations (5..=200).
@@ -77,6 +81,16 @@ fn line_json(l: &CheckLine) -> Value {
     if let Some(f) = &l.failure {
         m.insert("failure".into(), json!(f));
     }
+    if let Some(n) = &l.note {
+        m.insert("note".into(), json!(n));
+    }
+    // the ln k0 estimates behind the line and their goal (null for exact
+    // quantities), as decimal strings
+    m.insert("ln_k0_err".into(), json!(l.ln_k0_err.map(format_err)));
+    m.insert(
+        "ln_k0_goal".into(),
+        json!(l.ln_k0_goal.map(|g| format!("{g:.0e}"))),
+    );
     Value::Object(m)
 }
 
@@ -112,7 +126,10 @@ pub fn run(a: &CheckArgs) -> Result<(), AppError> {
                         Some(why) => why.clone(),
                         None => with_err(&l.computed, &l.error),
                     },
-                    dash(&l.difference),
+                    match &l.note {
+                        Some(n) => format!("{} ({n})", dash(&l.difference)),
+                        None => dash(&l.difference),
+                    },
                     if l.pass { "pass".into() } else { "FAIL".into() },
                 ]
             })

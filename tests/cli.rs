@@ -816,6 +816,23 @@ fn check_runs_the_bundled_checks() {
                 <= num("tolerance") + num("error") + 1e-15 * num("expected").abs()
         );
     }
+    // The pass rule is |difference| <= tolerance + estimate, so every
+    // estimate must also be below the goal 10^-18, or an inflated estimate
+    // would pass a wrong value: lines from ln k0 values (data checks, level
+    // intervals, green vs spectral) carry their largest estimate.
+    let mut estimated = 0;
+    for l in lines {
+        if l["ln_k0_err"].is_null() {
+            assert!(l["ln_k0_goal"].is_null(), "{l}");
+            continue;
+        }
+        let (err, goal) = (number(&l["ln_k0_err"]), number(&l["ln_k0_goal"]));
+        assert!((goal / 1e-18 - 1.0).abs() < 1e-12, "goal {goal:e}: {l}");
+        assert!(err < goal, "estimate {err:e} not below the goal: {l}");
+        estimated += 1;
+    }
+    // 4 ln k0 data lines, 2 level intervals, 5 green vs spectral.
+    assert!(estimated >= 11, "{estimated} lines with an estimate");
     let all_pass = lines.iter().all(|l| l["pass"] == true);
     assert_eq!(code(&o), if all_pass { 0 } else { 3 });
     assert!(

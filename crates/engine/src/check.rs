@@ -3,9 +3,12 @@
 //! structured pass/fail lines.
 //!
 //! A data line passes when |computed - expected| <= tolerance + the
-//! computed value's own error estimate; a measured level interval passes
-//! within the combined truncation and measurement uncertainties. An unknown
-//! quantity or a malformed line is a failing line, never a skip.
+//! computed value's own error estimate, and every ln k0 behind the line has
+//! an error estimate below the goal 10^-D (an estimate above the goal fails
+//! the line rather than widening it); a measured level interval passes
+//! within the combined truncation and measurement uncertainties, with the
+//! truncation part capped at [`INTERVAL_THEORY_CAP`] of the interval. An
+//! unknown quantity or a malformed line is a failing line, never a skip.
 
 use crate::batch::catch_panic;
 use crate::compute::{compute, validate_state};
@@ -49,7 +52,7 @@ impl LevelRef {
 /// Pass rule: |computed - expected| <= tolerance + error, except for a
 /// measured level interval (`interval`), where tolerance (the measurement
 /// uncertainty) and error (the truncation uncertainty) combine in quadrature.
-#[derive(Debug, Clone, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct CheckLine {
     /// The kind of quantity: `ln_k0`, `ln_k0_spectral`, `k0_ry`, `radial`,
     /// `oscillator`, `interval`, `p2_sum`, `p2_energy_sum`, `trk_sum`,
@@ -81,6 +84,63 @@ pub struct CheckLine {
     pub pass: bool,
     /// Why nothing could be computed (the line then fails).
     pub failure: Option<String>,
+    /// Why a computed line fails besides its difference (an ln k0 estimate
+    /// not below its goal, a truncation uncertainty above the cap).
+    pub note: Option<String>,
+    /// The largest error estimate of the ln k0 values behind the line (none
+    /// for exact quantities).
+    pub ln_k0_err: Option<f64>,
+    /// The goal those estimates must stay below: 10^-D for `digits` D.
+    pub ln_k0_goal: Option<f64>,
+}
+
+/// The largest truncation uncertainty a level-interval line may claim, as a
+/// fraction of the measured interval (0.3 %: about 3 MHz for the hydrogen
+/// n = 2 Lamb shift, whose stated uncertainty is about 0.8 MHz). Without a
+/// cap, an inflated uncertainty would pass any computed value.
+pub const INTERVAL_THEORY_CAP: f64 = 3e-3;
+
+/// The ln k0 error estimates behind a line, against their goal. A line
+/// fails when an estimate is not below the goal: the tolerance of a value
+/// check includes the estimate, so an estimate above the goal would
+/// otherwise widen the check instead of failing it.
+#[derive(Debug, Clone, Copy)]
+struct EstimateGoal {
+    err: f64,
+    goal: f64,
+}
+
+impl EstimateGoal {
+    fn of(values: &[&BetheValue], digits: u32) -> EstimateGoal {
+        EstimateGoal {
+            err: values.iter().map(|v| v.abs_err).fold(0.0, f64::max),
+            goal: 10f64.powi(-(digits as i32)),
+        }
+    }
+
+    fn met(self) -> bool {
+        self.err < self.goal
+    }
+
+    /// Why the line fails when the goal is missed.
+    fn note(self) -> Option<String> {
+        (!self.met()).then(|| {
+            format!(
+                "ln k0 estimate {:.1e} not below the goal {:.0e}",
+                self.err, self.goal
+            )
+        })
+    }
+
+    /// Records the estimate on `line`, failing it when the goal is missed.
+    fn apply(self, line: &mut CheckLine) {
+        line.ln_k0_err = Some(self.err);
+        line.ln_k0_goal = Some(self.goal);
+        if let Some(n) = self.note() {
+            line.pass = false;
+            line.add_note(n);
+        }
+    }
 }
 
 impl CheckLine {
@@ -99,7 +159,17 @@ impl CheckLine {
             difference: None,
             pass: false,
             failure: None,
+            note: None,
+            ln_k0_err: None,
+            ln_k0_goal: None,
         }
+    }
+
+    fn add_note(&mut self, n: String) {
+        self.note = Some(match self.note.take() {
+            Some(old) => format!("{old}; {n}"),
+            None => n,
+        });
     }
 
     fn states(mut self, a: Option<LevelRef>, b: Option<LevelRef>) -> CheckLine {
@@ -260,6 +330,9 @@ fn record_fail(name: &str, i: usize, e: &csv::Error) -> CheckLine {
 /// Fills `line` with the comparison of `computed` (error estimate
 /// `computed_err`, printed with `shown_decimals` decimals) and `expected`:
 /// it passes when |computed - expected| <= `tolerance` + `computed_err`.
+///
+/// `estimate`: the ln k0 estimates behind the value and their goal; a
+/// missed goal fails the line.
 fn compare(
     line: CheckLine,
     expected: &str,
@@ -267,15 +340,20 @@ fn compare(
     computed: &Float,
     computed_err: f64,
     shown_decimals: usize,
+    estimate: EstimateGoal,
 ) -> CheckLine {
-    compare_exact(
+    let mut line = compare_exact(
         line,
         expected,
         tolerance,
         computed,
         (computed_err, computed_err),
         shown_decimals,
-    )
+    );
+    if line.failure.is_none() {
+        estimate.apply(&mut line);
+    }
+    line
 }
 
 /// As [`compare`], with separate errors for the pass rule and for the
@@ -400,6 +478,7 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                             &k0,
                             err,
                             decimals_of(&expected) + 3,
+                            EstimateGoal::of(&[&v], ctx.digits),
                         ))
                     } else {
                         Ok(compare(
@@ -409,6 +488,7 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                             &v.value,
                             v.abs_err,
                             v.decimals(),
+                            EstimateGoal::of(&[&v], ctx.digits),
                         ))
                     }
                 }
@@ -551,7 +631,7 @@ fn run_interval_file(
                     .map_err(|_| format!("column '{c}' is not a number"))
             };
             let nucleus = kzero_qed::Nucleus::preset(&get("nucleus")).map_err(|e| e.to_string())?;
-            let mut shift = |p: &str| -> Result<kzero_qed::LevelShift, String> {
+            let mut shift = |p: &str| -> Result<(kzero_qed::LevelShift, BetheValue), String> {
                 let lv = kzero_qed::Level::new(
                     int(&format!("{p}_n"))?,
                     int(&format!("{p}_l"))?,
@@ -564,15 +644,17 @@ fn run_interval_file(
                     kzero_qed::BetheLog::new(lv.n(), lv.l(), x, err)
                 }
                 .map_err(|e| e.to_string())?;
-                kzero_qed::level_shift(&lv, &nucleus, &b).map_err(|e| e.to_string())
+                let s = kzero_qed::level_shift(&lv, &nucleus, &b).map_err(|e| e.to_string())?;
+                Ok((s, v))
             };
-            let up = shift("upper")?;
-            let lo = shift("lower")?;
+            let (up, up_v) = shift("upper")?;
+            let (lo, lo_v) = shift("lower")?;
             let measured = num("measured_mhz")?;
             let m_unc = num("measured_unc_mhz")?;
             let computed = up.total_mhz - lo.total_mhz;
             let unc = up.uncertainty_mhz.hypot(lo.uncertainty_mhz);
             let allowed = unc.hypot(m_unc);
+            let cap = INTERVAL_THEORY_CAP * measured.abs();
             let d = computed - measured;
             let mut l = line.clone();
             // 3 decimals: the rounding (5e-4) goes into the printed error
@@ -580,6 +662,13 @@ fn run_interval_file(
             l.error = Some(format_err(unc + 5e-4));
             l.difference = Some(format!("{d:.3}"));
             l.pass = d.abs() <= allowed;
+            if unc > cap {
+                l.pass = false;
+                l.add_note(format!(
+                    "truncation uncertainty {unc:.3} above the cap {cap:.3}"
+                ));
+            }
+            EstimateGoal::of(&[&up_v, &lo_v], ctx.digits).apply(&mut l);
             Ok(l)
         })();
         out.push(r.unwrap_or_else(|why| line.clone().failing(why)));
@@ -668,6 +757,7 @@ fn cross_lines(ctx: &mut Checker) -> Vec<CheckLine> {
                 line.error = Some(g.abs_err_string());
                 line.difference = Some(format!("{:.2e}", a.difference));
                 line.pass = a.consistent;
+                EstimateGoal::of(&[&g, &s], ctx.digits).apply(&mut line);
                 out.push(line);
             }
             (Err(e), _) | (_, Err(e)) => out.push(line.failing(e)),
@@ -698,6 +788,79 @@ mod tests {
         );
         let pass: Vec<bool> = lines.iter().map(|l| l.pass).collect();
         assert_eq!(pass, [true, false, false]);
+    }
+
+    /// ln k0(2,1) = -0.030016708630213 (Drake & Swainson 1990, via CODATA
+    /// 2018): the value is right in every case below; only the estimate
+    /// changes.
+    #[test]
+    fn an_estimate_above_the_goal_fails_the_line() {
+        let v = kzero_bethe::green::ln_k0(2, 1, &Settings::with_digits(12)).unwrap();
+        let line = |abs_err: f64| {
+            let v = BetheValue {
+                abs_err,
+                ..v.clone()
+            };
+            compare(
+                CheckLine::new("ln_k0", "ln_k0(2,1)", "test".into()),
+                "-0.030016708630213",
+                "1e-15",
+                &v.value,
+                v.abs_err,
+                14,
+                EstimateGoal::of(&[&v], 12),
+            )
+        };
+        let good = line(1e-14);
+        assert!(good.pass, "{good:?}");
+        // 1e-3 would cover any difference, but it is far above the goal 1e-12.
+        let inflated = line(1e-3);
+        assert!(!inflated.pass, "{inflated:?}");
+        assert!(inflated
+            .note
+            .as_deref()
+            .is_some_and(|n| n.contains("not below the goal")));
+        assert_eq!(inflated.ln_k0_err, Some(1e-3));
+        assert_eq!(inflated.ln_k0_goal, Some(1e-12));
+    }
+
+    /// The truncation cap: an invented interval of 100(1000) MHz would pass on
+    /// the uncertainties alone (|1057 - 100| < 1000), but the truncation
+    /// uncertainty of H 2S-2P (about 0.8 MHz) is above 0.3 % of 100 MHz. The
+    /// first row is the measured value, 1057.845(9) MHz (Lundeen & Pipkin,
+    /// Phys. Rev. Lett. 46, 232 (1981)).
+    #[test]
+    fn an_interval_above_the_truncation_cap_fails() {
+        let text = "name,nucleus,upper_n,upper_l,upper_j2,lower_n,lower_l,lower_j2,\
+                    measured_mhz,measured_unc_mhz,source\n\
+                    H 2S1/2-2P1/2,H,2,0,1,2,1,1,1057.845,0.009,Lundeen & Pipkin 1981\n\
+                    invented,H,2,0,1,2,1,1,100,1000,invented\n";
+        let lines = run_data_file(
+            "t.csv",
+            text,
+            &mut Checker {
+                digits: 12,
+                cache: HashMap::new(),
+            },
+        );
+        let pass: Vec<bool> = lines.iter().map(|l| l.pass).collect();
+        assert_eq!(pass, [true, false], "{lines:?}");
+        assert!(
+            lines[1]
+                .note
+                .as_deref()
+                .is_some_and(|n| n.contains("above the cap")),
+            "{lines:?}"
+        );
+        // the levels are named fields
+        assert_eq!(
+            lines[0].state,
+            Some(LevelRef {
+                n: 2,
+                l: 0,
+                j2: Some(1)
+            })
+        );
     }
 
     #[test]
