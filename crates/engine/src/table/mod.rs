@@ -218,8 +218,7 @@ impl TableSettings {
     /// `digits` is checked when the table is computed.
     ///
     /// # Errors
-    /// [`SelectionError`]: n_max outside 1..=[`kzero_bethe::settings::MAX_N`],
-    /// n_min outside 1..=n_max,
+    /// [`SelectionError`]: n_max outside 1..=200, n_min outside 1..=n_max,
     /// a negative l, or no state selected.
     pub fn new(
         n_min: i64,
@@ -737,8 +736,8 @@ pub(crate) mod tests {
         let m = MethodChoice::Green;
         let g = Gauge::Velocity;
         assert!(TableSettings::new(1, 3, None, None, 20, m, g).is_ok());
-        let past = i64::from(kzero_bethe::settings::MAX_N) + 1;
-        for (lo, hi) in [(1, 0), (1, past), (0, 3), (4, 3)] {
+        let above = i64::from(kzero_bethe::settings::MAX_N) + 1;
+        for (lo, hi) in [(1, 0), (1, above), (0, 3), (4, 3)] {
             assert!(TableSettings::new(lo, hi, None, None, 20, m, g).is_err());
         }
         assert_eq!(
