@@ -3,7 +3,7 @@
 
 use crate::app_error::AppError;
 use clap::builder::{PossibleValue, PossibleValuesParser, TypedValueParser};
-use kzero_engine::{Gauge, MethodChoice, Settings, Shard};
+use kzero_engine::{Gauge, MethodChoice, Settings, Shard, TableFormat};
 
 /// The `--digits` parser shared by every command: 5..=200.
 pub fn digits_parser() -> clap::builder::RangedI64ValueParser<u32> {
@@ -87,4 +87,12 @@ pub fn refuse_unused_gauge<T>(method: MethodChoice, gauge: Option<T>) -> Result<
         ));
     }
     Ok(())
+}
+
+/// The `--format` parser of tabular outputs: the names of [`TableFormat`].
+pub fn format_parser() -> impl TypedValueParser<Value = TableFormat> {
+    PossibleValuesParser::new(
+        TableFormat::ALL.map(|f| PossibleValue::new(f.name()).help(f.description())),
+    )
+    .try_map(|s| s.parse::<TableFormat>())
 }

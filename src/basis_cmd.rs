@@ -2,11 +2,7 @@
 
 use crate::app_error::AppError;
 use crate::output;
-use kzero_basis::exact::Surd;
-use kzero_basis::radial::radial_integral;
-use kzero_basis::BoundState;
-use kzero_bethe::value::{printed, Printed};
-use rug::{Float, Rational};
+use kzero_engine::exact::{oscillator, radial};
 use serde_json::json;
 
 /// Arguments of `kzero radial`.
@@ -66,57 +62,11 @@ pub struct OscillatorArgs {
     pub json: bool,
 }
 
-/// Bits needed to print `x` (of magnitude about 2^exp) with `digits` decimals.
-fn bits_for(exp: i32, digits: u32) -> u32 {
-    let int_bits = exp.max(0) as u32;
-    (f64::from(digits) * std::f64::consts::LOG2_10).ceil() as u32 + int_bits + 64
-}
-
-/// An exact surd as a decimal with `digits` decimals (rounded to nearest)
-/// and its printed error: the rounding plus the bound on the conversion to
-/// binary (at most half a unit of the last decimal in all).
-pub fn surd_decimal(s: &Surd, digits: u32) -> Printed {
-    let rough = s.to_float(64);
-    let exp = rough.get_exp().unwrap_or(0);
-    let bits = bits_for(exp, digits);
-    let x = s.to_float(bits);
-    printed(&x, conversion_bound(&x, bits), digits as usize)
-}
-
-/// An exact rational as a decimal with `digits` decimals and its printed
-/// error (see [`surd_decimal`]).
-pub fn rational_decimal(q: &Rational, digits: u32) -> Printed {
-    let rough = Float::with_val(64, q);
-    let exp = rough.get_exp().unwrap_or(0);
-    let bits = bits_for(exp, digits);
-    let x = Float::with_val(bits, q);
-    printed(&x, conversion_bound(&x, bits), digits as usize)
-}
-
-/// A bound on the error of an exact number converted to `bits` bits by a
-/// few correctly rounded operations: 8 |x| 2^-bits.
-fn conversion_bound(x: &Float, bits: u32) -> f64 {
-    let e = x.get_exp().unwrap_or(0);
-    f64::from(e + 3 - bits as i32).exp2()
-}
-
-/// The exact form of a surd: `c` or `c*sqrt(r)`.
-pub fn surd_exact(s: &Surd) -> String {
-    if s.radicand == 1 || s.coef == 0 {
-        s.coef.to_string()
-    } else {
-        format!("{}*sqrt({})", s.coef, s.radicand)
-    }
-}
-
 /// Runs `kzero radial`.
 pub fn run_radial(a: &RadialArgs) -> Result<(), AppError> {
-    let s1 = BoundState::hydrogen(a.n, a.l)?;
-    let s2 = BoundState::hydrogen(a.n2, a.l2)?;
-    let v = radial_integral(&s1, &s2, a.power)?;
-    let p = surd_decimal(&v, a.digits);
+    let r = radial(a.n, a.l, a.n2, a.l2, a.power, a.digits)?;
+    let (s1, s2, p, exact) = (&r.bra, &r.ket, &r.decimal, &r.exact);
     let dec = &p.value;
-    let exact = surd_exact(&v);
     if a.json {
         let j = json!({
             "n": s1.n(), "l": s1.l(), "n2": s2.n(), "l2": s2.l(), "power": a.power,
@@ -142,10 +92,8 @@ pub fn run_radial(a: &RadialArgs) -> Result<(), AppError> {
 
 /// Runs `kzero oscillator`.
 pub fn run_oscillator(a: &OscillatorArgs) -> Result<(), AppError> {
-    let s1 = BoundState::hydrogen(a.n, a.l)?;
-    let s2 = BoundState::hydrogen(a.n2, a.l2)?;
-    let f = kzero_basis::oscillator::oscillator_strength(&s1, &s2)?;
-    let p = rational_decimal(&f, a.digits);
+    let r = oscillator(a.n, a.l, a.n2, a.l2, a.digits)?;
+    let (s1, s2, f, p) = (&r.from, &r.to, &r.value, &r.decimal);
     let dec = &p.value;
     if a.json {
         let j = json!({

@@ -20,7 +20,6 @@ mod shift_cmd;
 mod state_cmd;
 mod sweep;
 mod table;
-mod tablefile;
 
 use app_error::AppError;
 use clap::{Parser, Subcommand};

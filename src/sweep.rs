@@ -7,7 +7,8 @@ use crate::output;
 use crate::plot::{self, SweepPoint};
 use kzero_bethe::value::format_err;
 use kzero_bethe::Goal;
-use kzero_engine::{compute, validate_state, BetheValue, Gauge, MethodChoice, Settings};
+use kzero_engine::sweep::{sweep, DEFAULT_LADDER};
+use kzero_engine::{Gauge, MethodChoice};
 use serde_json::json;
 use std::path::PathBuf;
 
@@ -48,54 +49,31 @@ pub struct SweepArgs {
     pub json: bool,
 }
 
-/// The default ladder of `--digits`.
-const DEFAULT_LADDER: [u32; 6] = [10, 15, 20, 30, 40, 60];
-
 /// Runs `kzero sweep`.
 pub fn run(a: &SweepArgs) -> Result<(), AppError> {
     if a.method == MethodChoice::Both {
-        return Err(AppError::BadInput(
-            "sweep takes --method green or --method spectral (run it once for each)".into(),
-        ));
+        return Err(kzero_engine::EngineError::SweepMethod.into());
     }
     refuse_unused_gauge(a.method, a.gauge)?;
+    kzero_engine::sweep::validate(a.n, a.l, a.method)?;
     let gauge = a.gauge.unwrap_or(Gauge::Velocity);
-    let (n, l) = validate_state(a.n, a.l, a.method)?;
     if let Some(p) = &a.plot {
-        crate::tablefile::check_output_folder(p, "--plot")?;
+        kzero_engine::table::files::check_output_folder(p, "--plot")?;
     }
-    let (mut ladder, goal) = match (&a.digits, &a.significant) {
+    let (ladder, goal) = match (&a.digits, &a.significant) {
         (_, Some(s)) => (s.clone(), Goal::Significant),
         (Some(d), None) => (d.clone(), Goal::Absolute),
         (None, None) => (DEFAULT_LADDER.to_vec(), Goal::Absolute),
     };
-    ladder.sort_unstable();
-    ladder.dedup();
-    let mut values: Vec<BetheValue> = Vec::new();
-    for &d in &ladder {
-        let settings = match goal {
-            Goal::Absolute => Settings::with_digits(d),
-            Goal::Significant => Settings::significant(d),
-        };
-        let c = compute(n, l, a.method, gauge, &settings)?;
-        values.push(c.into_primary());
-    }
-    let best = values
-        .last()
-        .cloned()
-        .ok_or_else(|| AppError::BadInput("--digits list is empty".into()))?;
+    let sw = sweep(a.n, a.l, a.method, gauge, &ladder, goal)?;
+    let (n, l) = (sw.n, sw.l);
+    let ref_digits = sw.reference_digits();
     let mut points = Vec::new();
     let mut rows = Vec::new();
     let mut jrows = Vec::new();
-    for (i, v) in values.iter().enumerate() {
+    for pt in &sw.points {
         // the printed decimal is judged, against the most precise value
-        let printed = v.printed();
-        let actual = if i + 1 < values.len() {
-            Some(v.printed_distance(&best))
-        } else {
-            None
-        };
-        let covered = actual.map(|x| printed.err >= x + best.abs_err);
+        let (v, printed, actual, covered) = (&pt.value, &pt.printed, pt.actual_err, pt.covered);
         points.push(SweepPoint {
             digits: v.digits,
             est_err: printed.err,
@@ -134,7 +112,7 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
         let mut j = json!({
             "n": n, "l": l, "method": a.method.name(),
             "goal": goal.name(),
-            "reference_digits": best.digits,
+            "reference_digits": ref_digits,
             "rows": jrows,
         });
         if let (MethodChoice::Spectral, Some(m)) = (a.method, j.as_object_mut()) {
@@ -154,7 +132,7 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
                 String::new()
             },
             goal.option(),
-            best.digits
+            ref_digits
         );
         s.push_str(&output::text_table(
             &[
