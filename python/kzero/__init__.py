@@ -24,25 +24,32 @@ Errors are exceptions with the one-line messages of the command line:
 estimates.
 """
 
+from decimal import Decimal
+from fractions import Fraction
 from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
 
 from . import _kzero
 from ._kzero import InvalidInput, MethodsDisagree, NoConvergence
-from ._value import Value, to_rows
+from ._value import Exact, Value, to_rows
 
 __version__: str = _kzero.__version__
 
 # Show the public classes as members of `kzero` (help(), repr, pickling).
 Value.__module__ = __name__
+Exact.__module__ = __name__
 
 __all__ = [
     "__version__",
+    "Exact",
     "InvalidInput",
     "MethodsDisagree",
     "NoConvergence",
     "Value",
     "build_info",
     "ln_k0",
+    "oscillator",
+    "radial",
+    "sweep",
     "table",
     "to_rows",
 ]
@@ -159,7 +166,9 @@ def table(
         if not pairs:
             raise InvalidInput("no state selected: the list of states is empty")
     else:
-        pairs = _range_states(n_min, n_max, _select_l(l))
+        if n_max is None:
+            raise InvalidInput("give either states or n_max (a range n_min..=n_max)")
+        pairs = _kzero.range_states(n_min, n_max, _select_l(l))
     rows = _kzero.table(pairs, digits, method, gauge, threads)
     values = [_value(d) for d in rows]
     disagreements = [d["disagreement"] for d in rows if d.get("disagreement")]
@@ -184,5 +193,86 @@ def build_info() -> Dict[str, str]:
     return _kzero.build_info_dict()
 
 
-def _range_states(n_min, n_max, ls):  # TEMPORARY until the engine's range validator lands
-    return [(n, l) for n in range(n_min, n_max + 1) for l in range(n) if ls is None or l in ls]
+
+def sweep(
+    n: int,
+    l: int,
+    digits: Sequence[int] = (10, 15, 20, 30),
+    method: str = "green",
+    gauge: str = "velocity",
+) -> List[Dict[str, Any]]:
+    """One state computed from scratch at a ladder of ``digits`` (as ``kzero sweep``).
+
+    Use it to choose settings before a large run: each rung's printed value
+    is compared with the most precise rung (the reference, the largest
+    ``digits``), itself uncertain by its own estimated error.
+
+    Returns one dict per rung, in increasing digits, with the keys of
+    ``kzero sweep --json``: ``digits``, ``ln_k0`` and ``abs_err``
+    (``decimal.Decimal``), ``actual_err`` (``Decimal``, ``None`` for the
+    reference), ``covered`` (whether the printed error covers the actual
+    error plus the reference's estimate; ``None`` for the reference),
+    ``bits``, ``nodes``, ``terms``, ``seconds``; and ``value``, the rung as
+    a :class:`Value`.
+
+    ``method`` is ``"green"`` or ``"spectral"`` (not ``"both"``).
+
+    Raises:
+        InvalidInput: bad state, digits or method (command-line messages).
+        NoConvergence: a rung missed its goal.
+    """
+    rows = _kzero.sweep(n, l, [int(d) for d in digits], method, gauge)
+    out = []
+    for r in rows:
+        v = Value._from_native(r["value"], gauge=None if method == "green" else gauge)
+        out.append({
+            "digits": r["digits"],
+            "ln_k0": Decimal(r["ln_k0"]),
+            "abs_err": Decimal(r["abs_err"]),
+            "actual_err": None if r["actual_err"] is None else Decimal(r["actual_err"]),
+            "covered": r["covered"],
+            "bits": v.bits,
+            "nodes": v.nodes,
+            "terms": v.terms,
+            "seconds": v.seconds,
+            "value": v,
+        })
+    return out
+
+
+def radial(
+    n: int, l: int, n2: int, l2: int, power: int = 1, digits: int = 20
+) -> Union[Fraction, Exact]:
+    """The exact radial integral <n l| r^power |n2 l2> of hydrogen, in bohr^power.
+
+    Z = 1 (for charge Z the integral scales as Z^-power). The result is
+    exact: a ``fractions.Fraction`` when the value is rational (for example
+    ``<2s| r |2s> = 6``), otherwise an :class:`Exact` with the exact form as
+    text (``c*sqrt(r)``) and the value as a ``Decimal`` with ``digits``
+    decimals, rounded to nearest.
+
+    Raises:
+        InvalidInput: an invalid state or a divergent integral (messages as
+            ``kzero radial``).
+    """
+    d = _kzero.radial(n, l, n2, l2, power, digits)
+    if d["rational"] is not None:
+        num, den = d["rational"]
+        return Fraction(int(num), int(den))
+    return Exact(d["exact"], Decimal(d["value"]), Decimal(d["abs_err"]), d["digits"])
+
+
+def oscillator(n: int, l: int, n2: int, l2: int) -> Fraction:
+    """The exact absorption oscillator strength f(n l -> n2 l2) of hydrogen.
+
+    Non-relativistic, infinite nuclear mass, summed over the final magnetic
+    substates and averaged over the initial ones; negative for emission
+    (n2 below n). Always rational, returned as a ``fractions.Fraction``:
+    ``oscillator(1, 0, 2, 1) == Fraction(2**13, 3**9)``.
+
+    Raises:
+        InvalidInput: an invalid state or a transition that is not
+            dipole-allowed (messages as ``kzero oscillator``).
+    """
+    num, den = _kzero.oscillator(n, l, n2, l2)
+    return Fraction(int(num), int(den))

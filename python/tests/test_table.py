@@ -129,3 +129,41 @@ def test_to_rows_gives_plain_dicts():
     assert rows[0]["n"] == 1 and rows[0]["l"] == 0
     assert isinstance(rows[0]["ln_k0"], Decimal) and isinstance(rows[0]["abs_err"], Decimal)
     assert all(type(r) is dict for r in rows)
+
+
+def cli_table_error(kzero_bin, args):
+    """The message of `kzero table ARGS` (exit 2), with the option names as
+    the package's keyword names."""
+    p = subprocess.run([kzero_bin, "table", *args], capture_output=True, text=True)
+    assert p.returncode == 2, (args, p.stderr)
+    msg = p.stderr.strip().removeprefix("kzero: ").removesuffix(" (see kzero --help)")
+    for option, keyword in [("'--digits <D>'", "'digits'"), ("'--threads <T>'", "'threads'"),
+                            ("--n-max", "n_max"), ("--n-min", "n_min"), ("--l ", "l ")]:
+        msg = msg.replace(option, keyword)
+    return msg
+
+
+@pytest.mark.parametrize(
+    "kwargs,args",
+    [
+        (dict(n_max=0), ["--n-max", "0"]),
+        (dict(n_max=201), ["--n-max", "201"]),
+        (dict(n_min=5, n_max=3), ["--n-min", "5", "--n-max", "3"]),
+        (dict(n_max=3, l=-1), ["--n-max", "3", "--l=-1"]),
+        (dict(n_max=3, l=[7, 9]), ["--n-max", "3", "--l", "7,9"]),
+        (dict(n_max=2, digits=3), ["--n-max", "2", "--digits", "3"]),
+        (dict(n_max=2, threads=0), ["--n-max", "2", "--threads", "0"]),
+    ],
+)
+def test_bad_table_requests_raise_invalid_input_with_the_cli_message(kzero_bin, kwargs, args):
+    expected = cli_table_error(kzero_bin, args)
+    with pytest.raises(kzero.InvalidInput) as e:
+        kzero.table(**kwargs)
+    assert str(e.value) == expected
+
+
+def test_a_bad_explicit_state_is_refused_before_any_work(kzero_bin):
+    p = subprocess.run([kzero_bin, "state", "2", "2"], capture_output=True, text=True)
+    with pytest.raises(kzero.InvalidInput) as e:
+        kzero.table(states=[(1, 0), (2, 2)])
+    assert str(e.value) == p.stderr.strip().removeprefix("kzero: ")

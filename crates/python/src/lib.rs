@@ -24,9 +24,10 @@
 //!   (`'digits'`, `'method'`, `'gauge'`); the rest of each message is the
 //!   command line's.
 
+use kzero_bethe::Goal;
 use kzero_engine::{
     build_info, catch_panic, compute_states, Computed, EngineError, ErrorClass, Gauge,
-    MethodChoice, Request, Settings,
+    MethodChoice, Request, Settings, TableSettings,
 };
 use pyo3::exceptions::{PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
@@ -133,10 +134,7 @@ fn request(digits: i64, method: &str, gauge: &str) -> PyResult<Request> {
 }
 
 /// One method's value as a dict of plain values.
-fn value_dict<'py>(
-    py: Python<'py>,
-    v: &kzero_engine::BetheValue,
-) -> PyResult<Bound<'py, PyDict>> {
+fn value_dict<'py>(py: Python<'py>, v: &kzero_engine::BetheValue) -> PyResult<Bound<'py, PyDict>> {
     let d = PyDict::new(py);
     d.set_item("n", v.n)?;
     d.set_item("l", v.l)?;
@@ -306,6 +304,122 @@ fn table<'py>(
     Ok(out)
 }
 
+/// The states of a table over a range, selected and checked by the library
+/// as `kzero table --n-min --n-max --l` does (sorted by (n, l)); messages
+/// name the keywords `n_min`, `n_max`, `l` where the command line names its
+/// options.
+#[pyfunction]
+#[pyo3(signature = (n_min, n_max, l))]
+fn range_states(n_min: i64, n_max: i64, l: Option<Vec<i64>>) -> PyResult<Vec<(u32, u32)>> {
+    let s = TableSettings::new(
+        n_min,
+        n_max,
+        l.as_deref(),
+        None,
+        Settings::default().digits,
+        MethodChoice::default(),
+        Gauge::default(),
+    )
+    .map_err(|e| {
+        let msg = e
+            .to_string()
+            .replace("--n-max", "n_max")
+            .replace("--n-min", "n_min")
+            .replace("--l ", "l ");
+        InvalidInput::new_err(msg)
+    })?;
+    Ok(s.states())
+}
+
+/// A precision sweep of one state; see `kzero.sweep`. One dict per rung
+/// (in increasing digits): `value` (the rung's computed value as the dict
+/// of [`value_dict`]), the printed `ln_k0` and `abs_err`, `actual_err`
+/// (`None` for the reference rung) and `covered`.
+#[pyfunction]
+#[pyo3(signature = (n, l, digits, method, gauge))]
+fn sweep<'py>(
+    py: Python<'py>,
+    n: i64,
+    l: i64,
+    digits: Vec<i64>,
+    method: &str,
+    gauge: &str,
+) -> PyResult<Bound<'py, PyList>> {
+    let method = parse_method(method)?;
+    let gauge = parse_gauge(gauge)?;
+    let mut ladder = Vec::with_capacity(digits.len());
+    for d in digits {
+        ladder.push(parse_digits(d)?);
+    }
+    let s = released(py, || {
+        kzero_engine::sweep::sweep(n, l, method, gauge, &ladder, Goal::Absolute)
+    })?;
+    let out = PyList::empty(py);
+    for p in &s.points {
+        let d = PyDict::new(py);
+        d.set_item("digits", p.value.digits)?;
+        d.set_item("ln_k0", &p.printed.value)?;
+        d.set_item("abs_err", &p.printed.abs_err)?;
+        d.set_item(
+            "actual_err",
+            p.actual_err.map(kzero_bethe::value::format_err),
+        )?;
+        d.set_item("covered", p.covered)?;
+        d.set_item("value", value_dict(py, &p.value)?)?;
+        out.append(d)?;
+    }
+    Ok(out)
+}
+
+/// An exact rational as (numerator, denominator) decimal strings.
+fn ratio(q: &rug::Rational) -> (String, String) {
+    (q.numer().to_string(), q.denom().to_string())
+}
+
+/// An exact radial integral; see `kzero.radial`. `rational` is (numerator,
+/// denominator) when the value is rational, else `None`.
+#[pyfunction]
+#[pyo3(signature = (n, l, n2, l2, power, digits))]
+fn radial<'py>(
+    py: Python<'py>,
+    n: i64,
+    l: i64,
+    n2: i64,
+    l2: i64,
+    power: i64,
+    digits: i64,
+) -> PyResult<Bound<'py, PyDict>> {
+    let digits = parse_digits(digits)?;
+    let power = i32::try_from(power).map_err(|_| {
+        invalid_value(
+            "power",
+            &power.to_string(),
+            ": number too large to fit in target type",
+        )
+    })?;
+    let r = released(py, || {
+        kzero_engine::exact::radial(n, l, n2, l2, power, digits)
+    })?;
+    let d = PyDict::new(py);
+    let rational = (r.value.radicand == 1 || r.value.coef == 0).then(|| ratio(&r.value.coef));
+    d.set_item("rational", rational)?;
+    d.set_item("exact", &r.exact)?;
+    d.set_item("value", &r.decimal.value)?;
+    d.set_item("abs_err", &r.decimal.abs_err)?;
+    d.set_item("digits", digits)?;
+    Ok(d)
+}
+
+/// An exact oscillator strength as (numerator, denominator); see
+/// `kzero.oscillator`.
+#[pyfunction]
+#[pyo3(signature = (n, l, n2, l2))]
+fn oscillator(py: Python<'_>, n: i64, l: i64, n2: i64, l2: i64) -> PyResult<(String, String)> {
+    let digits = Settings::default().digits;
+    let f = released(py, || kzero_engine::exact::oscillator(n, l, n2, l2, digits))?;
+    Ok(ratio(&f.value))
+}
+
 /// Versions and git revision of this build, with the provenance keys of a
 /// table header (`command` is this process's command line, `started_utc`
 /// the time of the call).
@@ -330,5 +444,9 @@ fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(ln_k0, m)?)?;
     m.add_function(wrap_pyfunction!(table, m)?)?;
     m.add_function(wrap_pyfunction!(build_info_dict, m)?)?;
+    m.add_function(wrap_pyfunction!(range_states, m)?)?;
+    m.add_function(wrap_pyfunction!(sweep, m)?)?;
+    m.add_function(wrap_pyfunction!(radial, m)?)?;
+    m.add_function(wrap_pyfunction!(oscillator, m)?)?;
     Ok(())
 }
