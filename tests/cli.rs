@@ -542,7 +542,7 @@ fn bad_state_and_number_input_exit_2() {
         &["state", "2", "0", "--digits", "-3"],
         &["state", "2", "0", "--digits", "ten"],
         &["state", "2", "0", "--method", "magic"],
-        &["state", "201", "0"],
+        &["state", "1001", "0"],
         &["table", "--n-max", "0"],
         &["table", "--n-max", "-2"],
         &["table", "--n-max", "3", "--n-min", "4"],

@@ -1,6 +1,6 @@
 //! # kzero-bethe: hydrogenic Bethe logarithms
 //!
-//! ln k0(n, l) for any hydrogenic state with n <= 200, by two independent
+//! ln k0(n, l) for any hydrogenic state with n <= 1000, by two independent
 //! methods:
 //!
 //! * [`green`]: the integral over the virtual-photon energy with the Coulomb

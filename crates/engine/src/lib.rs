@@ -7,7 +7,7 @@
 //! prints.
 //!
 //! How data flows: arguments -> settings ([`Request`], a table's
-//! settings) -> engine ([`compute`], [`run_batch`], [`compute_states`]) ->
+//! settings) -> engine ([`compute()`], [`run_batch`], [`compute_states`]) ->
 //! value ([`kzero_bethe::BetheValue`], [`Computed`]) -> table row -> file.
 //!
 //! * [`method`]: [`MethodChoice`] (green, spectral, both); the names of the

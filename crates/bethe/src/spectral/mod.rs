@@ -80,9 +80,11 @@
 //! [`kzero_basis::continuum`]).
 //!
 //! ## Range
-//! 1 <= n <= 200, 0 <= l < n, any Z (the value does not depend on Z; the
-//! computation runs at Z = 1). Measured times are in benches/README.md; the
-//! largest are about 10 to 15 s for n = 200, l = 1 at 20 digits.
+//! 1 <= n <= 1000 ([`crate::settings::MAX_N`]), 0 <= l < n, any Z (the
+//! value does not depend on Z; the computation runs at Z = 1). Measured
+//! times are in benches/README.md; the cost grows fast with n - l (about
+//! 10 to 15 s for n = 200, l = 1 at 20 digits, minutes for n = 1000 and
+//! small l), so above n = 200 it is meant as the cross-check of samples.
 
 mod quadrature;
 mod tail;
@@ -515,7 +517,7 @@ fn split_point(n: u32) -> u32 {
 /// split point; `abs_err` is an estimate, and the goal is enforced.
 ///
 /// # Errors
-/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 200),
+/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 1000),
 /// [`BetheError::DigitsOutOfRange`], [`BetheError::NoConvergence`].
 pub fn spectral_sum(
     n: i64,
@@ -648,7 +650,7 @@ fn sum_with_goal(
 ///
 /// # Errors
 /// [`BetheError::InvalidState`] unless n >= 1 and 0 <= l < n;
-/// [`BetheError::OutOfRange`] for n > 200; [`BetheError::DigitsOutOfRange`];
+/// [`BetheError::OutOfRange`] for n > 1000; [`BetheError::DigitsOutOfRange`];
 /// [`BetheError::NoConvergence`] when refinement does not reach the goal.
 pub fn ln_k0(n: i64, l: i64, gauge: Gauge, settings: &Settings) -> Result<BetheValue, BetheError> {
     let start = Instant::now();
