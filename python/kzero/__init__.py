@@ -42,6 +42,7 @@ __all__ = [
     "__version__",
     "Exact",
     "InvalidInput",
+    "MAX_N",
     "MethodsDisagree",
     "NoConvergence",
     "Value",
@@ -54,8 +55,9 @@ __all__ = [
     "to_rows",
 ]
 
-#: The largest n of the methods (the same range as the command line).
-MAX_N = 200
+#: The largest principal quantum number n the methods accept (the same
+#: range as the command line).
+MAX_N: int = _kzero.MAX_N
 
 
 def _value(d: Dict[str, Any]) -> Value:
@@ -77,7 +79,7 @@ def ln_k0(
     goal, ``NoConvergence`` is raised and no number is returned.
 
     Args:
-        n: principal quantum number, 1 <= n <= 200.
+        n: principal quantum number, 1 <= n <= ``kzero.MAX_N``.
         l: orbital angular momentum, 0 <= l < n.
         digits: requested absolute accuracy D (5..=200): |error| < 10^-D.
         method: ``"green"`` (photon-energy integral with the Sturmian

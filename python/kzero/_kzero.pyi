@@ -7,6 +7,7 @@ Use the public functions of ``kzero`` instead: they wrap these and return
 from typing import Any, Dict, List, Optional, Tuple
 
 __version__: str
+MAX_N: int
 
 class InvalidInput(ValueError): ...
 class NoConvergence(RuntimeError): ...

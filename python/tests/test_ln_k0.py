@@ -91,9 +91,12 @@ def cli_error(kzero_bin, args):
 
 @pytest.mark.parametrize(
     "n,l,method",
-    [(0, 0, "green"), (2, 2, "green"), (3, -1, "spectral"), (201, 0, "green"), (250, 3, "spectral")],
+    # n far beyond the methods' range (kzero.MAX_N) in the last two.
+    [(0, 0, "green"), (2, 2, "green"), (3, -1, "spectral"), (10**6, 0, "green"),
+     (10**7, 3, "spectral")],
 )
 def test_bad_states_raise_invalid_input_with_the_cli_message(kzero_bin, n, l, method):
+    assert kzero.MAX_N < 10**6  # else the cases below would compute
     expected = cli_error(kzero_bin, ["state", str(n), str(l), "--method", method])
     with pytest.raises(kzero.InvalidInput) as e:
         kzero.ln_k0(n, l, method=method)

@@ -438,6 +438,7 @@ fn build_info_dict(py: Python<'_>) -> PyResult<Bound<'_, PyDict>> {
 fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     let py = m.py();
     m.add("__version__", build_info::VERSION)?;
+    m.add("MAX_N", kzero_bethe::settings::MAX_N)?;
     m.add("InvalidInput", py.get_type::<InvalidInput>())?;
     m.add("NoConvergence", py.get_type::<NoConvergence>())?;
     m.add("MethodsDisagree", py.get_type::<MethodsDisagree>())?;
