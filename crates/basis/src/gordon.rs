@@ -51,7 +51,6 @@ fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: i64) -> Ratio
     // numbers per step).
     let mut num = Integer::from(1); // num_0 = p_0 = 1 (q_0 = 1)
     let mut p = Integer::from(1);
-    let mut q = Integer::from(1);
     // the small factors of one step are multiplied together first (in
     // machine integers when they fit), so that each big number is
     // multiplied once per step (i128 holds every product for n, n' below
@@ -70,7 +69,6 @@ fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: i64) -> Ratio
             }
         }
         let step = (i128::from(c) + i128::from(k) - 1) * i128::from(k);
-        q *= Integer::from(step);
         // num_k = num_{k-1} d^2 (c+k-1) k + p_k
         match d2_small {
             Some(ds) => num *= Integer::from(ds * step),
@@ -81,6 +79,8 @@ fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: i64) -> Ratio
         }
         num += &p;
     }
+    // q_kmax = (c)_kmax kmax! = (c + kmax - 1)! / (c - 1)! kmax!
+    let q = factorial(c + kmax - 1) / factorial(c - 1) * factorial(kmax);
     let acc = Rational::from((num, q));
     let top = e - 2 * i64::from(kmax);
     if top >= 0 {
