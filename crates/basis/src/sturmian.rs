@@ -85,7 +85,7 @@ pub fn matched_expansion(f: &PolyExp, big_l: u32) -> Result<MatchedExpansion, Ba
     let den = d.iter().fold(Integer::from(1), |acc, v| acc.lcm(v.denom()));
     let mut a: Vec<Integer> = d
         .iter()
-        .map(|v| Integer::from(v.numer() * Integer::from(&den / v.denom())))
+        .map(|v| v.numer() * Integer::from(&den / v.denom()))
         .collect();
     let top = a.len() - 1;
     for i in 0..top {

@@ -681,7 +681,7 @@ pub(crate) mod tests {
         let m = MethodChoice::Green;
         let g = Gauge::Velocity;
         assert!(TableSettings::new(1, 3, None, None, 20, m, g).is_ok());
-        for (lo, hi) in [(1, 0), (1, 201), (0, 3), (4, 3)] {
+        for (lo, hi) in [(1, 0), (1, 1001), (0, 3), (4, 3)] {
             assert!(TableSettings::new(lo, hi, None, None, 20, m, g).is_err());
         }
         assert_eq!(
