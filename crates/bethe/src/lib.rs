@@ -8,6 +8,10 @@
 //! * [`spectral`]: the explicit sum over the bound and continuum spectrum, in
 //!   the velocity, length and acceleration forms.
 //!
+//! The same two methods give the whole family of logarithmic dipole sums
+//! S(k), L(k) and the mean excitation energies ln I(k) ([`sums`]), of which
+//! ln k0 is the member k = 2.
+//!
 //! ## Definition and units
 //! ln k0(n,l) = S / D0 with S = sum_m |<n l|p|m>|^2 (E_m - E_n) ln(|E_m - E_n| / (Z^2 Ry))
 //! and D0 = 2 Z^4 / n^3 for every l. The result does not depend on Z; all
@@ -41,6 +45,7 @@ pub mod error;
 pub mod green;
 pub mod settings;
 pub mod spectral;
+pub mod sums;
 pub mod value;
 
 pub use error::BetheError;

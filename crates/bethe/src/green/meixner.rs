@@ -201,6 +201,90 @@ pub(crate) fn channel_j_with(
     (jv, phi_used)
 }
 
+/// weight * <phi_s|G_L|phi_s> for several source functions phi_s of one
+/// channel at one node (each given by its matched-Sturmian coefficients):
+/// the Meixner functions M_i(-a), the functions of the second kind rho_i and
+/// the Stieltjes transform are computed once and shared by every source.
+/// Returns one [`JValue`] per source, and the Phi used (None on the series
+/// route).
+///
+/// # Accuracy
+/// As [`channel_j_with`], whose computation this is for one source; the
+/// cancellation of every source's final sum is recorded in `meter`.
+pub(crate) fn channel_j_sources(
+    big_l: u32,
+    beta: u32,
+    ws2: &Float,
+    coefs: &[Vec<Float>],
+    p: &NuPoint,
+    meter: &mut Meter,
+    phi_hint: Option<&Float>,
+) -> (Vec<JValue>, Option<Float>) {
+    let prec = p.nu.prec();
+    let zp = &p.zp;
+    let a = Float::with_val(prec, (big_l + 1) - Float::with_val(prec, &p.nu));
+    let m = coefs.iter().map(Vec::len).max().unwrap_or(0);
+    if m == 0 {
+        let zero = JValue {
+            j: Float::with_val(prec, 0),
+            log_coef: Float::with_val(prec, 0),
+        };
+        return (vec![zero; coefs.len()], None);
+    }
+    let mut rec = Rec::new(beta, &a, zp);
+    // M_i(-a): M_0 = 1, M_1 = 1 + a (1-z)/(z beta)
+    let zb = Float::with_val(prec, &zp.z * beta);
+    let mut mm: Vec<Float> = Vec::with_capacity(m);
+    mm.push(Float::with_val(prec, 1));
+    if m > 1 {
+        let m1 = Float::with_val(prec, &rec.c1 / &zb) + 1u32;
+        mm.push(m1);
+    }
+    for i in 1..m.saturating_sub(1) {
+        let next = rec.forward(i, &mm[i], &mm[i - 1]);
+        mm.push(next);
+    }
+    let (st, phi_used) = meixner_stieltjes(beta, &a, zp, meter, phi_hint);
+    let rho = second_kind(&mut rec, &a, zp, &st.value, m, meter);
+    let mtau = Float::with_val(prec, -&p.tau);
+    let scale = Float::with_val(prec, ws2 * &p.nu);
+    let mut out = Vec::with_capacity(coefs.len());
+    let mut eta = Float::new(prec);
+    let mut pw = Float::new(prec);
+    let mut em = Float::new(prec);
+    let mut inner = Float::new(prec);
+    for coef in coefs {
+        // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i,
+        // eta_j = coef_j (-tau)^j
+        let mut s_prev = Float::with_val(prec, 0);
+        let mut t = Float::with_val(prec, 0);
+        let mut biggest = Float::with_val(prec, 0);
+        pw.assign(1);
+        for (j, c) in coef.iter().enumerate() {
+            eta.assign(c * &pw);
+            pw *= &mtau;
+            em.assign(&eta * &mm[j]);
+            inner.assign(&s_prev * 2u32);
+            inner += &em;
+            inner *= &eta;
+            inner *= &rho[j];
+            if inner.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
+                biggest.assign(&inner);
+            }
+            t += &inner;
+            s_prev += &em;
+        }
+        meter.term(&biggest);
+        meter.result(&t);
+        let p2 = Float::with_val(prec, &s_prev * &s_prev);
+        out.push(JValue {
+            j: Float::with_val(prec, &t * &scale),
+            log_coef: Float::with_val(prec, p2 * &st.log_coef) * &scale,
+        });
+    }
+    (out, phi_used)
+}
+
 /// rho_i, i = 0..m, from rho_0 = m(a): forward recurrence when it is stable
 /// enough (z near 1), backward (Miller) recurrence normalized to rho_0 otherwise.
 fn second_kind(

@@ -68,6 +68,9 @@ pub enum FormatProblem {
     /// The gauge setting names no gauge.
     #[error("unknown gauge")]
     UnknownGauge,
+    /// The goal setting is neither `absolute` nor `significant`.
+    #[error("unknown goal (absolute or significant)")]
+    UnknownGoal,
     /// The shard entry is not a shard.
     #[error(transparent)]
     Shard(#[from] ShardError),

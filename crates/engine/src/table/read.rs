@@ -128,9 +128,13 @@ fn json_row(v: &Value, settings: &TableSettings) -> Result<Row, FormatProblem> {
             .map(str::to_string)
             .ok_or(FormatProblem::RowFieldNotString(k))
     };
+    // a decimal string (a number in files of earlier versions)
     let secs = o
         .get("seconds")
-        .and_then(Value::as_f64)
+        .and_then(|v| {
+            v.as_f64()
+                .or_else(|| v.as_str().and_then(|t| t.parse().ok()))
+        })
         .ok_or(FormatProblem::RowSecondsMissing)?;
     Ok(Row {
         n: int("n")?,
