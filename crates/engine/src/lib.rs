@@ -27,6 +27,8 @@
 //!   of a running table, resume and merge rules.
 //! * [`check`]: the check runner (bundled outside checks, closure sum
 //!   rules, cross-method sample); [`data_checks`]: the bundled files.
+//! * [`shift`]: QED level shifts with ln k0 from [`compute()`], and the
+//!   shift-table format.
 //! * [`sweep`]: precision sweeps; [`exact`]: exact radial integrals and
 //!   oscillator strengths.
 //!
@@ -59,6 +61,7 @@ pub mod estimate;
 pub mod exact;
 pub mod method;
 pub mod shard;
+pub mod shift;
 pub mod sums;
 pub mod sweep;
 pub mod table;
