@@ -52,6 +52,12 @@ impl From<kzero_bethe::BetheError> for AppError {
     }
 }
 
+impl From<kzero_engine::TableError> for AppError {
+    fn from(e: kzero_engine::TableError) -> Self {
+        AppError::from(kzero_engine::EngineError::from(e))
+    }
+}
+
 impl From<kzero_basis::BasisError> for AppError {
     fn from(e: kzero_basis::BasisError) -> Self {
         AppError::BadInput(e.to_string())

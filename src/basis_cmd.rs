@@ -2,11 +2,7 @@
 
 use crate::app_error::AppError;
 use crate::output;
-use kzero_basis::exact::Surd;
-use kzero_basis::radial::radial_integral;
-use kzero_basis::BoundState;
-use kzero_bethe::value::decimal_string;
-use rug::{Float, Rational};
+use kzero_engine::exact::{oscillator, radial};
 use serde_json::json;
 
 /// Arguments of `kzero radial`.
@@ -24,7 +20,10 @@ pub struct RadialArgs {
     /// l of the ket.
     #[arg(value_name = "L2", allow_negative_numbers = true)]
     pub l2: i64,
-    /// Power K of r (integer, K >= -2 where the integral converges).
+    /// Power K of r (integer). The integrand behaves like r^(L+L2+2+K) at
+    /// the origin, so the integral converges for K >= -(L + L2 + 2): K >= -2
+    /// for two S states, K = -3 from L + L2 = 1 on; a divergent K is refused
+    /// (exit 2).
     #[arg(
         long,
         value_name = "K",
@@ -63,47 +62,15 @@ pub struct OscillatorArgs {
     pub json: bool,
 }
 
-/// Bits needed to print `x` (of magnitude about 2^exp) with `digits` decimals.
-fn bits_for(exp: i32, digits: u32) -> u32 {
-    let int_bits = exp.max(0) as u32;
-    (f64::from(digits) * std::f64::consts::LOG2_10).ceil() as u32 + int_bits + 64
-}
-
-/// An exact surd as a decimal string with `digits` decimals (rounded to
-/// nearest, so the absolute error is below 10^-digits).
-pub fn surd_decimal(s: &Surd, digits: u32) -> String {
-    let rough = s.to_float(64);
-    let exp = rough.get_exp().unwrap_or(0);
-    decimal_string(&s.to_float(bits_for(exp, digits)), digits as usize)
-}
-
-/// An exact rational as a decimal string with `digits` decimals.
-pub fn rational_decimal(q: &Rational, digits: u32) -> String {
-    let rough = Float::with_val(64, q);
-    let exp = rough.get_exp().unwrap_or(0);
-    decimal_string(&Float::with_val(bits_for(exp, digits), q), digits as usize)
-}
-
-/// The exact form of a surd: `c` or `c*sqrt(r)`.
-pub fn surd_exact(s: &Surd) -> String {
-    if s.radicand == 1 || s.coef == 0 {
-        s.coef.to_string()
-    } else {
-        format!("{}*sqrt({})", s.coef, s.radicand)
-    }
-}
-
 /// Runs `kzero radial`.
 pub fn run_radial(a: &RadialArgs) -> Result<(), AppError> {
-    let s1 = BoundState::hydrogen(a.n, a.l)?;
-    let s2 = BoundState::hydrogen(a.n2, a.l2)?;
-    let v = radial_integral(&s1, &s2, a.power)?;
-    let dec = surd_decimal(&v, a.digits);
-    let exact = surd_exact(&v);
+    let r = radial(a.n, a.l, a.n2, a.l2, a.power, a.digits)?;
+    let (s1, s2, p, exact) = (&r.bra, &r.ket, &r.decimal, &r.exact);
+    let dec = &p.value;
     if a.json {
         let j = json!({
             "n": s1.n(), "l": s1.l(), "n2": s2.n(), "l2": s2.l(), "power": a.power,
-            "z": 1, "value": dec, "exact": exact, "digits": a.digits,
+            "value": dec, "abs_err": p.abs_err, "exact": exact, "digits": a.digits,
             "units": format!("bohr^{}", a.power),
         });
         output::print(&format!(
@@ -125,14 +92,13 @@ pub fn run_radial(a: &RadialArgs) -> Result<(), AppError> {
 
 /// Runs `kzero oscillator`.
 pub fn run_oscillator(a: &OscillatorArgs) -> Result<(), AppError> {
-    let s1 = BoundState::hydrogen(a.n, a.l)?;
-    let s2 = BoundState::hydrogen(a.n2, a.l2)?;
-    let f = kzero_basis::oscillator::oscillator_strength(&s1, &s2)?;
-    let dec = rational_decimal(&f, a.digits);
+    let r = oscillator(a.n, a.l, a.n2, a.l2, a.digits)?;
+    let (s1, s2, f, p) = (&r.from, &r.to, &r.value, &r.decimal);
+    let dec = &p.value;
     if a.json {
         let j = json!({
-            "n": s1.n(), "l": s1.l(), "n2": s2.n(), "l2": s2.l(), "z": 1,
-            "f": dec, "exact": f.to_string(), "digits": a.digits,
+            "n": s1.n(), "l": s1.l(), "n2": s2.n(), "l2": s2.l(),
+            "f": dec, "abs_err": p.abs_err, "exact": f.to_string(), "digits": a.digits,
         });
         output::print(&format!(
             "{}\n",

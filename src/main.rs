@@ -3,7 +3,10 @@
 //! sweeps and sharded cluster runs.
 //!
 //! Exit codes: 0 success, 1 anything else, 2 bad input, 3 a check or a
-//! cross-method comparison failed. Every error is one line on stderr.
+//! cross-method comparison failed. Every error is one line on stderr; with
+//! JSON output (`--json`, `--format json`) it is also one JSON object
+//! `{"error": ..., "exit": code}` on stdout, unless the command already
+//! wrote its result there.
 
 mod app_error;
 mod args;
@@ -17,7 +20,6 @@ mod shift_cmd;
 mod state_cmd;
 mod sweep;
 mod table;
-mod tablefile;
 
 use app_error::AppError;
 use clap::{Parser, Subcommand};
@@ -110,10 +112,23 @@ fn run(cli: Cli) -> Result<(), AppError> {
     }
 }
 
+/// Ends the process with `code` after reporting `message`: one line on
+/// stderr and, when JSON output was asked for and nothing was written to
+/// standard output yet, one JSON object `{"error": ..., "exit": code}` there.
+fn fail(message: &str, code: i32, json: bool) -> ! {
+    eprintln!("kzero: {message}");
+    if json && !output::wrote_anything() {
+        let _ = output::print(&output::error_json(message, code));
+    }
+    std::process::exit(code);
+}
+
 fn main() {
     // Panics are turned into one-line errors by `catch`; never print the
     // default panic report.
     panic::set_hook(Box::new(|_| {}));
+    let raw: Vec<String> = std::env::args().collect();
+    let json = output::json_requested(&raw);
     let cli = match Cli::try_parse() {
         Ok(c) => c,
         Err(e) => {
@@ -124,24 +139,21 @@ fn main() {
                     std::process::exit(0);
                 }
                 ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand => {
-                    eprintln!("kzero: a subcommand is required (see kzero --help)");
-                    std::process::exit(2);
+                    fail("a subcommand is required (see kzero --help)", 2, json)
                 }
-                _ => {
-                    eprintln!(
-                        "kzero: {} (see kzero --help)",
+                _ => fail(
+                    &format!(
+                        "{} (see kzero --help)",
                         clap_summary(&e.render().to_string())
-                    );
-                    std::process::exit(2);
-                }
+                    ),
+                    2,
+                    json,
+                ),
             }
         }
     };
     match catch(|| run(cli)) {
         Ok(()) => {}
-        Err(e) => {
-            eprintln!("kzero: {e}");
-            std::process::exit(e.exit_code());
-        }
+        Err(e) => fail(&e.to_string(), e.exit_code(), json),
     }
 }

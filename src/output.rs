@@ -2,10 +2,22 @@
 
 use crate::app_error::AppError;
 use std::io::Write;
+use std::sync::atomic::{AtomicBool, Ordering};
+
+/// Set once anything has been written to standard output.
+static WROTE: AtomicBool = AtomicBool::new(false);
+
+/// Whether anything has been written to standard output by [`print`].
+pub fn wrote_anything() -> bool {
+    WROTE.load(Ordering::Relaxed)
+}
 
 /// Writes `text` to standard output. A closed pipe (`kzero ... | head`) is
 /// not an error; other failures are.
 pub fn print(text: &str) -> Result<(), AppError> {
+    if !text.is_empty() {
+        WROTE.store(true, Ordering::Relaxed);
+    }
     let mut out = std::io::stdout().lock();
     match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
         Ok(()) => Ok(()),
@@ -49,5 +61,24 @@ pub fn text_table(header: &[&str], rows: &[Vec<String>]) -> String {
     for r in rows {
         s.push_str(&line(r.clone()));
     }
+    s
+}
+
+/// Whether the command line asks for JSON on standard output (`--json`, or
+/// `--format json` of the table commands): errors are then also reported as
+/// one JSON object there.
+pub fn json_requested(args: &[String]) -> bool {
+    args.iter().enumerate().any(|(i, a)| {
+        a == "--json"
+            || a == "--format=json"
+            || (a == "--format" && args.get(i + 1).is_some_and(|v| v == "json"))
+    })
+}
+
+/// The error as one JSON object, `{"error": "...", "exit": code}`, with a newline.
+pub fn error_json(message: &str, exit: i32) -> String {
+    let mut s = serde_json::to_string(&serde_json::json!({ "error": message, "exit": exit }))
+        .unwrap_or_default();
+    s.push('\n');
     s
 }

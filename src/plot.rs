@@ -1,7 +1,8 @@
 //! SVG plots (plotters with its SVG backend only: no system libraries).
 
 use crate::app_error::AppError;
-use crate::tablefile::{self, Row};
+use kzero_engine::table::files::write_atomic;
+use kzero_engine::Row;
 use plotters::prelude::*;
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -138,7 +139,7 @@ pub fn table_plot(rows: &[Row], path: &Path) -> Result<(), AppError> {
         }
         root.present().map_err(plot_err)?;
     }
-    tablefile::write_atomic(path, svg.as_bytes())
+    Ok(write_atomic(path, svg.as_bytes())?)
 }
 
 /// A named curve with its colour.
@@ -252,5 +253,5 @@ pub fn sweep_plot(title: &str, pts: &[SweepPoint], path: &Path) -> Result<(), Ap
             .map_err(plot_err)?;
         root.present().map_err(plot_err)?;
     }
-    tablefile::write_atomic(path, svg.as_bytes())
+    Ok(write_atomic(path, svg.as_bytes())?)
 }

@@ -22,6 +22,7 @@
 
 use crate::app_error::AppError;
 use crate::output;
+use kzero_bethe::value::format_err;
 use kzero_bethe::{BetheValue, Settings};
 use kzero_engine::build_info as provenance;
 use kzero_qed::{
@@ -198,7 +199,9 @@ struct Lnk0 {
 
 fn compute_ln_k0(n: u32, l: u32, settings: &Settings) -> Result<Lnk0, AppError> {
     let engine = kzero_bethe::green::ln_k0(i64::from(n), i64::from(l), settings)?;
-    let input = BetheLog::new(n, l, engine.value.to_f64(), engine.abs_err)
+    // the f64 handed on carries the conversion in its error
+    let (x, err) = engine.to_f64_with_err();
+    let input = BetheLog::new(n, l, x, err)
         .map_err(|e| AppError::Other(format!("the engine returned an unusable ln k0: {e}")))?;
     Ok(Lnk0 { engine, input })
 }
@@ -286,6 +289,25 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
 
 fn fmt_mhz(x: f64) -> String {
     format!("{x:.6}")
+}
+
+/// An uncertainty in MHz printed beside values of [`fmt_mhz`]: the
+/// uncertainty plus the rounding of those values (half a unit of the 6th
+/// decimal), rounded *up* to 6 decimals.
+fn fmt_unc_mhz(x: f64) -> String {
+    let up = ((x + 5e-7) * 1e6 * (1.0 + 1e-12)).ceil() / 1e6;
+    format!("{up:.6}")
+}
+
+/// An f64 as a decimal string for JSON: the shortest one that reads back as
+/// the same f64 (exponent form for very small or large magnitudes).
+fn dec(x: f64) -> Value {
+    json!(fmt_const(x))
+}
+
+/// An error estimate as a decimal string, rounded up (for JSON).
+fn err(x: f64) -> Value {
+    json!(format_err(x))
 }
 
 /// A constant with all its digits: plain decimal for moderate magnitudes,
@@ -394,7 +416,7 @@ fn level_text(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) 
     let _ = writeln!(
         t,
         "uncertainty          {:>16} MHz  (estimated size of what is left out)",
-        fmt_mhz(s.uncertainty_mhz)
+        fmt_unc_mhz(s.uncertainty_mhz)
     );
     let _ = writeln!(t);
     let _ = writeln!(t, "Left out, estimated sizes ({UNCERTAINTY_RULE}):");
@@ -405,7 +427,7 @@ fn level_text(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) 
         t,
         "  {:<20} {:>14} MHz  (4/3) x error of ln k0 x unit x (m_r/m_e)^3",
         "ln k0 error",
-        format!("{:.1e}", s.ln_k0_error_mhz)
+        format_err(s.ln_k0_error_mhz)
     );
     if let Some(c) = cutoff {
         let _ = writeln!(t);
@@ -420,9 +442,9 @@ fn level_text(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) 
         );
         let _ = writeln!(
             t,
-            "  estimate {} MHz (+- {:.1e} MHz from ln k0); the expansion above gives {} MHz",
+            "  estimate {} MHz (+- {} MHz from ln k0); the expansion above gives {} MHz",
             fmt_mhz(c.mhz),
-            c.ln_k0_error_mhz,
+            format_err(c.ln_k0_error_mhz),
             fmt_mhz(s.total_mhz)
         );
     }
@@ -441,8 +463,8 @@ fn nucleus_json(nuc: &Nucleus) -> Value {
     json!({
         "name": nuc.name,
         "z": nuc.z,
-        "mass_me": nuc.mass_me,
-        "radius_fm": nuc.radius_fm,
+        "mass_me": nuc.mass_me.map(dec),
+        "radius_fm": dec(nuc.radius_fm),
         "source": nuc.source,
     })
 }
@@ -451,7 +473,7 @@ fn constants_json() -> Value {
     let mut m = serde_json::Map::new();
     m.insert("set".into(), json!("CODATA 2018"));
     for (name, value, unit) in constants::listing() {
-        m.insert(name.into(), json!({ "value": value, "unit": unit }));
+        m.insert(name.into(), json!({ "value": dec(value), "unit": unit }));
     }
     Value::Object(m)
 }
@@ -464,17 +486,17 @@ fn level_json(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) 
             json!({
                 "name": t.name,
                 "order": t.order,
-                "coefficient": t.coefficient,
-                "multiplier": t.multiplier,
-                "mass_factor": t.mass_factor,
-                "mhz": t.mhz,
+                "coefficient": dec(t.coefficient),
+                "multiplier": dec(t.multiplier),
+                "mass_factor": dec(t.mass_factor),
+                "mhz": dec(t.mhz),
             })
         })
         .collect();
     let omitted: Vec<Value> = s
         .omitted
         .iter()
-        .map(|o| json!({ "name": o.name, "estimate_mhz": o.mhz, "rule": o.rule }))
+        .map(|o| json!({ "name": o.name, "estimate_mhz": err(o.mhz), "rule": o.rule }))
         .collect();
     let mut v = json!({
         "level": {
@@ -486,30 +508,30 @@ fn level_json(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) 
         },
         "ln_k0": {
             "value": lk.value_string(),
-            "abs_err": lk.abs_err,
+            "abs_err": lk.abs_err_string(),
             "method": lk.method.name(),
             "digits": lk.digits,
         },
-        "z_alpha": s.z_alpha,
-        "reduced_mass_ratio": s.reduced_mass_ratio,
-        "log_l": s.log_l,
-        "unit_mhz": s.unit_mhz,
+        "z_alpha": dec(s.z_alpha),
+        "reduced_mass_ratio": dec(s.reduced_mass_ratio),
+        "log_l": dec(s.log_l),
+        "unit_mhz": dec(s.unit_mhz),
         "terms": terms,
-        "self_energy_mhz": s.self_energy_mhz,
-        "vacuum_polarization_mhz": s.vacuum_polarization_mhz,
-        "total_mhz": s.total_mhz,
-        "uncertainty_mhz": s.uncertainty_mhz,
+        "self_energy_mhz": dec(s.self_energy_mhz),
+        "vacuum_polarization_mhz": dec(s.vacuum_polarization_mhz),
+        "total_mhz": dec(s.total_mhz),
+        "uncertainty_mhz": err(s.uncertainty_mhz),
         "omitted": omitted,
-        "ln_k0_error_mhz": s.ln_k0_error_mhz,
+        "ln_k0_error_mhz": err(s.ln_k0_error_mhz),
     });
     if let (Some(c), Value::Object(m)) = (cutoff, &mut v) {
         m.insert(
             "cutoff_estimate".into(),
             json!({
-                "coefficient": c.coefficient,
-                "cutoff_log": c.cutoff_log,
-                "mhz": c.mhz,
-                "ln_k0_error_mhz": c.ln_k0_error_mhz,
+                "coefficient": dec(c.coefficient),
+                "cutoff_log": dec(c.cutoff_log),
+                "mhz": dec(c.mhz),
+                "ln_k0_error_mhz": err(c.ln_k0_error_mhz),
             }),
         );
     }
@@ -622,7 +644,7 @@ fn render_table(
         ];
         v.extend(TERM_COLUMNS.iter().map(|c| fmt_mhz(term_mhz(s, c.1))));
         v.push(fmt_mhz(s.total_mhz));
-        v.push(fmt_mhz(s.uncertainty_mhz));
+        v.push(fmt_unc_mhz(s.uncertainty_mhz));
         if let Some(c) = &r.cutoff {
             v.push(fmt_mhz(c.mhz));
         }
@@ -729,7 +751,9 @@ mod tests {
         // 46, 232 (1981)).
         let s = json_of(&["2", "0", "1/2", "--json", "--digits", "10"]);
         let p = json_of(&["2", "1", "1/2", "--json", "--digits", "10"]);
-        let f = |v: &Value, k: &str| v[k].as_f64().unwrap();
+        // numbers and errors are decimal strings
+        let num = |v: &Value| v.as_str().unwrap().parse::<f64>().unwrap();
+        let f = |v: &Value, k: &str| num(&v[k]);
         let lamb = f(&s, "total_mhz") - f(&p, "total_mhz");
         let unc = f(&s, "uncertainty_mhz").hypot(f(&p, "uncertainty_mhz"));
         assert!(
@@ -737,11 +761,11 @@ mod tests {
             "{lamb} +- {unc}"
         );
         let terms = s["terms"].as_array().unwrap();
-        let sum: f64 = terms.iter().map(|t| t["mhz"].as_f64().unwrap()).sum();
+        let sum: f64 = terms.iter().map(|t| num(&t["mhz"])).sum();
         assert!((sum - f(&s, "total_mhz")).abs() < 1e-9);
         assert!(terms
             .iter()
-            .all(|t| t["name"].is_string() && t["coefficient"].is_f64()));
+            .all(|t| t["name"].is_string() && t["coefficient"].is_string()));
         assert!(s["note"].as_str().unwrap().contains("truncated expansion"));
         assert_eq!(s["constants"]["set"], "CODATA 2018");
     }

@@ -847,3 +847,110 @@ fn both_methods_in_state_and_table_agree() {
         assert!(f[10].parse::<u32>().unwrap() >= 10, "{r}");
     }
 }
+
+#[test]
+fn json_errors_are_one_object_on_stdout() {
+    for args in [
+        &["state", "2", "2", "--json"][..],
+        &["state", "2", "0", "--digits", "300", "--json"],
+        &["radial", "1", "0", "1", "0", "--power", "-3", "--json"],
+    ] {
+        let o = kzero(args);
+        assert_eq!(code(&o), 2, "{args:?}");
+        let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+        assert_eq!(v["exit"], 2);
+        let msg = v["error"].as_str().unwrap();
+        // the same message as the one line on stderr
+        assert_eq!(stderr(&o).trim_end(), format!("kzero: {msg}"));
+    }
+    // without --json stdout stays empty
+    let o = kzero(&["state", "2", "2"]);
+    assert_eq!(code(&o), 2);
+    assert!(stdout(&o).is_empty());
+}
+
+#[test]
+fn an_output_folder_without_write_access_is_bad_input() {
+    // /proc takes no new files, even for the superuser
+    let o = kzero(&[
+        "table",
+        "--n-max",
+        "1",
+        "--digits",
+        "5",
+        "--out",
+        "/proc/kzero-t.csv",
+    ]);
+    assert_bad_input(&o, "cannot create files");
+}
+
+#[test]
+fn radial_accepts_the_powers_that_converge() {
+    // <2p| r^-3 |3s> converges (the integrand goes like r^0 at the origin)
+    let o = kzero(&["radial", "2", "1", "3", "0", "--power", "-3", "--json"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert!(v.get("z").is_none());
+    let err: f64 = v["abs_err"].as_str().unwrap().parse().unwrap();
+    assert!(err > 0.0 && err <= 5.1e-21);
+    // <1s| r^-3 |1s> diverges (r^-1 at the origin)
+    assert_bad_input(
+        &kzero(&["radial", "1", "0", "1", "0", "--power", "-3"]),
+        "diverges",
+    );
+}
+
+#[test]
+fn gauge_all_reports_the_spread_and_gauge_with_green_is_refused() {
+    let o = kzero(&[
+        "state", "3", "1", "--method", "spectral", "--gauge", "all", "--digits", "15", "--json",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let g = &v["gauges"];
+    assert_eq!(g["consistent"], true);
+    let forms = g["forms"].as_array().unwrap();
+    let names: Vec<&str> = forms.iter().map(|f| f["gauge"].as_str().unwrap()).collect();
+    assert_eq!(names, ["velocity", "length", "acceleration"]);
+    let spread: f64 = g["spread"].as_str().unwrap().parse().unwrap();
+    let errs: Vec<f64> = forms
+        .iter()
+        .map(|f| f["abs_err"].as_str().unwrap().parse().unwrap())
+        .collect();
+    assert!(spread <= errs.iter().sum::<f64>());
+    // an option the method would ignore is refused
+    for args in [
+        &["state", "2", "1", "--gauge", "length"][..],
+        &["sweep", "2", "1", "--gauge", "velocity"],
+    ] {
+        assert_bad_input(&kzero(args), "--gauge with green");
+    }
+}
+
+#[test]
+fn significant_goal_in_state_and_sweep() {
+    // ln k0(2,1) = -0.030016708630213 (Drake & Swainson 1990 via CODATA 2018)
+    let o = kzero(&["state", "2", "1", "--significant", "12", "--json"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["goal"], "significant");
+    assert_eq!(v["digits"], 12);
+    let x: f64 = v["ln_k0"].as_str().unwrap().parse().unwrap();
+    let err: f64 = v["abs_err"].as_str().unwrap().parse().unwrap();
+    assert!((x - -0.030016708630213).abs() <= err + 1e-15);
+    assert!(err <= 1.05e-12 * x.abs());
+    let d = kzero(&["state", "2", "1", "--json"]);
+    let d: serde_json::Value = serde_json::from_str(&stdout(&d)).unwrap();
+    assert_eq!(d["goal"], "absolute");
+    assert_bad_input(
+        &kzero(&["state", "2", "1", "--digits", "10", "--significant", "10"]),
+        "both goals",
+    );
+    // every printed decimal of the sweep is covered by its printed error
+    let o = kzero(&["sweep", "1", "0", "--significant", "5,9,14", "--json"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["goal"], "significant");
+    let rows = v["rows"].as_array().unwrap();
+    assert!(rows[..2].iter().all(|r| r["covered"] == true));
+}

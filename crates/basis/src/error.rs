@@ -57,6 +57,9 @@ pub enum BasisError {
         /// Final angular momentum.
         l2: u32,
     },
+    /// An exact integral that must be rational came out with a square root.
+    #[error("integral did not reduce to a rational")]
+    NotRational,
     /// An argument outside the domain of the function (stated in the message).
     #[error("invalid argument: {0}")]
     InvalidArgument(String),

@@ -25,6 +25,7 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod closure;
 pub mod constants;
 pub mod continuum;
 pub mod dipole;

@@ -169,6 +169,31 @@ impl BetheValue {
         self.printed().value
     }
 
+    /// |printed decimal - `reference.value`|: the actual error of what is
+    /// printed, judged against a (more precise) reference value. Rounded up.
+    pub fn printed_distance(&self, reference: &BetheValue) -> f64 {
+        let p = self.value_string();
+        let prec = self.value.prec().max(reference.value.prec()) + 64;
+        let x = Float::with_val(prec, Float::parse(&p).expect("a printed decimal parses"));
+        let d = Float::with_val(prec, x - &reference.value).abs();
+        Float::with_val_round(53, &d, rug::float::Round::Up)
+            .0
+            .to_f64()
+    }
+
+    /// The value rounded to the nearest f64, with an error that covers that
+    /// f64: `abs_err` plus the conversion |f64 - value| (measured exactly,
+    /// rounded up). For passing ln k0 on to code that works in f64.
+    pub fn to_f64_with_err(&self) -> (f64, f64) {
+        let x = self.value.to_f64();
+        let mut d = Float::with_val(self.value.prec().max(64) + 64, x);
+        d -= &self.value;
+        let conv = Float::with_val_round(53, d.abs_ref(), rug::float::Round::Up)
+            .0
+            .to_f64();
+        (x, up(self.abs_err + conv))
+    }
+
     /// The error of the printed value, rounded up to two significant digits,
     /// e.g. `3.1e-24`: it covers the estimated error and the rounding of the
     /// decimal of [`BetheValue::value_string`].
@@ -306,8 +331,8 @@ pub fn format_err(e: f64) -> String {
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Agreement {
     /// Agreeing decimal digits after the point: floor(-log10 |a - b|),
-    /// clipped to 0..=max(digits)+2 (the decimals printed); identical values
-    /// give max(digits) + 2.
+    /// clipped to the larger number of decimals printed
+    /// ([`BetheValue::decimals`]); identical values give that number.
     pub digits: u32,
     /// |a - b| <= a.abs_err + b.abs_err: the values agree within their
     /// combined error estimates.
@@ -330,7 +355,7 @@ pub fn agreement(a: &BetheValue, b: &BetheValue) -> Agreement {
     let prec = a.value.prec().max(b.value.prec());
     let signed = Float::with_val(prec, &a.value - &b.value);
     let diff = signed.clone().abs();
-    let cap = a.digits.max(b.digits) + 2;
+    let cap = a.decimals().max(b.decimals()) as u32;
     let digits = if diff.is_zero() {
         cap
     } else {

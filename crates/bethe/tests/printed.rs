@@ -159,3 +159,16 @@ fn rounding_is_folded_into_the_error() {
     let p = printed(&parse("-0.5"), 1e-30, 0);
     assert!(p.err >= 0.5);
 }
+
+/// The f64 handed on (to the level-shift code) carries an error that covers
+/// it: the estimate plus the conversion.
+#[test]
+fn f64_conversion_is_covered() {
+    for (n, l) in [(1, 0), (2, 1), (7, 3)] {
+        let v = green::ln_k0(n, l, &Settings::with_digits(25)).unwrap();
+        let (x, e) = v.to_f64_with_err();
+        let d = Float::with_val(256, &v.value - x).abs().to_f64();
+        assert!(d > 0.0 && d + v.abs_err <= e, "({n},{l})");
+        assert!(e < 1e-15);
+    }
+}

@@ -48,6 +48,18 @@ pub enum EngineError {
         /// Agreeing decimal digits.
         digits: u32,
     },
+    /// A precision sweep needs one method.
+    #[error("sweep takes --method green or --method spectral (run it once for each)")]
+    SweepMethod,
+    /// A precision sweep without any digits.
+    #[error("--digits list is empty")]
+    EmptyLadder,
+    /// A table file, selection or output problem.
+    #[error(transparent)]
+    Table(#[from] crate::table::TableError),
+    /// A data-check folder problem.
+    #[error(transparent)]
+    Check(#[from] crate::check::CheckError),
     /// The worker threads of a batch could not be started.
     #[error("cannot start {threads} threads: {message}")]
     Threads {
@@ -79,7 +91,18 @@ impl EngineError {
     pub fn class(&self) -> ErrorClass {
         match self {
             EngineError::Bethe(e) => bethe_class(e),
-            EngineError::Basis(_) | EngineError::Qed(_) => ErrorClass::BadInput,
+            EngineError::Basis(_)
+            | EngineError::Qed(_)
+            | EngineError::SweepMethod
+            | EngineError::EmptyLadder
+            | EngineError::Check(_) => ErrorClass::BadInput,
+            EngineError::Table(t) => {
+                if t.is_bad_input() {
+                    ErrorClass::BadInput
+                } else {
+                    ErrorClass::Failure
+                }
+            }
             EngineError::MethodsDisagree { .. } => ErrorClass::CheckFailed,
             EngineError::Internal { .. } | EngineError::Threads { .. } => ErrorClass::Failure,
         }

@@ -18,7 +18,12 @@
 //! * [`shard`]: the deterministic cost-balanced shard plan.
 //! * [`batch`]: many states in parallel with a cancellation hook.
 //! * [`build_info`]: versions, git revision, the one [`Provenance`] schema.
-//! * [`data_checks`]: the bundled outside checks (`data-checks/*.csv`).
+//! * [`table`]: the table format (CSV and JSON), validation, the journal
+//!   of a running table, resume and merge rules.
+//! * [`check`]: the check runner (bundled outside checks, closure sum
+//!   rules, cross-method sample); [`data_checks`]: the bundled files.
+//! * [`sweep`]: precision sweeps; [`exact`]: exact radial integrals and
+//!   oscillator strengths.
 //!
 //! ## Units and conventions
 //! As in [`kzero_bethe`]: energies in units of Z^2 Ry, D0 = 2 Z^4/n^3 for
@@ -41,11 +46,15 @@
 
 pub mod batch;
 pub mod build_info;
+pub mod check;
 pub mod compute;
 pub mod data_checks;
 pub mod error;
+pub mod exact;
 pub mod method;
 pub mod shard;
+pub mod sweep;
+pub mod table;
 
 pub use batch::{
     catch_panic, compute_states, default_threads, run_batch, Batch, BatchEnd, Flow, Request,
@@ -57,3 +66,4 @@ pub use error::{EngineError, ErrorClass};
 pub use kzero_bethe::{agreement, Agreement, BetheValue, Gauge, Method, Settings};
 pub use method::MethodChoice;
 pub use shard::{plan, Key, Shard, ShardError};
+pub use table::{Row, Table, TableError, TableFormat, TableSettings};

@@ -701,6 +701,38 @@ pub struct FormComparison {
 }
 
 impl FormComparison {
+    /// The comparison of values of one state in several forms (in the
+    /// order given; [`ln_k0_all_forms`] gives them in the order of
+    /// [`Gauge::ALL`]). An empty list has spread 0.
+    pub fn from_values(values: Vec<BetheValue>) -> FormComparison {
+        let prec = values.iter().map(|v| v.value.prec()).max().unwrap_or(64);
+        let (mut lo, mut hi) = match values.first() {
+            Some(v) => (
+                Float::with_val(prec, &v.value),
+                Float::with_val(prec, &v.value),
+            ),
+            None => (Float::with_val(prec, 0), Float::with_val(prec, 0)),
+        };
+        let mut consistent = true;
+        for (i, a) in values.iter().enumerate() {
+            if a.value < lo {
+                lo.assign(&a.value);
+            }
+            if a.value > hi {
+                hi.assign(&a.value);
+            }
+            for b in &values[i + 1..] {
+                let d = Float::with_val(prec, &a.value - &b.value).abs();
+                consistent &= d.to_f64() <= a.abs_err + b.abs_err;
+            }
+        }
+        FormComparison {
+            values,
+            spread: hi - lo,
+            consistent,
+        }
+    }
+
     /// The spread as a number (rounded up).
     pub fn spread_f64(&self) -> f64 {
         Float::with_val_round(53, &self.spread, rug::float::Round::Up)
@@ -722,27 +754,7 @@ pub fn ln_k0_all_forms(n: i64, l: i64, settings: &Settings) -> Result<FormCompar
         .iter()
         .map(|g| ln_k0(n, l, *g, settings))
         .collect::<Result<Vec<_>, _>>()?;
-    let prec = values.iter().map(|v| v.value.prec()).max().unwrap_or(64);
-    let mut lo = Float::with_val(prec, &values[0].value);
-    let mut hi = lo.clone();
-    let mut consistent = true;
-    for (i, a) in values.iter().enumerate() {
-        if a.value < lo {
-            lo.assign(&a.value);
-        }
-        if a.value > hi {
-            hi.assign(&a.value);
-        }
-        for b in &values[i + 1..] {
-            let d = Float::with_val(prec, &a.value - &b.value).abs();
-            consistent &= d.to_f64() <= a.abs_err + b.abs_err;
-        }
-    }
-    Ok(FormComparison {
-        values,
-        spread: hi - lo,
-        consistent,
-    })
+    Ok(FormComparison::from_values(values))
 }
 
 /// Relative cost of [`ln_k0`] for (n, l) at `digits` (for load balancing;

@@ -1,0 +1,358 @@
+//! The journal of a running table and resuming an interrupted run.
+//!
+//! CSV: the output file is the journal; each finished state is appended as
+//! one whole line, in completion order, and the finished run rewrites it
+//! sorted. JSON: the journal is `FILE.partial` (the CSV layout), the JSON
+//! document is written once at the end. After an interruption,
+//! [`load_for_resume`] and [`check_resumable`] accept only a file of the
+//! same settings, shard and build, and [`Journal::reopen`] drops only a torn
+//! last line. A journal left by a run killed before its first row (empty,
+//! or a header cut before its column line, [`unstarted_journal`]) holds no
+//! work yet: resuming starts the work on it.
+
+use super::files::{journal_path, looks_like_json};
+use super::{
+    read_table, Differences, Row, SettingDifference, Table, TableError, TableFormat, TableSettings,
+    BASE_COLUMNS, BOTH_COLUMNS, MAGIC,
+};
+use crate::shard::{Key, Shard};
+use std::collections::BTreeSet;
+use std::fs::{File, OpenOptions};
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+/// An open journal: rows are appended and flushed one by one.
+#[derive(Debug)]
+pub struct Journal {
+    file: File,
+    path: PathBuf,
+}
+
+impl Journal {
+    /// Creates (or, with `replace`, truncates) the journal of `out` in
+    /// `format` and writes the header of `table`. Refuses existing files
+    /// unless `replace` (a table run replaces them with `--force`, and
+    /// when resuming an unstarted journal).
+    ///
+    /// # Errors
+    /// [`TableError::Exists`] (bad input), [`TableError::Create`],
+    /// [`TableError::Write`].
+    pub fn create(
+        out: &Path,
+        format: TableFormat,
+        table: &Table,
+        replace: bool,
+    ) -> Result<Journal, TableError> {
+        let jpath = journal_path(out, format);
+        for p in [out, jpath.as_path()] {
+            if p.exists() && !replace {
+                return Err(TableError::Exists {
+                    path: p.to_path_buf(),
+                });
+            }
+        }
+        let f = OpenOptions::new()
+            .write(true)
+            .create(true)
+            .truncate(true)
+            .open(&jpath)
+            .map_err(|e| TableError::Create {
+                path: jpath.clone(),
+                source: e,
+            })?;
+        let mut j = Journal {
+            file: f,
+            path: jpath,
+        };
+        j.append(&table.csv_header())?;
+        Ok(j)
+    }
+
+    /// Opens the journal to continue `loaded`, read from `from`: the
+    /// journal itself (a torn last line is cut off), or a finished JSON
+    /// table (a new journal holding its rows is started).
+    ///
+    /// # Errors
+    /// [`TableError::Write`] or [`TableError::Create`].
+    pub fn reopen(
+        out: &Path,
+        format: TableFormat,
+        from: &Path,
+        loaded: &Table,
+    ) -> Result<Journal, TableError> {
+        let jpath = journal_path(out, format);
+        let io = |e: std::io::Error| TableError::Write {
+            path: jpath.clone(),
+            source: e,
+        };
+        if from == jpath {
+            let f = OpenOptions::new().write(true).open(&jpath).map_err(io)?;
+            if let Some(at) = loaded.torn_at {
+                // Drop only the torn last line left by an interrupted write.
+                f.set_len(at).map_err(io)?;
+            }
+            let mut f = OpenOptions::new().append(true).open(&jpath).map_err(io)?;
+            f.flush().map_err(io)?;
+            Ok(Journal {
+                file: f,
+                path: jpath,
+            })
+        } else {
+            // Resuming a finished JSON table: start a journal holding its rows.
+            // (A journal already there holds no row: see `load_for_resume`.)
+            let mut f = OpenOptions::new()
+                .write(true)
+                .create(true)
+                .truncate(true)
+                .open(&jpath)
+                .map_err(io)?;
+            f.write_all(loaded.to_csv().as_bytes()).map_err(io)?;
+            Ok(Journal {
+                file: f,
+                path: jpath,
+            })
+        }
+    }
+
+    /// The journal file.
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// Appends `text` and flushes it.
+    ///
+    /// # Errors
+    /// [`TableError::Write`].
+    pub fn append(&mut self, text: &str) -> Result<(), TableError> {
+        self.file
+            .write_all(text.as_bytes())
+            .and_then(|_| self.file.flush())
+            .map_err(|e| TableError::Write {
+                path: self.path.clone(),
+                source: e,
+            })
+    }
+
+    /// Appends one row.
+    ///
+    /// # Errors
+    /// [`TableError::Write`].
+    pub fn append_row(&mut self, row: &Row) -> Result<(), TableError> {
+        self.append(&row.csv_line())
+    }
+
+    /// Appends a provenance line `# key: value` (after the column line, as
+    /// `resumed_utc`).
+    ///
+    /// # Errors
+    /// [`TableError::Write`].
+    pub fn append_provenance(&mut self, key: &str, value: &str) -> Result<(), TableError> {
+        self.append(&format!("# {key}: {value}\n"))
+    }
+
+    /// Closes the journal and removes it (for a JSON output once the
+    /// document is written).
+    pub fn remove(self) {
+        let Journal { file, path } = self;
+        drop(file);
+        let _ = std::fs::remove_file(path);
+    }
+}
+
+/// Whether `bytes` is what a table run killed before its first row leaves
+/// in its journal: an empty file, or the start of a CSV header (the magic
+/// line or a piece of it, further `#` lines, perhaps a cut last line) with no
+/// complete column line and no row. Returns the (key, value) pairs of the
+/// complete `#` lines after the magic line (`setting.digits`, `shard`, ...),
+/// or `None` for anything else: such files are judged by [`read_table`].
+pub fn unstarted_journal(bytes: &[u8]) -> Option<Vec<(String, String)>> {
+    let text = std::str::from_utf8(bytes).ok()?;
+    let complete = &text[..text.rfind('\n').map_or(0, |i| i + 1)];
+    let cut = &text[complete.len()..];
+    let mut lines = complete.lines();
+    let Some(first) = lines.next() else {
+        return MAGIC.starts_with(cut).then(Vec::new);
+    };
+    if first != MAGIC {
+        return None;
+    }
+    let mut pairs = Vec::new();
+    for line in lines {
+        let c = line.strip_prefix('#')?.trim_start();
+        let (k, v) = c.split_once(':').unwrap_or((c, ""));
+        pairs.push((k.trim().to_string(), v.trim().to_string()));
+    }
+    let all_columns = [&BASE_COLUMNS[..], &BOTH_COLUMNS[..]].concat().join(",");
+    (cut.starts_with('#') || all_columns.starts_with(cut)).then_some(pairs)
+}
+
+/// Whether `jpath` exists and holds no row yet.
+///
+/// # Errors
+/// [`TableError::ResumeStartedOther`] (bad input) when the header it got to
+/// write names other settings or another shard than the run.
+fn unstarted(jpath: &Path, settings: &TableSettings, shard: Shard) -> Result<bool, TableError> {
+    let Ok(bytes) = std::fs::read(jpath) else {
+        return Ok(false);
+    };
+    let Some(pairs) = unstarted_journal(&bytes) else {
+        return Ok(false);
+    };
+    let mine = settings.pairs();
+    let mut diffs = Vec::new();
+    for (k, v) in &pairs {
+        if let Some(sk) = k.strip_prefix("setting.") {
+            if let Some((key, want)) = mine.iter().find(|(m, _)| *m == sk) {
+                if v != want {
+                    diffs.push(SettingDifference {
+                        key,
+                        first: v.clone(),
+                        second: want.clone(),
+                    });
+                }
+            }
+        } else if k == "shard" && *v != shard.to_string() {
+            diffs.push(SettingDifference {
+                key: "shard",
+                first: v.clone(),
+                second: shard.to_string(),
+            });
+        }
+    }
+    if !diffs.is_empty() {
+        return Err(TableError::ResumeStartedOther {
+            path: jpath.to_path_buf(),
+            differences: Differences(diffs),
+        });
+    }
+    Ok(true)
+}
+
+/// Loads what an interrupted run of `out` in `format` (with `settings` and
+/// `shard`) left: the table so far and the file it was read from, or `None`
+/// when the journal holds no row yet ([`unstarted_journal`]): then the run
+/// starts the work, as on an empty journal.
+///
+/// # Errors
+/// Bad input: a JSON table resumed as CSV or the reverse, nothing to
+/// resume, an unstarted journal of other settings, or an unreadable or
+/// foreign file.
+pub fn load_for_resume(
+    out: &Path,
+    format: TableFormat,
+    settings: &TableSettings,
+    shard: Shard,
+) -> Result<Option<(Table, PathBuf)>, TableError> {
+    let jpath = journal_path(out, format);
+    let unstarted = unstarted(&jpath, settings, shard)?;
+    match format {
+        TableFormat::Csv => {
+            if unstarted {
+                return Ok(None);
+            }
+            if looks_like_json(out) {
+                return Err(TableError::ResumeJsonAsCsv {
+                    path: out.to_path_buf(),
+                });
+            }
+            Ok(Some((read_table(out)?, out.to_path_buf())))
+        }
+        TableFormat::Json => {
+            if jpath.exists() && !unstarted {
+                if looks_like_json(&jpath) {
+                    return Err(TableError::ResumeNotJournal { path: jpath });
+                }
+                Ok(Some((read_table(&jpath)?, jpath)))
+            } else if out.exists() {
+                if !looks_like_json(out) {
+                    return Err(TableError::ResumeNotJson {
+                        path: out.to_path_buf(),
+                    });
+                }
+                Ok(Some((read_table(out)?, out.to_path_buf())))
+            } else if unstarted {
+                Ok(None)
+            } else {
+                Err(TableError::ResumeNothing {
+                    journal: jpath,
+                    out: out.to_path_buf(),
+                })
+            }
+        }
+    }
+}
+
+/// Checks that the table `t` read from `from` may be continued by a run of
+/// `settings` and `shard` whose planned states are `planned`: same
+/// settings, same shard, same build, no duplicate and no foreign state.
+///
+/// # Errors
+/// The first difference, as bad input.
+pub fn check_resumable(
+    t: &Table,
+    from: &Path,
+    settings: &TableSettings,
+    shard: Shard,
+    planned: &[(Key, f64)],
+) -> Result<(), TableError> {
+    let differences = t.settings.differences(settings);
+    if !differences.0.is_empty() {
+        return Err(TableError::ResumeSettings {
+            path: from.to_path_buf(),
+            differences,
+        });
+    }
+    if t.shard != shard {
+        return Err(TableError::ResumeShard {
+            path: from.to_path_buf(),
+            file: t.shard,
+            asked: shard,
+        });
+    }
+    t.check_same_build(from)?;
+    let (keys, dup) = t.keys();
+    if let Some(state) = dup {
+        return Err(TableError::ResumeDuplicate {
+            path: from.to_path_buf(),
+            state,
+        });
+    }
+    let mine: BTreeSet<Key> = planned.iter().map(|(k, _)| *k).collect();
+    if let Some(&state) = keys.iter().find(|k| !mine.contains(k)) {
+        return Err(TableError::ResumeForeignState {
+            path: from.to_path_buf(),
+            state,
+            shard,
+        });
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn only_a_header_cut_before_its_column_line_is_an_unstarted_journal() {
+        let s = crate::table::tests::table().to_csv();
+        let columns_at = s.find("\nn,l,").unwrap() + 1;
+        assert_eq!(unstarted_journal(b""), Some(Vec::new()));
+        // Every cut inside the header, up to the whole column line without
+        // its newline.
+        let col_end = columns_at + BASE_COLUMNS.join(",").len();
+        for end in 0..=col_end {
+            let got = unstarted_journal(&s.as_bytes()[..end]);
+            assert!(got.is_some(), "cut at {end}: {:?}", &s[..end]);
+        }
+        let pairs = unstarted_journal(&s.as_bytes()[..columns_at]).unwrap();
+        assert!(pairs.contains(&("setting.digits".into(), "10".into())));
+        assert!(pairs.contains(&("shard".into(), "1/1".into())));
+        // A complete column line, a row, or foreign text is not.
+        assert_eq!(unstarted_journal(s.as_bytes()), None);
+        assert_eq!(unstarted_journal(&s.as_bytes()[..=col_end]), None);
+        assert_eq!(unstarted_journal(b"name,value\n"), None);
+        assert_eq!(unstarted_journal(b"x"), None);
+        assert_eq!(unstarted_journal(b"# kzero-table: 2\n"), None);
+        assert_eq!(unstarted_journal(&[0xff, 0xfe]), None);
+    }
+}

@@ -1,0 +1,698 @@
+//! The kzero table format (CSV and JSON): settings, provenance, rows,
+//! reading with validation, writing, the journal of a running table,
+//! resuming and merging.
+//!
+//! ## CSV layout
+//! ```text
+//! # kzero-table: 1
+//! # version: 0.1.0
+//! # git_revision: 0123456789ab
+//! # mpfr: 4.2.1
+//! # gmp: 6.3.0
+//! # command: kzero table --n-max 3
+//! # started_utc: 2026-12-01T20:45:36Z
+//! # threads: 2
+//! # shard: 1/1
+//! # setting.n_min: 1
+//! # setting.n_max: 3
+//! # setting.l: all
+//! # setting.digits: 20
+//! # setting.method: green
+//! # setting.gauge: velocity
+//! n,l,ln_k0,abs_err,method,digits,bits,seconds
+//! 1,0,2.9841285557654984...,1.0e-23,green,20,160,0.012
+//! ```
+//! The provenance lines are the [`Provenance`] schema shared by every file
+//! kzero writes, plus `threads` and `shard`. While a run is in progress the
+//! file is also its journal ([`journal`]): rows are appended in completion
+//! order, each as one whole line, and comment lines (`# resumed_utc: ...`)
+//! may follow the column line. A finished run rewrites the file with the
+//! rows sorted by (n, l) (atomically: temporary file, then rename).
+//!
+//! ## JSON layout
+//! One object `{"meta": {...}, "rows": [...]}`: `meta` holds `format`
+//! (`kzero-table`), `format_version` (1), the provenance keys (a key that
+//! repeats becomes an array) and `settings`; each row is an object with the
+//! columns as keys (values and errors as decimal strings).
+
+mod error;
+pub mod files;
+pub mod journal;
+pub mod merge;
+mod read;
+
+pub use error::{
+    Differences, FormatProblem, Place, SelectionError, SettingDifference, States, TableError,
+};
+pub use read::{parse_table, read_table, ParseError};
+
+use crate::build_info::{self, Provenance};
+use crate::compute::Computed;
+use crate::method::MethodChoice;
+use crate::shard::{Key, Shard};
+use kzero_bethe::{Gauge, UnknownName};
+use serde_json::{json, Map, Value};
+use std::collections::BTreeSet;
+use std::str::FromStr;
+
+/// First line of every kzero CSV table (format version 1).
+pub const MAGIC: &str = "# kzero-table: 1";
+/// `meta.format` of a kzero JSON table.
+pub const JSON_FORMAT: &str = "kzero-table";
+
+/// Base columns of every table.
+pub const BASE_COLUMNS: [&str; 8] = [
+    "n", "l", "ln_k0", "abs_err", "method", "digits", "bits", "seconds",
+];
+/// Extra columns with method `both`.
+pub const BOTH_COLUMNS: [&str; 3] = ["ln_k0_spectral", "abs_err_spectral", "agreement_digits"];
+
+/// Provenance keys every table carries, in this order: the
+/// [`Provenance::KEYS`], then `threads` and `shard`.
+pub const PROV_KEYS: [&str; 8] = [
+    "version",
+    "git_revision",
+    "mpfr",
+    "gmp",
+    "command",
+    "started_utc",
+    "threads",
+    "shard",
+];
+
+/// The file format of a table (and of every other tabular output).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
+pub enum TableFormat {
+    /// Comma-separated values with `#` provenance lines.
+    #[default]
+    Csv,
+    /// One JSON object with "meta" and "rows".
+    Json,
+}
+
+impl TableFormat {
+    /// Every format, in the order of [`TableFormat::NAMES`].
+    pub const ALL: [TableFormat; 2] = [TableFormat::Csv, TableFormat::Json];
+    /// The accepted names.
+    pub const NAMES: &'static [&'static str] = &["csv", "json"];
+
+    /// The name: `csv` or `json`.
+    pub fn name(self) -> &'static str {
+        Self::NAMES[self as usize]
+    }
+
+    /// One line describing the format (for help texts).
+    pub fn description(self) -> &'static str {
+        match self {
+            TableFormat::Csv => "Comma-separated values with `#` provenance lines",
+            TableFormat::Json => "One JSON object with \"meta\" and \"rows\"",
+        }
+    }
+}
+
+impl std::fmt::Display for TableFormat {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for TableFormat {
+    type Err = UnknownName;
+
+    fn from_str(s: &str) -> Result<Self, UnknownName> {
+        Self::ALL
+            .into_iter()
+            .find(|m| m.name() == s)
+            .ok_or_else(|| UnknownName {
+                given: s.to_string(),
+                expected: Self::NAMES,
+            })
+    }
+}
+
+/// Which angular momenta a table covers.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum LSelect {
+    /// Every l < n.
+    All,
+    /// l <= K (and l < n).
+    Max(u32),
+    /// The listed values (each used where l < n), sorted and deduplicated.
+    List(Vec<u32>),
+}
+
+impl LSelect {
+    fn render(&self) -> String {
+        match self {
+            LSelect::All => "all".into(),
+            LSelect::Max(k) => format!("max:{k}"),
+            LSelect::List(v) => {
+                let s: Vec<String> = v.iter().map(|x| x.to_string()).collect();
+                format!("list:{}", s.join(" "))
+            }
+        }
+    }
+
+    fn parse(s: &str) -> Option<Self> {
+        if s == "all" {
+            return Some(LSelect::All);
+        }
+        if let Some(k) = s.strip_prefix("max:") {
+            return k.parse().ok().map(LSelect::Max);
+        }
+        if let Some(list) = s.strip_prefix("list:") {
+            let v: Result<Vec<u32>, _> = list.split(' ').map(|x| x.parse()).collect();
+            return v.ok().map(LSelect::List);
+        }
+        None
+    }
+
+    /// Whether (n, l) is selected (l < n and the selection admits l).
+    pub fn admits(&self, n: u32, l: u32) -> bool {
+        l < n
+            && match self {
+                LSelect::All => true,
+                LSelect::Max(k) => l <= *k,
+                LSelect::List(v) => v.contains(&l),
+            }
+    }
+}
+
+/// Every numerical setting of a table: two tables can be resumed into each
+/// other or merged only when these agree exactly.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct TableSettings {
+    /// Smallest n.
+    pub n_min: u32,
+    /// Largest n.
+    pub n_max: u32,
+    /// Angular momenta.
+    pub l: LSelect,
+    /// Requested digits (absolute error below 10^-digits).
+    pub digits: u32,
+    /// Method(s).
+    pub method: MethodChoice,
+    /// Dipole form of the spectral method.
+    pub gauge: Gauge,
+}
+
+fn nonneg(v: i64, neg: fn(i64) -> SelectionError) -> Result<u32, SelectionError> {
+    u32::try_from(v).map_err(|_| neg(v))
+}
+
+impl TableSettings {
+    /// Validated settings of a table over n_min..=n_max with the l values
+    /// `l_list` (each used where l < n) or l <= `l_max` (the list wins when
+    /// both are given) or every l.
+    ///
+    /// `digits` is checked when the table is computed.
+    ///
+    /// # Errors
+    /// [`SelectionError`]: n_max outside 1..=200, n_min outside 1..=n_max,
+    /// a negative l, or no state selected.
+    pub fn new(
+        n_min: i64,
+        n_max: i64,
+        l_list: Option<&[i64]>,
+        l_max: Option<i64>,
+        digits: u32,
+        method: MethodChoice,
+        gauge: Gauge,
+    ) -> Result<TableSettings, SelectionError> {
+        let max = kzero_bethe::settings::MAX_N;
+        if n_max < 1 || n_max > i64::from(max) {
+            return Err(SelectionError::NMax { n_max, max });
+        }
+        if n_min < 1 || n_min > n_max {
+            return Err(SelectionError::NMin { n_min, n_max });
+        }
+        let l = match (l_list, l_max) {
+            (Some(list), _) => {
+                let mut v = Vec::new();
+                for &x in list {
+                    v.push(nonneg(x, SelectionError::NegativeL)?);
+                }
+                v.sort_unstable();
+                v.dedup();
+                LSelect::List(v)
+            }
+            (None, Some(k)) => LSelect::Max(nonneg(k, SelectionError::NegativeLMax)?),
+            (None, None) => LSelect::All,
+        };
+        let s = TableSettings {
+            n_min: n_min as u32,
+            n_max: n_max as u32,
+            l,
+            digits,
+            method,
+            gauge,
+        };
+        if s.states().is_empty() {
+            return Err(SelectionError::NoStates);
+        }
+        Ok(s)
+    }
+
+    /// The settings as (key, value) pairs in a fixed order.
+    pub fn pairs(&self) -> Vec<(&'static str, String)> {
+        vec![
+            ("n_min", self.n_min.to_string()),
+            ("n_max", self.n_max.to_string()),
+            ("l", self.l.render()),
+            ("digits", self.digits.to_string()),
+            ("method", self.method.name().to_string()),
+            ("gauge", self.gauge.name().to_string()),
+        ]
+    }
+
+    fn from_lookup(get: &dyn Fn(&str) -> Option<String>) -> Result<Self, FormatProblem> {
+        let need = |k: &'static str| get(k).ok_or(FormatProblem::MissingSetting(k));
+        let num = |k: &'static str| -> Result<u32, FormatProblem> {
+            need(k)?
+                .parse()
+                .map_err(|_| FormatProblem::SettingNotNumber(k))
+        };
+        let l = LSelect::parse(&need("l")?).ok_or(FormatProblem::BadLSetting)?;
+        let method: MethodChoice = need("method")?
+            .parse()
+            .map_err(|_| FormatProblem::UnknownMethod)?;
+        let gauge: Gauge = need("gauge")?
+            .parse()
+            .map_err(|_| FormatProblem::UnknownGauge)?;
+        Ok(TableSettings {
+            n_min: num("n_min")?,
+            n_max: num("n_max")?,
+            l,
+            digits: num("digits")?,
+            method,
+            gauge,
+        })
+    }
+
+    /// Every state the settings ask for, sorted by (n, l) (the row order of
+    /// a finished table).
+    pub fn states(&self) -> Vec<Key> {
+        let mut v = Vec::new();
+        for n in self.n_min..=self.n_max {
+            for l in 0..n {
+                if self.l.admits(n, l) {
+                    v.push((n, l));
+                }
+            }
+        }
+        v
+    }
+
+    /// The column names of a table with these settings.
+    pub fn columns(&self) -> Vec<&'static str> {
+        let mut c: Vec<&'static str> = BASE_COLUMNS.to_vec();
+        if self.method == MethodChoice::Both {
+            c.extend(BOTH_COLUMNS);
+        }
+        c
+    }
+
+    /// The keys in which `self` and `other` differ (empty when they agree).
+    pub fn differences(&self, other: &TableSettings) -> Differences {
+        Differences(
+            self.pairs()
+                .into_iter()
+                .zip(other.pairs())
+                .filter(|(a, b)| a.1 != b.1)
+                .map(|(a, b)| SettingDifference {
+                    key: a.0,
+                    first: a.1,
+                    second: b.1,
+                })
+                .collect(),
+        )
+    }
+
+    /// The compute request of every row.
+    pub fn request(&self) -> crate::batch::Request {
+        crate::batch::Request {
+            method: self.method,
+            gauge: self.gauge,
+            settings: kzero_bethe::Settings::with_digits(self.digits),
+        }
+    }
+}
+
+/// One table row, all values already formatted (strings are what is written).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Row {
+    /// n.
+    pub n: u32,
+    /// l.
+    pub l: u32,
+    /// ln k0 with digits + 2 decimals.
+    pub ln_k0: String,
+    /// Error estimate.
+    pub abs_err: String,
+    /// Method(s).
+    pub method: MethodChoice,
+    /// Requested digits.
+    pub digits: u32,
+    /// Working bits of the final evaluation.
+    pub bits: u32,
+    /// Wall time, seconds with 3 decimals.
+    pub seconds: String,
+    /// With `both`: spectral value, its error, agreement digits.
+    pub both: Option<(String, String, u32)>,
+}
+
+impl Row {
+    /// The row for a computed state.
+    pub fn from_computed(c: &Computed, method: MethodChoice) -> Row {
+        let p = c.primary();
+        let both = match (c.spectral(), c.agreement()) {
+            (Some(s), Some(a)) if method == MethodChoice::Both => {
+                Some((s.value_string(), s.abs_err_string(), a.digits))
+            }
+            _ => None,
+        };
+        Row {
+            n: p.n,
+            l: p.l,
+            ln_k0: p.value_string(),
+            abs_err: p.abs_err_string(),
+            method,
+            digits: p.digits,
+            bits: p.bits,
+            seconds: format!("{:.3}", c.seconds()),
+            both,
+        }
+    }
+
+    /// The state (n, l).
+    pub fn key(&self) -> Key {
+        (self.n, self.l)
+    }
+
+    /// The CSV line, with its newline.
+    pub fn csv_line(&self) -> String {
+        let mut s = format!(
+            "{},{},{},{},{},{},{},{}",
+            self.n,
+            self.l,
+            self.ln_k0,
+            self.abs_err,
+            self.method,
+            self.digits,
+            self.bits,
+            self.seconds
+        );
+        if let Some((v, e, d)) = &self.both {
+            s.push_str(&format!(",{v},{e},{d}"));
+        }
+        s.push('\n');
+        s
+    }
+
+    /// The row as a JSON object.
+    pub fn to_json(&self) -> Value {
+        let mut m = Map::new();
+        m.insert("n".into(), json!(self.n));
+        m.insert("l".into(), json!(self.l));
+        m.insert("ln_k0".into(), json!(self.ln_k0));
+        m.insert("abs_err".into(), json!(self.abs_err));
+        m.insert("method".into(), json!(self.method.name()));
+        m.insert("digits".into(), json!(self.digits));
+        m.insert("bits".into(), json!(self.bits));
+        let secs: f64 = self.seconds.parse().unwrap_or(0.0);
+        m.insert("seconds".into(), json!(secs));
+        if let Some((v, e, d)) = &self.both {
+            m.insert("ln_k0_spectral".into(), json!(v));
+            m.insert("abs_err_spectral".into(), json!(e));
+            m.insert("agreement_digits".into(), json!(d));
+        }
+        Value::Object(m)
+    }
+}
+
+/// A table read from a file or about to be written.
+#[derive(Debug, Clone)]
+pub struct Table {
+    /// Provenance (key, value) lines in file order; keys may repeat
+    /// (`resumed_utc`, `merged_from`).
+    pub prov: Vec<(String, String)>,
+    /// Numerical settings.
+    pub settings: TableSettings,
+    /// Which part of the table.
+    pub shard: Shard,
+    /// Rows (file order until sorted).
+    pub rows: Vec<Row>,
+    /// For a CSV file cut short by a crash: byte offset where the torn last
+    /// line starts (the file is valid up to there).
+    pub torn_at: Option<u64>,
+}
+
+/// The provenance lines of a new table: [`Provenance`] plus `threads` and
+/// `shard`, in the order of [`PROV_KEYS`].
+pub fn table_provenance(p: &Provenance, threads: &str, shard: Shard) -> Vec<(String, String)> {
+    let mut v = p.pairs();
+    v.push(("threads".into(), threads.to_string()));
+    v.push(("shard".into(), shard.to_string()));
+    v
+}
+
+impl Table {
+    /// An empty table of `settings` and `shard`, with the provenance of this
+    /// build started now by `command` on `threads` threads.
+    pub fn new(settings: TableSettings, shard: Shard, command: &str, threads: usize) -> Table {
+        Table {
+            prov: table_provenance(&Provenance::now(command), &threads.to_string(), shard),
+            settings,
+            shard,
+            rows: Vec::new(),
+            torn_at: None,
+        }
+    }
+
+    /// The first value of provenance key `key`.
+    pub fn prov_value(&self, key: &str) -> Option<&str> {
+        self.prov
+            .iter()
+            .find(|(k, _)| k == key)
+            .map(|(_, v)| v.as_str())
+    }
+
+    /// Sorts rows by (n, l).
+    pub fn sort(&mut self) {
+        self.rows.sort_by_key(|r| (r.n, r.l));
+    }
+
+    /// The CSV header (magic, provenance, settings, column line).
+    pub fn csv_header(&self) -> String {
+        let mut s = String::new();
+        s.push_str(MAGIC);
+        s.push('\n');
+        for (k, v) in &self.prov {
+            s.push_str(&format!("# {k}: {}\n", one_line(v)));
+        }
+        for (k, v) in self.settings.pairs() {
+            s.push_str(&format!("# setting.{k}: {v}\n"));
+        }
+        s.push_str(&self.settings.columns().join(","));
+        s.push('\n');
+        s
+    }
+
+    /// The whole table as CSV.
+    pub fn to_csv(&self) -> String {
+        let mut s = self.csv_header();
+        for r in &self.rows {
+            s.push_str(&r.csv_line());
+        }
+        s
+    }
+
+    /// The whole table as one JSON object with `meta` and `rows`.
+    pub fn to_json(&self) -> String {
+        let mut meta = Map::new();
+        meta.insert("format".into(), json!(JSON_FORMAT));
+        meta.insert("format_version".into(), json!(1));
+        for (k, v) in &self.prov {
+            match meta.get_mut(k) {
+                None => {
+                    meta.insert(k.clone(), json!(v));
+                }
+                Some(Value::Array(a)) => a.push(json!(v)),
+                Some(old) => {
+                    let first = old.take();
+                    *old = Value::Array(vec![first, json!(v)]);
+                }
+            }
+        }
+        let mut set = Map::new();
+        for (k, v) in self.settings.pairs() {
+            match v.parse::<u64>() {
+                Ok(x) => set.insert(k.into(), json!(x)),
+                Err(_) => set.insert(k.into(), json!(v)),
+            };
+        }
+        meta.insert("settings".into(), Value::Object(set));
+        let rows: Vec<Value> = self.rows.iter().map(Row::to_json).collect();
+        let doc = json!({ "meta": Value::Object(meta), "rows": rows });
+        let mut s = serde_json::to_string_pretty(&doc).unwrap_or_default();
+        s.push('\n');
+        s
+    }
+
+    /// The table in `format`.
+    pub fn render(&self, format: TableFormat) -> String {
+        match format {
+            TableFormat::Csv => self.to_csv(),
+            TableFormat::Json => self.to_json(),
+        }
+    }
+
+    /// The set of (n, l) keys, with the first duplicate found if any.
+    pub fn keys(&self) -> (BTreeSet<Key>, Option<Key>) {
+        let mut set = BTreeSet::new();
+        let mut dup = None;
+        for r in &self.rows {
+            if !set.insert((r.n, r.l)) && dup.is_none() {
+                dup = Some((r.n, r.l));
+            }
+        }
+        (set, dup)
+    }
+
+    /// Refuses to combine rows computed by another kzero build: the version
+    /// and (when both are known) the git revision must match this library.
+    /// `path` names the file in the error.
+    ///
+    /// # Errors
+    /// [`TableError::OtherVersion`] or [`TableError::OtherRevision`].
+    pub fn check_same_build(&self, path: &std::path::Path) -> Result<(), TableError> {
+        let v = self.prov_value("version").unwrap_or("");
+        if v != build_info::VERSION {
+            return Err(TableError::OtherVersion {
+                path: path.to_path_buf(),
+                theirs: v.to_string(),
+                ours: build_info::VERSION,
+            });
+        }
+        let g = self.prov_value("git_revision").unwrap_or("unknown");
+        if g != "unknown" && build_info::GIT_REVISION != "unknown" && g != build_info::GIT_REVISION
+        {
+            return Err(TableError::OtherRevision {
+                path: path.to_path_buf(),
+                theirs: g.to_string(),
+                ours: build_info::GIT_REVISION,
+            });
+        }
+        Ok(())
+    }
+}
+
+fn one_line(s: &str) -> String {
+    s.replace(['\n', '\r'], " ")
+}
+
+#[cfg(test)]
+pub(crate) mod tests {
+    use super::*;
+
+    pub(super) fn settings() -> TableSettings {
+        TableSettings {
+            n_min: 1,
+            n_max: 3,
+            l: LSelect::All,
+            digits: 10,
+            method: MethodChoice::Green,
+            gauge: Gauge::Velocity,
+        }
+    }
+
+    pub(super) fn table() -> Table {
+        Table {
+            prov: table_provenance(&Provenance::now("test"), "1", Shard::WHOLE),
+            settings: settings(),
+            shard: Shard::WHOLE,
+            rows: vec![Row {
+                n: 2,
+                l: 1,
+                ln_k0: "-0.030016708630".into(),
+                abs_err: "1.0e-12".into(),
+                method: MethodChoice::Green,
+                digits: 10,
+                bits: 96,
+                seconds: "0.010".into(),
+                both: None,
+            }],
+            torn_at: None,
+        }
+    }
+
+    #[test]
+    fn csv_and_json_round_trip() {
+        let t = table();
+        let c = parse_table(&t.to_csv()).unwrap();
+        assert_eq!(c.rows, t.rows);
+        assert_eq!(c.settings, t.settings);
+        assert_eq!(c.prov, t.prov);
+        let j = parse_table(&t.to_json()).unwrap();
+        assert_eq!(j.rows, t.rows);
+        assert_eq!(j.settings, t.settings);
+        assert_eq!(j.prov, t.prov);
+    }
+
+    #[test]
+    fn torn_last_line_is_reported_not_parsed() {
+        let t = table();
+        let mut s = t.to_csv();
+        let full = s.len();
+        s.push_str("3,0,2.76");
+        let c = parse_table(&s).unwrap();
+        assert_eq!(c.torn_at, Some(full as u64));
+        assert_eq!(c.rows.len(), 1);
+    }
+
+    #[test]
+    fn cut_header_and_foreign_text_are_rejected() {
+        let s = table().to_csv();
+        let cut = &s[..40];
+        assert!(parse_table(cut)
+            .unwrap_err()
+            .problem
+            .to_string()
+            .contains("truncated"));
+        assert!(parse_table("a,b,c\n1,2,3\n")
+            .unwrap_err()
+            .problem
+            .to_string()
+            .contains("not a kzero table"));
+    }
+
+    #[test]
+    fn states_follow_the_l_selection() {
+        let mut s = settings();
+        assert_eq!(s.states().len(), 6);
+        s.l = LSelect::List(vec![1]);
+        assert_eq!(s.states(), vec![(2, 1), (3, 1)]);
+        s.l = LSelect::Max(0);
+        assert_eq!(s.states(), vec![(1, 0), (2, 0), (3, 0)]);
+    }
+
+    #[test]
+    fn selection_is_validated() {
+        let m = MethodChoice::Green;
+        let g = Gauge::Velocity;
+        assert!(TableSettings::new(1, 3, None, None, 20, m, g).is_ok());
+        for (lo, hi) in [(1, 0), (1, 201), (0, 3), (4, 3)] {
+            assert!(TableSettings::new(lo, hi, None, None, 20, m, g).is_err());
+        }
+        assert_eq!(
+            TableSettings::new(1, 3, Some(&[5]), None, 20, m, g),
+            Err(SelectionError::NoStates)
+        );
+        assert_eq!(
+            TableSettings::new(1, 3, Some(&[-1]), None, 20, m, g)
+                .unwrap_err()
+                .to_string(),
+            "--l = -1: must be a non-negative integer"
+        );
+    }
+}

@@ -1,0 +1,353 @@
+//! Reading and validating table files (CSV or JSON, told apart by content).
+
+use super::{
+    FormatProblem, Place, Row, Table, TableError, TableSettings, JSON_FORMAT, MAGIC, PROV_KEYS,
+};
+use crate::method::MethodChoice;
+use crate::shard::Shard;
+use serde_json::Value;
+use std::fs;
+use std::path::Path;
+
+/// A problem in the text of a table, with its place when it is one line or
+/// row.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ParseError {
+    /// Where (a CSV line or a JSON row), when it is one line or row.
+    pub place: Option<Place>,
+    /// What.
+    pub problem: FormatProblem,
+}
+
+impl From<FormatProblem> for ParseError {
+    fn from(problem: FormatProblem) -> Self {
+        ParseError {
+            place: None,
+            problem,
+        }
+    }
+}
+
+/// Reads and validates a kzero table (CSV or JSON, told apart by content).
+///
+/// # Errors
+/// [`TableError::NotFound`], [`TableError::Unreadable`],
+/// [`TableError::NotText`] or [`TableError::Malformed`] (all bad input)
+/// when the file is missing, unreadable, not a kzero table, cut short
+/// inside its header, or has a malformed row (a torn *last* CSV line is
+/// tolerated and reported in [`Table::torn_at`]).
+pub fn read_table(path: &Path) -> Result<Table, TableError> {
+    let bytes = fs::read(path).map_err(|e| match e.kind() {
+        std::io::ErrorKind::NotFound => TableError::NotFound {
+            path: path.to_path_buf(),
+        },
+        _ => TableError::Unreadable {
+            path: path.to_path_buf(),
+            source: e,
+        },
+    })?;
+    let text = String::from_utf8(bytes).map_err(|_| TableError::NotText {
+        path: path.to_path_buf(),
+    })?;
+    parse_table(&text).map_err(|e| TableError::Malformed {
+        path: path.to_path_buf(),
+        place: e.place,
+        problem: e.problem,
+    })
+}
+
+/// Parses and validates the text of a kzero table (CSV or JSON).
+///
+/// # Errors
+/// [`ParseError`] naming the problem (and its line or row).
+pub fn parse_table(text: &str) -> Result<Table, ParseError> {
+    if text.is_empty() {
+        return Err(FormatProblem::Empty.into());
+    }
+    if text.trim_start().starts_with('{') {
+        parse_json(text)
+    } else {
+        parse_csv(text)
+    }
+}
+
+fn is_number(s: &str) -> bool {
+    !s.is_empty() && s.parse::<f64>().is_ok_and(f64::is_finite)
+}
+
+fn parse_csv_row(line: &str, settings: &TableSettings) -> Result<Row, FormatProblem> {
+    let f: Vec<&str> = line.split(',').collect();
+    let want = settings.columns().len();
+    if f.len() != want {
+        return Err(FormatProblem::FieldCount {
+            want,
+            found: f.len(),
+        });
+    }
+    let int = |i: usize| -> Result<u32, FormatProblem> {
+        f[i].parse()
+            .map_err(|_| FormatProblem::NotInteger(f[i].to_string()))
+    };
+    let decimal = |i: usize| -> Result<String, FormatProblem> {
+        if is_number(f[i]) {
+            Ok(f[i].to_string())
+        } else {
+            Err(FormatProblem::NotNumber(f[i].to_string()))
+        }
+    };
+    Ok(Row {
+        n: int(0)?,
+        l: int(1)?,
+        ln_k0: decimal(2)?,
+        abs_err: decimal(3)?,
+        method: f[4]
+            .parse()
+            .map_err(|_| FormatProblem::NotMethod(f[4].to_string()))?,
+        digits: int(5)?,
+        bits: int(6)?,
+        seconds: decimal(7)?,
+        both: if want > 8 {
+            Some((decimal(8)?, decimal(9)?, int(10)?))
+        } else {
+            None
+        },
+    })
+}
+
+fn json_row(v: &Value, settings: &TableSettings) -> Result<Row, FormatProblem> {
+    let o = v.as_object().ok_or(FormatProblem::RowNotObject)?;
+    let int = |k: &'static str| -> Result<u32, FormatProblem> {
+        o.get(k)
+            .and_then(Value::as_u64)
+            .and_then(|x| u32::try_from(x).ok())
+            .ok_or(FormatProblem::RowFieldNotInteger(k))
+    };
+    let text = |k: &'static str| -> Result<String, FormatProblem> {
+        o.get(k)
+            .and_then(Value::as_str)
+            .map(str::to_string)
+            .ok_or(FormatProblem::RowFieldNotString(k))
+    };
+    let secs = o
+        .get("seconds")
+        .and_then(Value::as_f64)
+        .ok_or(FormatProblem::RowSecondsMissing)?;
+    Ok(Row {
+        n: int("n")?,
+        l: int("l")?,
+        ln_k0: text("ln_k0")?,
+        abs_err: text("abs_err")?,
+        method: text("method")?
+            .parse()
+            .map_err(|_| FormatProblem::RowMethod)?,
+        digits: int("digits")?,
+        bits: int("bits")?,
+        seconds: format!("{secs:.3}"),
+        both: if settings.method == MethodChoice::Both {
+            Some((
+                text("ln_k0_spectral")?,
+                text("abs_err_spectral")?,
+                int("agreement_digits")?,
+            ))
+        } else {
+            None
+        },
+    })
+}
+
+fn check_row(r: &Row, settings: &TableSettings) -> Result<(), FormatProblem> {
+    if !settings.l.admits(r.n, r.l) || r.n < settings.n_min || r.n > settings.n_max {
+        return Err(FormatProblem::RowOutside(r.key()));
+    }
+    if r.digits != settings.digits || r.method != settings.method {
+        return Err(FormatProblem::RowSettings(r.key()));
+    }
+    Ok(())
+}
+
+/// A parsed row that also passes `check_row`; either error is placed at
+/// `place` (the line or row number in the file).
+fn checked_row(
+    parsed: Result<Row, FormatProblem>,
+    settings: &TableSettings,
+    place: Place,
+) -> Result<Row, ParseError> {
+    let at = |problem| ParseError {
+        place: Some(place),
+        problem,
+    };
+    let r = parsed.map_err(at)?;
+    check_row(&r, settings).map_err(at)?;
+    Ok(r)
+}
+
+/// The shard named by the `shard` provenance entry (an empty text when it
+/// is absent, which the shard parser judges).
+fn shard_of(prov: &[(String, String)]) -> Result<Shard, FormatProblem> {
+    Ok(prov
+        .iter()
+        .find(|(k, _)| k == "shard")
+        .map(|(_, v)| v.as_str())
+        .unwrap_or_default()
+        .parse::<Shard>()?)
+}
+
+fn parse_csv(text: &str) -> Result<Table, ParseError> {
+    let mut pieces: Vec<(usize, &str)> = Vec::new();
+    let mut off = 0usize;
+    for piece in text.split_inclusive('\n') {
+        pieces.push((off, piece));
+        off += piece.len();
+    }
+    let mut torn_at = None;
+    if let Some(&(o, last)) = pieces.last() {
+        if !last.ends_with('\n') {
+            torn_at = Some(o as u64);
+            pieces.pop();
+        }
+    }
+    let mut lines = pieces
+        .iter()
+        .map(|(o, p)| (*o, p.trim_end_matches(['\n', '\r'])));
+    match lines.next() {
+        Some((_, l)) if l == MAGIC => {}
+        Some((_, l)) if l.starts_with("# kzero-table:") => {
+            return Err(FormatProblem::UnsupportedVersionLine(l.to_string()).into())
+        }
+        _ => {
+            return Err(if torn_at == Some(0) && text.starts_with("# kzero") {
+                FormatProblem::TruncatedHeader
+            } else {
+                FormatProblem::NoMagic
+            }
+            .into())
+        }
+    }
+    let mut prov: Vec<(String, String)> = Vec::new();
+    let mut sets: Vec<(String, String)> = Vec::new();
+    let mut columns: Option<&str> = None;
+    let mut rows_raw: Vec<(usize, &str)> = Vec::new();
+    for (o, line) in lines {
+        if let Some(c) = line.strip_prefix('#') {
+            let c = c.trim_start();
+            let (k, v) = c.split_once(':').unwrap_or((c, ""));
+            let (k, v) = (k.trim().to_string(), v.trim().to_string());
+            if columns.is_none() {
+                if let Some(sk) = k.strip_prefix("setting.") {
+                    sets.push((sk.to_string(), v));
+                } else {
+                    prov.push((k, v));
+                }
+            } else if !k.starts_with("setting.") {
+                prov.push((k, v));
+            } else {
+                return Err(FormatProblem::SettingAfterColumns.into());
+            }
+        } else if columns.is_none() {
+            columns = Some(line);
+        } else if !line.is_empty() {
+            rows_raw.push((o, line));
+        }
+    }
+    let Some(columns) = columns else {
+        return Err(FormatProblem::NoColumnLine.into());
+    };
+    let settings =
+        TableSettings::from_lookup(&|k| sets.iter().find(|(a, _)| a == k).map(|(_, v)| v.clone()))?;
+    if columns != settings.columns().join(",") {
+        return Err(FormatProblem::UnexpectedColumns(columns.to_string()).into());
+    }
+    for key in PROV_KEYS {
+        if !prov.iter().any(|(k, _)| k == key) {
+            return Err(FormatProblem::MissingProvenanceLine(key).into());
+        }
+    }
+    let shard = shard_of(&prov)?;
+    let mut rows = Vec::with_capacity(rows_raw.len());
+    for (o, line) in rows_raw {
+        let lineno = text[..o].matches('\n').count() + 1;
+        let r = parse_csv_row(line, &settings);
+        rows.push(checked_row(r, &settings, Place::Line(lineno))?);
+    }
+    Ok(Table {
+        prov,
+        settings,
+        shard,
+        rows,
+        torn_at,
+    })
+}
+
+fn parse_json(text: &str) -> Result<Table, ParseError> {
+    let doc: Value = serde_json::from_str(text).map_err(|e| {
+        if e.is_eof() {
+            FormatProblem::TruncatedJson
+        } else {
+            FormatProblem::InvalidJson(e.to_string())
+        }
+    })?;
+    let meta = doc
+        .get("meta")
+        .and_then(Value::as_object)
+        .ok_or(FormatProblem::NoMeta)?;
+    if meta.get("format").and_then(Value::as_str) != Some(JSON_FORMAT) {
+        return Err(FormatProblem::ForeignFormat.into());
+    }
+    if meta.get("format_version").and_then(Value::as_u64) != Some(1) {
+        return Err(FormatProblem::UnsupportedVersion.into());
+    }
+    let set = meta
+        .get("settings")
+        .and_then(Value::as_object)
+        .ok_or(FormatProblem::NoSettings)?;
+    let settings = TableSettings::from_lookup(&|k| {
+        set.get(k).map(|v| match v {
+            Value::String(s) => s.clone(),
+            other => other.to_string(),
+        })
+    })?;
+    let mut prov = Vec::new();
+    for (k, v) in meta {
+        if k == "format" || k == "format_version" || k == "settings" {
+            continue;
+        }
+        match v {
+            Value::String(s) => prov.push((k.clone(), s.clone())),
+            Value::Array(a) => {
+                for x in a {
+                    prov.push((k.clone(), x.as_str().unwrap_or_default().to_string()));
+                }
+            }
+            other => prov.push((k.clone(), other.to_string())),
+        }
+    }
+    // serde_json maps are sorted by key: restore the canonical order.
+    prov.sort_by_key(|(k, _)| {
+        PROV_KEYS
+            .iter()
+            .position(|p| p == k)
+            .unwrap_or(PROV_KEYS.len())
+    });
+    for key in PROV_KEYS {
+        if !prov.iter().any(|(k, _)| k == key) {
+            return Err(FormatProblem::MissingMetaField(key).into());
+        }
+    }
+    let shard = shard_of(&prov)?;
+    let rows_v = doc
+        .get("rows")
+        .and_then(Value::as_array)
+        .ok_or(FormatProblem::NoRows)?;
+    let mut rows = Vec::with_capacity(rows_v.len());
+    for (i, v) in rows_v.iter().enumerate() {
+        let r = json_row(v, &settings);
+        rows.push(checked_row(r, &settings, Place::Row(i + 1))?);
+    }
+    Ok(Table {
+        prov,
+        settings,
+        shard,
+        rows,
+        torn_at: None,
+    })
+}
