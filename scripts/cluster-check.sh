@@ -305,12 +305,18 @@ say "array, resubmission and merge done in $(($(date +%s) - T2)) s"
 
 # --- what must hold ------------------------------------------------------------
 [ -f table.csv ] || fail "the merge wrote no table.csv"
-values() { grep -v '^#' "$1" | cut -d, -f1-7; }
+# Rows without the wall-time column (seconds), column line included.
+values() {
+    awk -F, '/^#/ { next }
+        !s { for (i = 1; i <= NF; i++) if ($i == "seconds") s = i }
+        { out = ""; for (i = 1; i <= NF; i++) if (i != s) out = out (out == "" ? "" : ",") $i; print out }' "$1"
+}
 diff <(values "$WORK/single.csv") <(values table.csv) >/dev/null \
     || fail "the merged table differs from the single run: $(diff <(values "$WORK/single.csv") <(values table.csv) | head -n 3 | tr '\n' ' ')"
 diff <(grep '^# setting\.' "$WORK/single.csv") <(grep '^# setting\.' table.csv) >/dev/null \
     || fail "the merged table has other settings than the single run"
 N=$(rows table.csv)
+[ "$N" = $((NMAX * (NMAX + 1) / 2)) ] || fail "table.csv has $N rows, not every state with n <= $NMAX"
 [ "$(grep -c '^# merged_from:' table.csv)" = 3 ] || fail "table.csv does not name three merged parts"
 
 F1=$(rows part-1.csv)

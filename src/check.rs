@@ -23,7 +23,10 @@ pass):
   * green against spectral for a sample of states, within their combined
     error estimates.
 A line passes when |computed - expected| <= tolerance + the computed value's
-error estimate. Exit code 0 when every line passes, 3 otherwise.")]
+error estimate, and every ln k0 behind it has an error estimate below the goal
+10^-D (an estimate above the goal fails the line instead of widening it). A
+level interval also fails when its truncation uncertainty exceeds 0.3 % of the
+measured interval. Exit code 0 when every line passes, 3 otherwise.")]
 pub struct CheckArgs {
     /// Requested digits of the Bethe-logarithm computations (5..=200).
     #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::args::digits_parser())]
@@ -51,6 +54,7 @@ pub fn run(a: &CheckArgs) -> Result<(), AppError> {
                 json!({
                     "quantity": l.quantity, "source": l.source, "expected": l.expected,
                     "computed": l.computed, "difference": l.difference, "pass": l.pass,
+                    "ln_k0_err": l.ln_k0_err, "ln_k0_goal": l.ln_k0_goal,
                 })
             })
             .collect();

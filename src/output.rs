@@ -7,7 +7,7 @@ use std::sync::atomic::{AtomicBool, Ordering};
 /// Set once anything has been written to standard output.
 static WROTE: AtomicBool = AtomicBool::new(false);
 
-/// Whether anything has been written to standard output by [`print`].
+/// Whether anything has been written to standard output by [`print()`].
 pub fn wrote_anything() -> bool {
     WROTE.load(Ordering::Relaxed)
 }

@@ -11,7 +11,7 @@
 //! | column | meaning |
 //! |---|---|
 //! | `n`, `l`, `j` | the level, j written like `1/2` |
-//! | `ln_k0`, `ln_k0_err` | Bethe logarithm (units of Z^2 Ry) and its error estimate |
+//! | `ln_k0`, `abs_err` | Bethe logarithm (units of Z^2 Ry) and the error of the printed value (as in `kzero table`) |
 //! | `a41_mhz` ... `v50_mhz` | the included terms: A41 L, A40 (Bethe-log and magnetic-moment parts together), A50 (Z alpha), A62 (Z alpha)^2 L^2, A61 (Z alpha)^2 L, V40, V50 (Z alpha) |
 //! | `total_mhz` | their sum |
 //! | `uncertainty_mhz` | estimated size of the omitted terms (quadrature sum) |
@@ -274,7 +274,7 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
             m.insert("constants".into(), constants_json());
             m.insert(
                 "settings".into(),
-                json!({ "digits": settings.digits, "method": "green" }),
+                json!({ "digits": settings.digits, "goal": settings.goal.name(), "method": "green" }),
             );
         }
         let mut s = serde_json::to_string_pretty(&v)
@@ -601,21 +601,24 @@ fn render_table(
         });
     }
 
-    let meta: Vec<(String, String)> = vec![
-        ("program".into(), "kzero shift".into()),
-        ("kzero_version".into(), provenance::VERSION.into()),
-        ("git_revision".into(), provenance::GIT_REVISION.into()),
-        ("mpfr_version".into(), provenance::mpfr_version()),
-        ("gmp_version".into(), provenance::gmp_version()),
-        ("command_line".into(), provenance::command_line()),
-        ("started_utc".into(), started),
-        ("n_max".into(), n_max.to_string()),
-        ("digits".into(), settings.digits.to_string()),
-        ("method".into(), "green".into()),
-        ("nucleus".into(), nucleus.name.clone()),
-        ("z".into(), nucleus.z.to_string()),
-        ("mass_me".into(), mass_text(nucleus)),
-        ("radius_fm".into(), radius_text(nucleus.radius_fm)),
+    // the provenance keys of every kzero table, the settings (as
+    // `setting.KEY` lines / a `settings` object, like `kzero table`), then
+    // what the numbers mean
+    let mut prov_pairs: Vec<(String, String)> = vec![("format".into(), "kzero-shift-table".into())];
+    let mut prov = kzero_engine::Provenance::now(provenance::command_line());
+    prov.started_utc = started;
+    prov_pairs.extend(prov.pairs());
+    let setting_pairs: Vec<(&str, Value)> = vec![
+        ("n_max", json!(n_max)),
+        ("digits", json!(settings.digits)),
+        ("goal", json!(settings.goal.name())),
+        ("method", json!("green")),
+        ("nucleus", json!(nucleus.name)),
+        ("z", json!(nucleus.z)),
+        ("mass_me", json!(mass_text(nucleus))),
+        ("radius_fm", json!(radius_text(nucleus.radius_fm))),
+    ];
+    let info: Vec<(String, String)> = vec![
         ("nucleus_source".into(), nucleus.source.clone()),
         ("constants".into(), "CODATA 2018".into()),
         (
@@ -627,7 +630,7 @@ fn render_table(
         ("note".into(), TRUNCATION_NOTE.into()),
     ];
 
-    let mut columns = vec!["n", "l", "j", "ln_k0", "ln_k0_err"];
+    let mut columns = vec!["n", "l", "j", "ln_k0", "abs_err"];
     columns.extend(TERM_COLUMNS.iter().map(|c| c.0));
     columns.extend(["total_mhz", "uncertainty_mhz"]);
     if args.cutoff_estimate {
@@ -654,7 +657,14 @@ fn render_table(
     let text = match format {
         ShiftFormat::Csv => {
             let mut t = String::new();
-            for (k, v) in &meta {
+            for (k, v) in &prov_pairs {
+                let _ = writeln!(t, "# {k}: {v}");
+            }
+            for (k, v) in &setting_pairs {
+                let v = v.as_str().map_or_else(|| v.to_string(), str::to_string);
+                let _ = writeln!(t, "# setting.{k}: {v}");
+            }
+            for (k, v) in &info {
                 let _ = writeln!(t, "# {k}: {v}");
             }
             for (name, value, unit) in constants::listing() {
@@ -668,9 +678,14 @@ fn render_table(
         }
         ShiftFormat::Json => {
             let mut m = serde_json::Map::new();
-            for (k, v) in &meta {
+            for (k, v) in prov_pairs.iter().chain(&info) {
                 m.insert(k.clone(), json!(v));
             }
+            let sm: serde_json::Map<String, Value> = setting_pairs
+                .iter()
+                .map(|(k, v)| (k.to_string(), v.clone()))
+                .collect();
+            m.insert("settings".into(), Value::Object(sm));
             m.insert("constants_values".into(), constants_json());
             m.insert("columns".into(), json!(columns));
             let json_rows: Vec<Value> = rows
@@ -782,7 +797,7 @@ mod tests {
         ]))
         .unwrap();
         let body: Vec<&str> = csv.lines().filter(|l| !l.starts_with('#')).collect();
-        assert!(body[0].starts_with("n,l,j,ln_k0,ln_k0_err,a41_mhz"));
+        assert!(body[0].starts_with("n,l,j,ln_k0,abs_err,a41_mhz"));
         assert!(body[0].ends_with("total_mhz,uncertainty_mhz,cutoff_mhz"));
         let keys: Vec<String> = body[1..]
             .iter()

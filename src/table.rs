@@ -47,15 +47,20 @@ pub struct TableArgs {
     /// Include every l <= K (and l < n).
     #[arg(long, value_name = "K", allow_negative_numbers = true)]
     pub l_max: Option<i64>,
-    /// Requested absolute accuracy: |error| < 10^-D (5..=200).
-    #[arg(long, value_name = "D", default_value_t = 20, value_parser = crate::args::digits_parser())]
-    pub digits: u32,
+    /// Requested absolute accuracy: |error| < 10^-D (5..=200; default 20).
+    #[arg(long, value_name = "D", value_parser = crate::args::digits_parser(), conflicts_with = "significant")]
+    pub digits: Option<u32>,
+    /// Requested relative accuracy instead: |error| <= 10^-D |ln k0|, D
+    /// significant digits per state (5..=200; recorded as setting.goal).
+    #[arg(long, value_name = "D", value_parser = crate::args::digits_parser())]
+    pub significant: Option<u32>,
     /// Method.
     #[arg(long, default_value_t = MethodChoice::Green, value_parser = crate::args::method_parser())]
     pub method: MethodChoice,
-    /// Dipole form of the spectral method.
-    #[arg(long, default_value_t = Gauge::Velocity, value_parser = crate::args::gauge_parser())]
-    pub gauge: Gauge,
+    /// Dipole form of the spectral method (default velocity; refused with
+    /// --method green).
+    #[arg(long, value_parser = crate::args::gauge_parser())]
+    pub gauge: Option<Gauge>,
     /// Output format.
     #[arg(long, default_value_t = TableFormat::Csv, value_parser = crate::args::format_parser())]
     pub format: TableFormat,
@@ -101,7 +106,7 @@ Output files:
   blocks a later --resume.
   Every row ends with a checksum (column check); --resume and merge refuse
   a row changed after it was written, and a row whose error is negative,
-  not a number, or above the goal 10^-D.
+  not a number, or above its goal.
 
 Crash safety and --resume:
   CSV: the --out file is written while the run goes: each finished state is
@@ -147,16 +152,19 @@ The seconds column:
 
 /// The validated settings of a table command.
 pub fn settings_from_args(a: &TableArgs) -> Result<TableSettings, AppError> {
+    crate::args::refuse_unused_gauge(a.method, a.gauge)?;
+    let goal = crate::args::goal_settings(a.digits, a.significant);
     Ok(TableSettings::new(
         a.n_min,
         a.n_max,
         a.l.as_deref(),
         a.l_max,
-        a.digits,
+        goal.digits,
         a.method,
-        a.gauge,
+        a.gauge.unwrap_or(Gauge::Velocity),
     )
-    .map_err(kzero_engine::TableError::from)?)
+    .map_err(kzero_engine::TableError::from)?
+    .with_goal(goal.goal))
 }
 
 /// Runs `kzero table`.

@@ -544,7 +544,7 @@ fn bad_state_and_number_input_exit_2() {
         &["state", "2", "0", "--digits", "-3"],
         &["state", "2", "0", "--digits", "ten"],
         &["state", "2", "0", "--method", "magic"],
-        &["state", "201", "0"],
+        &["state", "1001", "0"],
         &["table", "--n-max", "0"],
         &["table", "--n-max", "-2"],
         &["table", "--n-max", "3", "--n-min", "4"],
@@ -794,6 +794,23 @@ fn check_runs_the_bundled_checks() {
     for q in ["ln_k0(1,0)", "ln_k0(2,0)", "ln_k0(2,1)", "k0_ry(2,0)"] {
         assert_eq!(find(q)["pass"], true, "{q}");
     }
+    // The pass rule is |difference| <= tolerance + estimate, so every
+    // estimate must also be below the goal 10^-18, or an inflated estimate
+    // would pass a wrong value: lines from ln k0 values (data checks, level
+    // intervals, green vs spectral) carry their largest estimate.
+    let mut estimated = 0;
+    for l in lines {
+        if l["ln_k0_err"].is_null() {
+            assert!(l["ln_k0_goal"].is_null(), "{l}");
+            continue;
+        }
+        let (err, goal) = (number(&l["ln_k0_err"]), number(&l["ln_k0_goal"]));
+        assert!((goal / 1e-18 - 1.0).abs() < 1e-12, "goal {goal:e}: {l}");
+        assert!(err < goal, "estimate {err:e} not below the goal: {l}");
+        estimated += 1;
+    }
+    // 4 ln k0 data lines, 2 level intervals, 5 green vs spectral.
+    assert!(estimated >= 11, "{estimated} lines with an estimate");
     let all_pass = lines.iter().all(|l| l["pass"] == true);
     assert_eq!(code(&o), if all_pass { 0 } else { 3 });
     assert!(
@@ -955,4 +972,62 @@ fn significant_goal_in_state_and_sweep() {
     assert_eq!(v["goal"], "significant");
     let rows = v["rows"].as_array().unwrap();
     assert!(rows[..2].iter().all(|r| r["covered"] == true));
+}
+
+#[test]
+fn table_records_the_goal_and_refuses_to_resume_with_another() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = p(dir.path(), "t.csv");
+    let o = kzero(&["table", "--n-max", "3", "--significant", "6", "--out", &out]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = fs::read_to_string(&out).unwrap();
+    assert!(text.contains("# setting.goal: significant\n"));
+    assert!(!text.contains("setting.gauge"));
+    // every value is printed with 8 significant digits
+    for line in data_lines(&text) {
+        let v = line.split(',').nth(2).unwrap();
+        let sig = v
+            .trim_start_matches('-')
+            .replace('.', "")
+            .trim_start_matches('0')
+            .len();
+        assert_eq!(sig, 8, "{line}");
+    }
+    let o = kzero(&[
+        "table", "--n-max", "3", "--digits", "6", "--out", &out, "--resume",
+    ]);
+    assert_bad_input(&o, "resume with another goal");
+    assert!(stderr(&o).contains("goal"));
+    assert_bad_input(
+        &kzero(&["table", "--n-max", "2", "--gauge", "length"]),
+        "--gauge with green",
+    );
+}
+
+/// scripts/cluster-check.sh runs the README's cluster recipe as printed: it
+/// reads the code block after each of its marker lines. Each marker must
+/// stay a whole README line followed by a shell block, so that a README edit
+/// cannot leave the check without its recipe.
+#[test]
+fn the_cluster_check_finds_the_readme_recipe() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let readme = fs::read_to_string(root.join("README.md")).unwrap();
+    let script = fs::read_to_string(root.join("scripts/cluster-check.sh")).unwrap();
+    let markers: Vec<&str> = script
+        .lines()
+        .filter_map(|l| l.split_once("$(readme_block '"))
+        .map(|(_, rest)| rest.split_once("')").unwrap().0)
+        .collect();
+    assert_eq!(markers.len(), 3, "{markers:?}");
+    let lines: Vec<&str> = readme.lines().collect();
+    for m in markers {
+        let i = lines
+            .iter()
+            .position(|l| *l == m)
+            .unwrap_or_else(|| panic!("README.md has no line {m:?}"));
+        let next = lines[i + 1..].iter().find(|l| !l.is_empty());
+        assert_eq!(next, Some(&"```sh"), "no shell block after {m:?}");
+    }
+    // The batch script continues a part file whenever it exists.
+    assert!(readme.contains("if [ -e \"$OUT\" ]; then RESUME=\"--resume\"; fi"));
 }

@@ -44,18 +44,27 @@ fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: i64) -> Ratio
     let kmax = a.min(b);
     let d2 = Integer::from(d * d);
     // Horner in d^2: sum_k t_k d^(2(kmax-k)), then times d^(e - 2 kmax).
-    let mut acc = Rational::new();
-    let mut t = Rational::from(1); // t_k = (-a)_k (-b)_k / ((c)_k k!) x^k
-    for k in 0..=kmax {
-        acc *= &d2;
-        acc += &t;
-        if k < kmax {
-            // t_{k+1} = t_k (k - a)(k - b) / ((c + k)(k + 1)) x
-            let num = Integer::from(i64::from(k) - i64::from(a)) * (i64::from(k) - i64::from(b));
-            let den = Integer::from(c + k) * (k + 1);
-            t *= Rational::from((num * x, den));
-        }
+    // With t_k = p_k / q_k, p_k = prod_{j<k} (j - a)(j - b) x and
+    // q_k = prod_{j<k} (c + j)(j + 1), the partial sums are kept as
+    // acc_k = num_k / q_k in integers: one reduction at the end instead of
+    // a gcd at every step (the cost is then linear in the size of the
+    // numbers per step).
+    let mut num = Integer::from(1); // num_0 = p_0 = 1 (q_0 = 1)
+    let mut p = Integer::from(1);
+    let mut q = Integer::from(1);
+    for k in 1..=kmax {
+        // p_k = p_{k-1} (k-1-a)(k-1-b) x;  q_k = q_{k-1} (c+k-1) k
+        let j = i64::from(k) - 1;
+        p *= Integer::from(j - i64::from(a)) * (j - i64::from(b));
+        p *= x;
+        let step = Integer::from(c + k - 1) * k;
+        q *= &step;
+        // num_k = num_{k-1} d^2 (c+k-1) k + p_k
+        num *= &d2;
+        num *= &step;
+        num += &p;
     }
+    let acc = Rational::from((num, q));
     let top = e - 2 * i64::from(kmax);
     if top >= 0 {
         acc * Rational::from(d.clone().pow(top as u32))

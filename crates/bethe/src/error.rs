@@ -78,6 +78,27 @@ pub enum BetheError {
         /// Why.
         reason: String,
     },
+    /// A power k of the dipole sums outside the supported range.
+    #[error("k = {k} is outside the supported powers {min}..={max} of the dipole sums")]
+    PowerOutOfRange {
+        /// k as given.
+        k: i64,
+        /// Smallest supported k.
+        min: i32,
+        /// Largest supported k.
+        max: i32,
+    },
+    /// A kind of accuracy goal that a computation does not offer.
+    #[error("{what} take an absolute goal only (--digits), not {goal} digits")]
+    GoalUnsupported {
+        /// The goal's name.
+        goal: &'static str,
+        /// What was asked for.
+        what: &'static str,
+    },
+    /// An empty list of powers k.
+    #[error("no power k was requested")]
+    NoPowers,
     /// An error from the basis crate.
     #[error(transparent)]
     Basis(#[from] BasisError),

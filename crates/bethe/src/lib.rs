@@ -1,12 +1,16 @@
 //! # kzero-bethe: hydrogenic Bethe logarithms
 //!
-//! ln k0(n, l) for any hydrogenic state with n <= 200, by two independent
+//! ln k0(n, l) for any hydrogenic state with n <= 1000, by two independent
 //! methods:
 //!
 //! * [`green`]: the integral over the virtual-photon energy with the Coulomb
 //!   Green's function in its Sturmian representation (the default);
 //! * [`spectral`]: the explicit sum over the bound and continuum spectrum, in
 //!   the velocity, length and acceleration forms.
+//!
+//! The same two methods give the whole family of logarithmic dipole sums
+//! S(k), L(k) and the mean excitation energies ln I(k) ([`sums`]), of which
+//! ln k0 is the member k = 2.
 //!
 //! ## Definition and units
 //! ln k0(n,l) = S / D0 with S = sum_m |<n l|p|m>|^2 (E_m - E_n) ln(|E_m - E_n| / (Z^2 Ry))
@@ -41,6 +45,7 @@ pub mod error;
 pub mod green;
 pub mod settings;
 pub mod spectral;
+pub mod sums;
 pub mod value;
 
 pub use error::BetheError;

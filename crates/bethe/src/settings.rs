@@ -9,7 +9,7 @@ pub const MIN_DIGITS: u32 = 5;
 /// significant-digit goal may be turned into.
 pub const MAX_DIGITS: u32 = 200;
 /// Largest n supported by the methods of this crate.
-pub const MAX_N: u32 = 200;
+pub const MAX_N: u32 = 1000;
 
 /// The kind of accuracy goal that [`Settings::digits`] sets.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]

@@ -223,7 +223,7 @@ fn bad_input_is_a_typed_error() {
         Err(BetheError::InvalidState { .. })
     ));
     assert!(matches!(
-        ln_k0(201, 0, Gauge::Velocity, &s),
+        ln_k0(1001, 0, Gauge::Velocity, &s),
         Err(BetheError::OutOfRange { .. })
     ));
     assert!(matches!(

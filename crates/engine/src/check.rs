@@ -3,9 +3,12 @@
 //! structured pass/fail lines.
 //!
 //! A data line passes when |computed - expected| <= tolerance + the
-//! computed value's own error estimate; a measured level interval passes
-//! within the combined truncation and measurement uncertainties. An unknown
-//! quantity or a malformed line is a failing line, never a skip.
+//! computed value's own error estimate, and every ln k0 behind the line has
+//! an error estimate below the goal 10^-D (an estimate above the goal fails
+//! the line rather than widening it); a measured level interval passes
+//! within the combined truncation and measurement uncertainties, with the
+//! truncation part capped at [`INTERVAL_THEORY_CAP`] of the interval. An
+//! unknown quantity or a malformed line is a failing line, never a skip.
 
 use crate::batch::catch_panic;
 use crate::compute::{compute, validate_state};
@@ -21,7 +24,7 @@ use std::path::{Path, PathBuf};
 use thiserror::Error;
 
 /// One line of the check report.
-#[derive(Debug, Clone, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct CheckLine {
     /// What is checked.
     pub quantity: String,
@@ -33,8 +36,65 @@ pub struct CheckLine {
     pub computed: String,
     /// computed - expected.
     pub difference: String,
-    /// Within tolerance.
+    /// Within tolerance, and every ln k0 behind the line computed to its goal.
     pub pass: bool,
+    /// The largest error estimate of the ln k0 values behind the line (none
+    /// for exact quantities).
+    pub ln_k0_err: Option<f64>,
+    /// The goal those estimates must stay below: 10^-D for `digits` D.
+    pub ln_k0_goal: Option<f64>,
+}
+
+/// The largest truncation uncertainty a level-interval line may claim, as a
+/// fraction of the measured interval (0.3 %: about 3 MHz for the hydrogen
+/// n = 2 Lamb shift, whose stated uncertainty is about 0.8 MHz). Without a
+/// cap, an inflated uncertainty would pass any computed value.
+pub const INTERVAL_THEORY_CAP: f64 = 3e-3;
+
+/// The ln k0 error estimates behind a line, against their goal. A line
+/// fails when an estimate is not below the goal: the tolerance of a value
+/// check includes the estimate, so an estimate above the goal would
+/// otherwise widen the check instead of failing it.
+#[derive(Debug, Clone, Copy)]
+struct EstimateGoal {
+    err: f64,
+    goal: f64,
+}
+
+impl EstimateGoal {
+    fn of(values: &[&BetheValue], digits: u32) -> EstimateGoal {
+        EstimateGoal {
+            err: values.iter().map(|v| v.abs_err).fold(0.0, f64::max),
+            goal: 10f64.powi(-(digits as i32)),
+        }
+    }
+
+    fn met(self) -> bool {
+        self.err < self.goal
+    }
+
+    /// The note added to the difference column when the goal is missed.
+    fn note(self) -> String {
+        if self.met() {
+            String::new()
+        } else {
+            format!(
+                "; ln k0 estimate {:.1e} not below the goal {:.0e}",
+                self.err, self.goal
+            )
+        }
+    }
+}
+
+/// A computed value as [`compare`] takes it.
+struct Got<'a> {
+    value: &'a Float,
+    /// Its error estimate (0 for exact quantities), added to the tolerance.
+    err: f64,
+    /// The ln k0 estimates behind it and their goal (none for exact ones).
+    estimate: Option<EstimateGoal>,
+    /// Decimals shown.
+    decimals: usize,
 }
 
 /// The states of the closure sum-rule sample.
@@ -168,6 +228,8 @@ fn fail(quantity: String, source: String, expected: String, why: String) -> Chec
         computed: why,
         difference: "-".into(),
         pass: false,
+        ln_k0_err: None,
+        ln_k0_goal: None,
     }
 }
 
@@ -199,10 +261,14 @@ fn compare(
     source: String,
     expected: &str,
     tolerance: &str,
-    computed: &Float,
-    computed_err: f64,
-    shown_decimals: usize,
+    got: Got<'_>,
 ) -> CheckLine {
+    let Got {
+        value: computed,
+        err: computed_err,
+        estimate,
+        decimals: shown_decimals,
+    } = got;
     let prec = computed.prec().max(prec_for(0, expected.len() * 2));
     let exp = match Float::parse(expected.trim()) {
         Ok(p) => Float::with_val(prec, p),
@@ -241,8 +307,10 @@ fn compare(
         source,
         expected: expected.trim().to_string(),
         computed: decimal_string(computed, shown_decimals),
-        difference: format!("{d:.2e}"),
-        pass: d.abs() <= tol + computed_err,
+        difference: format!("{d:.2e}{}", estimate.map_or(String::new(), |e| e.note())),
+        pass: d.abs() <= tol + computed_err && estimate.map_or(true, EstimateGoal::met),
+        ln_k0_err: estimate.map(|e| e.err),
+        ln_k0_goal: estimate.map(|e| e.goal),
     }
 }
 
@@ -323,9 +391,12 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                             source.clone(),
                             &expected,
                             &tolerance,
-                            &k0,
-                            err,
-                            decimals_of(&expected) + 3,
+                            Got {
+                                value: &k0,
+                                err,
+                                estimate: Some(EstimateGoal::of(&[&v], ctx.digits)),
+                                decimals: decimals_of(&expected) + 3,
+                            },
                         ))
                     } else {
                         Ok(compare(
@@ -333,9 +404,12 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                             source.clone(),
                             &expected,
                             &tolerance,
-                            &v.value,
-                            v.abs_err,
-                            v.digits as usize + 2,
+                            Got {
+                                value: &v.value,
+                                err: v.abs_err,
+                                estimate: Some(EstimateGoal::of(&[&v], ctx.digits)),
+                                decimals: v.digits as usize + 2,
+                            },
                         ))
                     }
                 }
@@ -366,9 +440,12 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                             source.clone(),
                             &expected,
                             &tolerance,
-                            &s.to_float(prec),
-                            0.0,
-                            shown,
+                            Got {
+                                value: &s.to_float(prec),
+                                err: 0.0,
+                                estimate: None,
+                                decimals: shown,
+                            },
                         ))
                     } else {
                         let label = format!("f({n} {l} -> {n2} {l2}){zs}");
@@ -379,9 +456,12 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                             source.clone(),
                             &expected,
                             &tolerance,
-                            &Float::with_val(prec, &f),
-                            0.0,
-                            shown,
+                            Got {
+                                value: &Float::with_val(prec, &f),
+                                err: 0.0,
+                                estimate: None,
+                                decimals: shown,
+                            },
                         ))
                     }
                 }
@@ -402,7 +482,9 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
 /// The level-interval layout (`name,nucleus,upper_n,upper_l,upper_j2,
 /// lower_n,lower_l,lower_j2,measured_mhz,measured_unc_mhz,source`): a
 /// measured interval against the truncated one-loop shifts of `kzero shift`,
-/// passing within the combined truncation and measurement uncertainties.
+/// passing within the combined truncation and measurement uncertainties,
+/// provided the truncation part stays below [`INTERVAL_THEORY_CAP`] of the
+/// interval and both ln k0 values meet their goal.
 fn run_interval_file(
     name: &str,
     rdr: &mut csv::Reader<&[u8]>,
@@ -452,7 +534,7 @@ fn run_interval_file(
                     .map_err(|_| format!("column '{c}' is not a number"))
             };
             let nucleus = kzero_qed::Nucleus::preset(&get("nucleus")).map_err(|e| e.to_string())?;
-            let mut shift = |p: &str| -> Result<kzero_qed::LevelShift, String> {
+            let mut shift = |p: &str| -> Result<(kzero_qed::LevelShift, BetheValue), String> {
                 let lv = kzero_qed::Level::new(
                     int(&format!("{p}_n"))?,
                     int(&format!("{p}_l"))?,
@@ -465,25 +547,33 @@ fn run_interval_file(
                     kzero_qed::BetheLog::new(lv.n(), lv.l(), x, err)
                 }
                 .map_err(|e| e.to_string())?;
-                kzero_qed::level_shift(&lv, &nucleus, &b).map_err(|e| e.to_string())
+                let s = kzero_qed::level_shift(&lv, &nucleus, &b).map_err(|e| e.to_string())?;
+                Ok((s, v))
             };
-            let up = shift("upper")?;
-            let lo = shift("lower")?;
+            let (up, up_v) = shift("upper")?;
+            let (lo, lo_v) = shift("lower")?;
             let measured = num("measured_mhz")?;
             let m_unc = num("measured_unc_mhz")?;
             let computed = up.total_mhz - lo.total_mhz;
-            let allowed = up.uncertainty_mhz.hypot(lo.uncertainty_mhz).hypot(m_unc);
+            let theory = up.uncertainty_mhz.hypot(lo.uncertainty_mhz);
+            let allowed = theory.hypot(m_unc);
+            let cap = INTERVAL_THEORY_CAP * measured.abs();
+            let estimate = EstimateGoal::of(&[&up_v, &lo_v], ctx.digits);
             let d = computed - measured;
+            let cap_note = if theory <= cap {
+                String::new()
+            } else {
+                format!("; truncation uncertainty {theory:.3} above the cap {cap:.3}")
+            };
             Ok(CheckLine {
                 quantity: label.clone(),
                 source: source.clone(),
                 expected: expected.clone(),
-                computed: format!(
-                    "{computed:.3} +- {:.3}",
-                    up.uncertainty_mhz.hypot(lo.uncertainty_mhz)
-                ),
-                difference: format!("{d:.3}"),
-                pass: d.abs() <= allowed,
+                computed: format!("{computed:.3} +- {theory:.3}"),
+                difference: format!("{d:.3}{cap_note}{}", estimate.note()),
+                pass: d.abs() <= allowed && theory <= cap && estimate.met(),
+                ln_k0_err: Some(estimate.err),
+                ln_k0_goal: Some(estimate.goal),
             })
         })();
         out.push(
@@ -534,6 +624,8 @@ fn sum_rule_lines() -> Vec<CheckLine> {
                             diff.to_string()
                         },
                         pass: diff == 0,
+                        ln_k0_err: None,
+                        ln_k0_goal: None,
                     });
                 }
             }
@@ -560,13 +652,21 @@ fn cross_lines(ctx: &mut Checker) -> Vec<CheckLine> {
         match (g, s) {
             (Ok(g), Ok(s)) => {
                 let a = agreement(&g, &s);
+                let estimate = EstimateGoal::of(&[&g, &s], ctx.digits);
                 out.push(CheckLine {
                     quantity: q,
                     source: src,
                     expected: s.value_string(),
                     computed: g.value_string(),
-                    difference: format!("{:.2e} ({} digits)", a.difference, a.digits),
-                    pass: a.consistent,
+                    difference: format!(
+                        "{:.2e} ({} digits){}",
+                        a.difference,
+                        a.digits,
+                        estimate.note()
+                    ),
+                    pass: a.consistent && estimate.met(),
+                    ln_k0_err: Some(estimate.err),
+                    ln_k0_goal: Some(estimate.goal),
                 });
             }
             (Err(e), _) | (_, Err(e)) => out.push(fail(q, src, "-".into(), e)),
@@ -597,6 +697,64 @@ mod tests {
         );
         let pass: Vec<bool> = lines.iter().map(|l| l.pass).collect();
         assert_eq!(pass, [true, false, false]);
+    }
+
+    /// ln k0(2,1) = -0.030016708630213 (Drake & Swainson 1990, via CODATA
+    /// 2018): the value is right in every case below; only the estimate
+    /// changes.
+    #[test]
+    fn an_estimate_above_the_goal_fails_the_line() {
+        let v = kzero_bethe::green::ln_k0(2, 1, &Settings::with_digits(12)).unwrap();
+        let line = |abs_err: f64| {
+            let v = BetheValue {
+                abs_err,
+                ..v.clone()
+            };
+            compare(
+                "ln_k0(2,1)".into(),
+                "test".into(),
+                "-0.030016708630213",
+                "1e-15",
+                Got {
+                    value: &v.value,
+                    err: v.abs_err,
+                    estimate: Some(EstimateGoal::of(&[&v], 12)),
+                    decimals: 14,
+                },
+            )
+        };
+        let good = line(1e-14);
+        assert!(good.pass, "{good:?}");
+        // 1e-3 would cover any difference, but it is far above the goal 1e-12.
+        let inflated = line(1e-3);
+        assert!(!inflated.pass, "{inflated:?}");
+        assert!(inflated.difference.contains("not below the goal"));
+        assert_eq!(inflated.ln_k0_err, Some(1e-3));
+        assert_eq!(inflated.ln_k0_goal, Some(1e-12));
+    }
+
+    /// The truncation cap: an invented interval of 100(1000) MHz would pass on
+    /// the uncertainties alone (|1057 - 100| < 1000), but the truncation
+    /// uncertainty of H 2S-2P (about 0.8 MHz) is above 0.3 % of 100 MHz. The
+    /// first row is the measured value, 1057.845(9) MHz (Lundeen & Pipkin,
+    /// Phys. Rev. Lett. 46, 232 (1981)).
+    #[test]
+    fn an_interval_above_the_truncation_cap_fails() {
+        let text = "name,nucleus,upper_n,upper_l,upper_j2,lower_n,lower_l,lower_j2,\
+                    measured_mhz,measured_unc_mhz,source\n\
+                    H 2S1/2-2P1/2,H,2,0,1,2,1,1,1057.845,0.009,Lundeen & Pipkin 1981\n\
+                    invented,H,2,0,1,2,1,1,100,1000,invented\n";
+        let lines = run_data_file(
+            "t.csv",
+            text,
+            &mut Checker {
+                digits: 12,
+                cache: HashMap::new(),
+            },
+        );
+        let pass: Vec<bool> = lines.iter().map(|l| l.pass).collect();
+        assert_eq!(pass, [true, false], "{lines:?}");
+        assert!(lines[1].difference.contains("above the cap"), "{lines:?}");
     }
 
     #[test]

@@ -48,6 +48,23 @@ pub enum EngineError {
         /// Agreeing decimal digits.
         digits: u32,
     },
+    /// The two methods give dipole sums that differ beyond their combined
+    /// error estimates (see [`crate::ComputedSums::check_agreement`]).
+    #[error("methods disagree at (n={n}, l={l}) on {quantity}({k}): green {green} vs spectral {spectral}")]
+    SumsDisagree {
+        /// n.
+        n: u32,
+        /// l.
+        l: u32,
+        /// The power k.
+        k: i32,
+        /// `S` or `L`.
+        quantity: &'static str,
+        /// The Green's-function value and error (decimal strings).
+        green: String,
+        /// The spectral value and error (decimal strings).
+        spectral: String,
+    },
     /// A precision sweep needs one method.
     #[error("sweep takes --method green or --method spectral (run it once for each)")]
     SweepMethod,
@@ -103,7 +120,9 @@ impl EngineError {
                     ErrorClass::Failure
                 }
             }
-            EngineError::MethodsDisagree { .. } => ErrorClass::CheckFailed,
+            EngineError::MethodsDisagree { .. } | EngineError::SumsDisagree { .. } => {
+                ErrorClass::CheckFailed
+            }
             EngineError::Internal { .. } | EngineError::Threads { .. } => ErrorClass::Failure,
         }
     }
@@ -123,6 +142,9 @@ pub fn bethe_class(e: &BetheError) -> ErrorClass {
         | BetheError::OutOfRange { .. }
         | BetheError::DigitsOutOfRange { .. }
         | BetheError::GoalOutOfReach { .. }
+        | BetheError::PowerOutOfRange { .. }
+        | BetheError::NoPowers
+        | BetheError::GoalUnsupported { .. }
         | BetheError::GaugeUnsupported { .. }
         | BetheError::Basis(_) => ErrorClass::BadInput,
         _ => ErrorClass::Failure,

@@ -7,7 +7,7 @@
 //! prints.
 //!
 //! How data flows: arguments -> settings ([`Request`], a table's
-//! settings) -> engine ([`compute`], [`run_batch`], [`compute_states`]) ->
+//! settings) -> engine ([`compute()`], [`run_batch`], [`compute_states`]) ->
 //! value ([`kzero_bethe::BetheValue`], [`Computed`]) -> table row -> file.
 //!
 //! * [`method`]: [`MethodChoice`] (green, spectral, both); the names of the
@@ -16,6 +16,9 @@
 //!   of two values is [`agreement`] (from kzero-bethe, the one used
 //!   everywhere).
 //! * [`shard`]: the deterministic cost-balanced shard plan.
+//! * [`sums`](mod@sums): the logarithmic dipole sums S(k), L(k), ln I(k)
+//!   of one state ([`compute_sums`]) and their printed rows with I(k) in eV
+//!   ([`row_text`]).
 //! * [`batch`]: many states in parallel with a cancellation hook.
 //! * [`build_info`]: versions, git revision, the one [`Provenance`] schema.
 //! * [`table`]: the table format (CSV and JSON), validation, the journal
@@ -53,6 +56,7 @@ pub mod error;
 pub mod exact;
 pub mod method;
 pub mod shard;
+pub mod sums;
 pub mod sweep;
 pub mod table;
 
@@ -66,4 +70,5 @@ pub use error::{EngineError, ErrorClass};
 pub use kzero_bethe::{agreement, Agreement, BetheValue, Gauge, Method, Settings};
 pub use method::MethodChoice;
 pub use shard::{plan, Key, Shard, ShardError};
+pub use sums::{compute_sums, row_text, sums_cost, ComputedSums, EnergyUnit, RowText};
 pub use table::{Row, Table, TableError, TableFormat, TableSettings};

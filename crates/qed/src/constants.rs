@@ -6,7 +6,7 @@
 //! adjustment", the allascii.txt table), written with all the digits of that
 //! listing and compared with it value by value (alpha, m_e c^2, h, e, the
 //! reduced Compton wavelength, the p, d and alpha mass ratios, A_r(e), r_p,
-//! r_d). Their
+//! r_d, R_inf h c). Their
 //! standard uncertainties (relative 1e-10 or smaller for everything but the
 //! charge radii) are far below the truncation uncertainty of the shifts and
 //! are not propagated.
@@ -17,6 +17,14 @@ pub const ALPHA: f64 = 7.297_352_569_3e-3;
 /// Electron mass energy equivalent m_e c^2 = 0.51099895000(15) MeV, in eV
 /// (CODATA 2018).
 pub const ELECTRON_REST_ENERGY_EV: f64 = 0.510_998_950_00e6;
+
+/// Rydberg constant times hc in eV, R_inf h c = 13.605693122994(26) eV
+/// (CODATA 2018): the energy unit Ry of an infinitely heavy nucleus.
+pub const RYDBERG_ENERGY_EV: f64 = 13.605_693_122_994;
+
+/// Standard uncertainty of [`RYDBERG_ENERGY_EV`], 0.000000000026 eV
+/// (CODATA 2018).
+pub const RYDBERG_ENERGY_EV_UNCERTAINTY: f64 = 2.6e-11;
 
 /// Planck constant h = 6.62607015e-34 J Hz^-1 (exact in the 2019 SI, CODATA 2018).
 pub const PLANCK_J_S: f64 = 6.626_070_15e-34;
@@ -81,6 +89,7 @@ pub fn listing() -> Vec<(&'static str, f64, &'static str)> {
             electron_rest_frequency_mhz(),
             "MHz",
         ),
+        ("rydberg_energy", RYDBERG_ENERGY_EV, "eV"),
         ("planck_constant", PLANCK_J_S, "J s"),
         ("elementary_charge", ELEMENTARY_CHARGE_C, "C"),
         (
@@ -129,6 +138,14 @@ mod tests {
         let from_wavelength = 299_792_458.0 / 2.426_310_238_67e-12 / 1e6;
         let rel = (electron_rest_frequency_mhz() / from_wavelength - 1.0).abs();
         assert!(rel < 1e-10, "relative difference {rel}");
+    }
+
+    #[test]
+    fn rydberg_energy_is_alpha_squared_half_electron_rest_energy() {
+        // R_inf h c = alpha^2 m_e c^2 / 2 (common practice): the listed
+        // values agree within the uncertainties of alpha and m_e c^2.
+        let derived = ALPHA * ALPHA * ELECTRON_REST_ENERGY_EV / 2.0;
+        assert!((derived / RYDBERG_ENERGY_EV - 1.0).abs() < 1e-9);
     }
 
     #[test]

@@ -25,7 +25,7 @@ pub fn cost_estimate(n: u32, l: u32, digits: u32) -> f64 {
 /// ln k0(n, l) by the Green's-function method.
 ///
 /// # Preconditions
-/// 1 <= n <= 200, 0 <= l < n, `settings.digits` in 5..=200.
+/// 1 <= n <= 1000, 0 <= l < n, `settings.digits` in 5..=200.
 ///
 /// # Accuracy
 /// The returned `abs_err` estimates |value - exact| by the difference of two

@@ -21,8 +21,9 @@ pub(crate) struct ExactState {
     pub(crate) channels: Vec<ChannelData>,
     /// Dsum = sum_m |p_nm|^2 D_m = 2/n^3 for l = 0, else 0 (hartree, Z = 1).
     pub(crate) dipole_sum: Rational,
-    /// Dsum_up = Dsum - sum_lower c D: the same sum over the upper states.
-    pub(crate) upper_dipole_sum: Rational,
+    /// The residues A = c D of the lower states, channel by channel in the
+    /// order of [`ChannelData::lower_states`] (exact; each is negative).
+    residues: Vec<Rational>,
 }
 
 impl ExactState {
@@ -37,17 +38,18 @@ impl ExactState {
         } else {
             Rational::new()
         };
-        let mut upper_dipole_sum = dipole_sum.clone();
-        for ch in &channels {
-            for low in &ch.lower_states {
-                upper_dipole_sum -= Rational::from(&low.weighted_p2 * &low.energy_diff);
-            }
-        }
+        // the residues are kept apart: their exact sum would grow a common
+        // denominator (and cost gcds) with every lower state
+        let residues = channels
+            .iter()
+            .flat_map(|ch| ch.lower_states.iter())
+            .map(|low| Rational::from(&low.weighted_p2 * &low.energy_diff))
+            .collect();
         Ok(ExactState {
             n,
             channels,
             dipole_sum,
-            upper_dipole_sum,
+            residues,
         })
     }
 
@@ -62,18 +64,16 @@ impl ExactState {
 
     /// The integrand rounded to `prec` bits.
     pub(crate) fn integrand(&self, prec: u32) -> Integrand {
-        let mut lower_poles = Vec::new();
-        for ch in &self.channels {
-            for low in &ch.lower_states {
-                lower_poles.push(LowerPole {
-                    nprime: Float::with_val(prec, low.nprime),
-                    residue: Float::with_val(
-                        prec,
-                        Rational::from(&low.weighted_p2 * &low.energy_diff),
-                    ),
-                });
-            }
-        }
+        let lower_poles = self
+            .channels
+            .iter()
+            .flat_map(|ch| ch.lower_states.iter())
+            .zip(&self.residues)
+            .map(|(low, a)| LowerPole {
+                nprime: Float::with_val(prec, low.nprime),
+                residue: Float::with_val(prec, a),
+            })
+            .collect();
         Integrand {
             n: self.n,
             channels: self
@@ -92,21 +92,27 @@ impl ExactState {
     /// binding energy in hartree) and Dsum ln 2 (the change of the unit of
     /// D inside the logarithm from hartree to Z^2 Ry).
     pub(crate) fn exact_part(&self, prec: u32) -> Float {
-        let mut s = Float::with_val(prec, 0);
-        for ch in &self.channels {
-            for low in &ch.lower_states {
-                let cd = Float::with_val(prec, Rational::from(&low.weighted_p2 * &low.energy_diff));
-                let ln_abs_d = Float::with_val(prec, -low.energy_diff.clone()).ln();
-                let ln_ratio =
-                    Float::with_val(prec, Rational::from((self.n + low.nprime, low.nprime))).ln();
-                s += cd * (ln_abs_d - ln_ratio);
-            }
+        // Dsum_up = Dsum - sum_lower c D: every c D is negative, so the sum
+        // has no cancellation and is formed in floats (a guard of 32 bits
+        // covers the roundings of up to 2^31 terms); the terms c D ln|D| and
+        // the image terms are rounded one by one as well
+        let wp = prec + 32;
+        let mut s = Float::with_val(wp, 0);
+        let mut upper = Float::with_val(wp, &self.dipole_sum);
+        let lows = self.channels.iter().flat_map(|ch| ch.lower_states.iter());
+        for (low, a) in lows.zip(&self.residues) {
+            let cd = Float::with_val(wp, a);
+            upper -= &cd;
+            let ln_abs_d = Float::with_val(wp, -low.energy_diff.clone()).ln();
+            let ln_ratio =
+                Float::with_val(wp, Rational::from((self.n + low.nprime, low.nprime))).ln();
+            s += cd * (ln_abs_d - ln_ratio);
         }
         let nn = u64::from(self.n) * u64::from(self.n);
-        let ln_w0 = Float::with_val(prec, Rational::from((1u64, 2 * nn))).ln();
-        s += Float::with_val(prec, &self.upper_dipole_sum) * ln_w0;
-        let ln2 = Float::with_val(prec, rug::float::Constant::Log2);
-        s += Float::with_val(prec, &self.dipole_sum) * ln2;
-        s
+        let ln_w0 = Float::with_val(wp, Rational::from((1u64, 2 * nn))).ln();
+        s += upper * ln_w0;
+        let ln2 = Float::with_val(wp, rug::float::Constant::Log2);
+        s += Float::with_val(wp, &self.dipole_sum) * ln2;
+        Float::with_val(prec, s)
     }
 }

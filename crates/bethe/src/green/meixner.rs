@@ -84,20 +84,28 @@ impl Rec {
 
     /// X_{i+1} from X_i, X_{i-1} (forward).
     fn forward(&mut self, i: usize, xi: &Float, xim1: &Float) -> Float {
+        let mut out = Float::new(xi.prec());
+        self.forward_into(i, xi, xim1, &mut out);
+        out
+    }
+
+    /// X_{i+1} from X_i, X_{i-1} (forward), written into `out` (whose
+    /// precision is kept).
+    fn forward_into(&mut self, i: usize, xi: &Float, xim1: &Float, out: &mut Float) {
         let ib = i as u32 + self.beta;
         // t2 = z (i + beta); t1 = (t2 + i + c1) X_i - i X_{i-1}
         self.t2.assign(&self.z * ib);
         self.t1.assign(&self.t2 + &self.c1);
         self.t1 += i as u32;
         self.t1 *= xi;
-        let mut out = Float::with_val(xi.prec(), xim1 * i as u32);
-        self.t1 -= &out;
+        out.assign(xim1 * i as u32);
+        self.t1 -= &*out;
         out.assign(&self.t1 / &self.t2);
-        out
     }
 
-    /// X_{i-1} from X_i, X_{i+1} (backward): (b_i X_i - z (i+beta) X_{i+1}) / i.
-    fn backward(&mut self, i: usize, xi: &Float, xip1: &Float) -> Float {
+    /// X_{i-1} from X_i, X_{i+1} (backward): (b_i X_i - z (i+beta) X_{i+1}) / i,
+    /// written into `out`.
+    fn backward_into(&mut self, i: usize, xi: &Float, xip1: &Float, out: &mut Float) {
         let ib = i as u32 + self.beta;
         self.t2.assign(&self.z * ib);
         self.t1.assign(&self.t2 + &self.c1);
@@ -105,9 +113,7 @@ impl Rec {
         self.t1 *= xi;
         self.t2 *= xip1;
         self.t1 -= &self.t2;
-        let mut out = Float::new(xi.prec());
         out.assign(&self.t1 / i as u32);
-        out
     }
 }
 
@@ -142,42 +148,41 @@ pub(crate) fn channel_j_with(
         };
         return (zero, None);
     }
-    // eta_i = coef_i (-tau)^i
-    let mtau = Float::with_val(prec, -&p.tau);
-    let mut eta = Vec::with_capacity(m);
-    let mut pw = Float::with_val(prec, 1);
-    for c in &ch.coef {
-        eta.push(Float::with_val(prec, c * &pw));
-        pw *= &mtau;
-    }
     let mut rec = Rec::new(beta, &a, zp);
-    // M_i(-a): M_0 = 1, M_1 = 1 + a (1-z)/(z beta)
-    let zb = Float::with_val(prec, &zp.z * beta);
-    let mut mm: Vec<Float> = Vec::with_capacity(m);
-    mm.push(Float::with_val(prec, 1));
-    if m > 1 {
-        let m1 = Float::with_val(prec, &rec.c1 / &zb) + 1u32;
-        mm.push(m1);
-    }
-    for i in 1..m.saturating_sub(1) {
-        let next = rec.forward(i, &mm[i], &mm[i - 1]);
-        mm.push(next);
-    }
     // rho_0 = m(a)
     let (st, phi_used) = meixner_stieltjes(beta, &a, zp, meter, phi_hint);
     let rho = second_kind(&mut rec, &a, zp, &st.value, m, meter);
-    // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i
+    // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i,
+    // with eta_j = coef_j (-tau)^j and M_j = M_j(-a) (forward recurrence,
+    // M_0 = 1, M_1 = 1 + a (1-z)/(z beta)), both formed on the way
+    let mtau = Float::with_val(prec, -&p.tau);
+    let mut pw = Float::with_val(prec, 1);
+    let mut eta = Float::new(prec);
+    let mut m_prev = Float::with_val(prec, 1); // M_{j-1}
+    let mut m_cur = Float::with_val(prec, 1); // M_j
+    let mut m_next = Float::new(prec);
     let mut s_prev = Float::with_val(prec, 0);
     let mut t = Float::with_val(prec, 0);
     let mut em = Float::new(prec);
     let mut inner = Float::new(prec);
     let mut biggest = Float::with_val(prec, 0);
-    for j in 0..m {
-        em.assign(&eta[j] * &mm[j]);
+    for (j, (c, rho_j)) in ch.coef.iter().zip(&rho).enumerate() {
+        if j == 1 {
+            let zb = Float::with_val(prec, &zp.z * beta);
+            m_cur.assign(&rec.c1 / &zb);
+            m_cur += 1u32;
+        } else if j > 1 {
+            rec.forward_into(j - 1, &m_cur, &m_prev, &mut m_next);
+            std::mem::swap(&mut m_prev, &mut m_cur);
+            std::mem::swap(&mut m_cur, &mut m_next);
+        }
+        eta.assign(c * &pw);
+        pw *= &mtau;
+        em.assign(&eta * &m_cur);
         inner.assign(&s_prev * 2u32);
         inner += &em;
-        inner *= &eta[j];
-        inner *= &rho[j];
+        inner *= &eta;
+        inner *= rho_j;
         if inner.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
             biggest.assign(&inner);
         }
@@ -194,6 +199,90 @@ pub(crate) fn channel_j_with(
         log_coef: Float::with_val(prec, p2 * &st.log_coef) * scale,
     };
     (jv, phi_used)
+}
+
+/// weight * <phi_s|G_L|phi_s> for several source functions phi_s of one
+/// channel at one node (each given by its matched-Sturmian coefficients):
+/// the Meixner functions M_i(-a), the functions of the second kind rho_i and
+/// the Stieltjes transform are computed once and shared by every source.
+/// Returns one [`JValue`] per source, and the Phi used (None on the series
+/// route).
+///
+/// # Accuracy
+/// As [`channel_j_with`], whose computation this is for one source; the
+/// cancellation of every source's final sum is recorded in `meter`.
+pub(crate) fn channel_j_sources(
+    big_l: u32,
+    beta: u32,
+    ws2: &Float,
+    coefs: &[Vec<Float>],
+    p: &NuPoint,
+    meter: &mut Meter,
+    phi_hint: Option<&Float>,
+) -> (Vec<JValue>, Option<Float>) {
+    let prec = p.nu.prec();
+    let zp = &p.zp;
+    let a = Float::with_val(prec, (big_l + 1) - Float::with_val(prec, &p.nu));
+    let m = coefs.iter().map(Vec::len).max().unwrap_or(0);
+    if m == 0 {
+        let zero = JValue {
+            j: Float::with_val(prec, 0),
+            log_coef: Float::with_val(prec, 0),
+        };
+        return (vec![zero; coefs.len()], None);
+    }
+    let mut rec = Rec::new(beta, &a, zp);
+    // M_i(-a): M_0 = 1, M_1 = 1 + a (1-z)/(z beta)
+    let zb = Float::with_val(prec, &zp.z * beta);
+    let mut mm: Vec<Float> = Vec::with_capacity(m);
+    mm.push(Float::with_val(prec, 1));
+    if m > 1 {
+        let m1 = Float::with_val(prec, &rec.c1 / &zb) + 1u32;
+        mm.push(m1);
+    }
+    for i in 1..m.saturating_sub(1) {
+        let next = rec.forward(i, &mm[i], &mm[i - 1]);
+        mm.push(next);
+    }
+    let (st, phi_used) = meixner_stieltjes(beta, &a, zp, meter, phi_hint);
+    let rho = second_kind(&mut rec, &a, zp, &st.value, m, meter);
+    let mtau = Float::with_val(prec, -&p.tau);
+    let scale = Float::with_val(prec, ws2 * &p.nu);
+    let mut out = Vec::with_capacity(coefs.len());
+    let mut eta = Float::new(prec);
+    let mut pw = Float::new(prec);
+    let mut em = Float::new(prec);
+    let mut inner = Float::new(prec);
+    for coef in coefs {
+        // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i,
+        // eta_j = coef_j (-tau)^j
+        let mut s_prev = Float::with_val(prec, 0);
+        let mut t = Float::with_val(prec, 0);
+        let mut biggest = Float::with_val(prec, 0);
+        pw.assign(1);
+        for (j, c) in coef.iter().enumerate() {
+            eta.assign(c * &pw);
+            pw *= &mtau;
+            em.assign(&eta * &mm[j]);
+            inner.assign(&s_prev * 2u32);
+            inner += &em;
+            inner *= &eta;
+            inner *= &rho[j];
+            if inner.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
+                biggest.assign(&inner);
+            }
+            t += &inner;
+            s_prev += &em;
+        }
+        meter.term(&biggest);
+        meter.result(&t);
+        let p2 = Float::with_val(prec, &s_prev * &s_prev);
+        out.push(JValue {
+            j: Float::with_val(prec, &t * &scale),
+            log_coef: Float::with_val(prec, p2 * &st.log_coef) * &scale,
+        });
+    }
+    (out, phi_used)
 }
 
 /// rho_i, i = 0..m, from rho_0 = m(a): forward recurrence when it is stable
@@ -266,14 +355,15 @@ fn second_kind(
     let top = top.unwrap_or(m);
     let mut y_hi = Float::with_val(prec, 0); // y_{i+1}
     let mut y = Float::with_val(prec, 1); // y_i, starting at i = top
+    let mut y_lo = Float::new(prec); // y_{i-1}
     let mut store: Vec<Float> = vec![Float::with_val(prec, 0); m];
     for i in (1..=top).rev() {
         if i < m {
-            store[i] = y.clone();
+            store[i].assign(&y);
         }
-        let prev = rec.backward(i, &y, &y_hi);
-        y_hi = y;
-        y = prev;
+        rec.backward_into(i, &y, &y_hi, &mut y_lo);
+        std::mem::swap(&mut y_hi, &mut y);
+        std::mem::swap(&mut y, &mut y_lo);
     }
     let norm = Float::with_val(prec, rho0 / &y);
     for v in store.iter().skip(1) {

@@ -45,8 +45,10 @@
 //! number is returned then.
 //!
 //! ## Range
-//! 1 <= n <= 200, 0 <= l < n; the value does not depend on Z and the
-//! computation runs at Z = 1.
+//! 1 <= n <= 1000 ([`crate::settings::MAX_N`]), 0 <= l < n; the value does
+//! not depend on Z and the computation runs at Z = 1. The working precision
+//! follows the loss the pilot and the meters measure at each n; nothing in
+//! the method is tuned to a largest n.
 //!
 //! ## Layout
 //! Only [`ln_k0`] and [`cost_estimate`] are public. Inside the crate:

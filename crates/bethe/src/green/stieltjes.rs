@@ -16,7 +16,7 @@
 use super::meter::Meter;
 use super::quad;
 use rug::ops::Pow;
-use rug::Float;
+use rug::{Assign, Float};
 
 /// Below this z the defining series is summed directly.
 pub(crate) const Z_SERIES: f64 = 0.25;
@@ -62,8 +62,10 @@ pub(crate) fn meixner_stieltjes(
     if pt.z < Z_SERIES {
         // r = C(beta-1-a, beta-1) = prod_{j=1}^{beta-1} (j - a) / j
         let mut r = Float::with_val(prec, 1);
+        let mut f = Float::new(prec);
         for j in 1..beta {
-            r *= Float::with_val(prec, j - Float::with_val(prec, a));
+            f.assign(j - a);
+            r *= &f;
             r /= j;
         }
         let y_beta = Float::with_val(prec, pt.one_minus_z.clone().pow(beta));
@@ -74,23 +76,27 @@ pub(crate) fn meixner_stieltjes(
         };
         return (m, None);
     }
-    // q_{beta-2} = 1/(beta-1); q_{i-1} = q_i (i+1-a)/i; r = q_0 (1-a)
-    let b = beta as usize;
-    let mut q = vec![Float::with_val(prec, 0); b - 1];
-    q[b - 2] = Float::with_val(prec, 1) / (beta - 1);
-    for i in (1..=b - 2).rev() {
-        let f = Float::with_val(prec, (i + 1) as u32) - a;
-        q[i - 1] = Float::with_val(prec, &q[i] * &f) / i as u32;
-    }
-    let r = Float::with_val(prec, &q[0] * Float::with_val(prec, 1u32 - a));
-    // poly = sum_i q_i y^(beta-1-i), y = 1-z  (Horner)
+    // poly = sum_{i=0}^{beta-2} q_i y^(beta-1-i), y = 1-z, with
+    // q_{beta-2} = 1/(beta-1) and q_{i-1} = q_i (i+1-a)/i, summed from the
+    // top coefficient down through the terms u_i = q_i y^(beta-1-i) (no
+    // table of coefficients)
     let y = &pt.one_minus_z;
-    let mut poly = Float::with_val(prec, 0);
-    for qi in q.iter() {
-        poly += qi;
-        poly *= y;
-        meter.term(&poly);
+    let mut u = Float::with_val(prec, y / (beta - 1));
+    let mut poly = u.clone();
+    meter.term(&u);
+    let mut f = Float::new(prec);
+    for i in (1..beta - 1).rev() {
+        f.assign((i + 1) - a);
+        u *= &f;
+        u /= i;
+        u *= y;
+        meter.term(&u);
+        poly += &u;
     }
+    // r y^beta = (1-a) u_0 y
+    let mut ry = Float::with_val(prec, 1u32 - a);
+    ry *= &u;
+    ry *= y;
     let phi = match phi_hint {
         Some(v) => WithLog {
             value: v.clone(),
@@ -98,8 +104,6 @@ pub(crate) fn meixner_stieltjes(
         },
         None => lerch_phi(a, pt, meter),
     };
-    let y_beta = Float::with_val(prec, y.clone().pow(beta));
-    let ry = Float::with_val(prec, &r * &y_beta);
     let tail = Float::with_val(prec, &ry * &phi.value);
     meter.term(&tail);
     let value = Float::with_val(prec, &poly + &tail);
@@ -121,9 +125,11 @@ fn series(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let peak = (beta as f64 * pt.z.to_f64() / (1.0 - pt.z.to_f64()).max(1e-300)).ceil() as usize;
     let ar = a.to_f64();
     let mut k = 0usize;
+    let mut den = Float::new(prec);
+    let mut t = Float::new(prec);
     loop {
-        let den = Float::with_val(prec, a + k as u32);
-        let t = Float::with_val(prec, &c / &den);
+        den.assign(a + k as u32);
+        t.assign(&c / &den);
         meter.term(&t);
         sum += &t;
         let beyond_pole = (k as f64) > -ar + 1.0;
@@ -209,8 +215,11 @@ fn phi_series(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let mut sum = Float::with_val(prec, 0);
     let ar = a.to_f64();
     let mut k = 0u32;
+    let mut den = Float::new(prec);
+    let mut t = Float::new(prec);
     loop {
-        let t = Float::with_val(prec, &zk / Float::with_val(prec, a + k));
+        den.assign(a + k);
+        t.assign(&zk / &den);
         meter.term(&t);
         sum += &t;
         if f64::from(k) > -ar + 1.0

@@ -80,12 +80,14 @@
 //! [`kzero_basis::continuum`]).
 //!
 //! ## Range
-//! 1 <= n <= 200, 0 <= l < n, any Z (the value does not depend on Z; the
-//! computation runs at Z = 1). Measured times are in benches/README.md; the
-//! largest are about 10 to 15 s for n = 200, l = 1 at 20 digits.
+//! 1 <= n <= 1000 ([`crate::settings::MAX_N`]), 0 <= l < n, any Z (the
+//! value does not depend on Z; the computation runs at Z = 1). Measured
+//! times are in benches/README.md; the cost grows fast with n - l (about
+//! 10 to 15 s for n = 200, l = 1 at 20 digits, minutes for n = 1000 and
+//! small l), so above n = 200 it is meant as the cross-check of samples.
 
-mod quadrature;
-mod tail;
+pub(crate) mod quadrature;
+pub(crate) mod tail;
 
 use crate::error::BetheError;
 use crate::settings::{meet_significant, significant_loop, validate_state, Goal, Settings};
@@ -139,7 +141,7 @@ pub struct SpectralSum {
     pub terms: usize,
 }
 
-fn form_of(g: Gauge) -> DipoleForm {
+pub(crate) fn form_of(g: Gauge) -> DipoleForm {
     match g {
         Gauge::Velocity => DipoleForm::Velocity,
         Gauge::Length => DipoleForm::Length,
@@ -148,12 +150,12 @@ fn form_of(g: Gauge) -> DipoleForm {
 }
 
 /// Exact bound-bound data: per term w_L I^2 D^(shift) (rational) and D.
-struct ExactTerm {
-    coef: Rational,
-    d: Rational,
+pub(crate) struct ExactTerm {
+    pub(crate) coef: Rational,
+    pub(crate) d: Rational,
 }
 
-fn exact_terms(
+pub(crate) fn exact_terms(
     state: &BoundState,
     form: DipoleForm,
     n_from: u32,
@@ -206,7 +208,7 @@ fn exact_terms(
     Ok(out)
 }
 
-fn pow_rat(d: &Rational, k: i32) -> Rational {
+pub(crate) fn pow_rat(d: &Rational, k: i32) -> Rational {
     let mut r = Rational::from(1);
     for _ in 0..k.unsigned_abs() {
         r *= d;
@@ -483,7 +485,7 @@ impl SpectralSumSetup {
     }
 }
 
-fn pow_float(d: &Float, k: i32, prec: u32) -> Float {
+pub(crate) fn pow_float(d: &Float, k: i32, prec: u32) -> Float {
     let mut r = Float::with_val(prec, 1);
     for _ in 0..k.unsigned_abs() {
         r *= d;
@@ -494,13 +496,13 @@ fn pow_float(d: &Float, k: i32, prec: u32) -> Float {
     r
 }
 
-fn cheb_order(n: u32, a: u32, bits: f64) -> usize {
+pub(crate) fn cheb_order(n: u32, a: u32, bits: f64) -> usize {
     let x0 = 2.0 * (f64::from(a) / f64::from(n)).powi(2) - 1.0;
     let rho = x0 + (x0 * x0 - 1.0).sqrt();
     ((bits * std::f64::consts::LN_2 + 8.0) / rho.ln()).ceil() as usize + 4
 }
 
-fn split_point(n: u32) -> u32 {
+pub(crate) fn split_point(n: u32) -> u32 {
     (n + 10).max((f64::from(n) * 1.3).ceil() as u32)
 }
 
@@ -515,7 +517,7 @@ fn split_point(n: u32) -> u32 {
 /// split point; `abs_err` is an estimate, and the goal is enforced.
 ///
 /// # Errors
-/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 200),
+/// [`BetheError::InvalidState`], [`BetheError::OutOfRange`] (n > 1000),
 /// [`BetheError::DigitsOutOfRange`], [`BetheError::NoConvergence`].
 pub fn spectral_sum(
     n: i64,
@@ -648,7 +650,7 @@ fn sum_with_goal(
 ///
 /// # Errors
 /// [`BetheError::InvalidState`] unless n >= 1 and 0 <= l < n;
-/// [`BetheError::OutOfRange`] for n > 200; [`BetheError::DigitsOutOfRange`];
+/// [`BetheError::OutOfRange`] for n > 1000; [`BetheError::DigitsOutOfRange`];
 /// [`BetheError::NoConvergence`] when refinement does not reach the goal.
 pub fn ln_k0(n: i64, l: i64, gauge: Gauge, settings: &Settings) -> Result<BetheValue, BetheError> {
     let start = Instant::now();

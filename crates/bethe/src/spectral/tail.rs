@@ -45,13 +45,78 @@ pub(crate) fn coefficients(values: &[Float], prec: u32) -> Vec<Float> {
     c
 }
 
+/// [`coefficients`] for several value sets at the same nodes: the cosines
+/// are computed once.
+pub(crate) fn coefficients_many(values: &[Vec<Float>], prec: u32) -> Vec<Vec<Float>> {
+    let k = values.iter().map(Vec::len).max().unwrap_or(0);
+    let pi = Float::with_val(prec, Constant::Pi);
+    // cos(pi (2i+1) j / (2K)) depends on (2i+1) j mod 4K
+    let table: Vec<Float> = (0..4 * k)
+        .map(|r| (Float::with_val(prec, &pi * r as u32) / (2 * k) as u32).cos())
+        .collect();
+    values
+        .iter()
+        .map(|vals| {
+            (0..k)
+                .map(|j| {
+                    let mut s = Float::with_val(prec, 0);
+                    for (i, v) in vals.iter().enumerate() {
+                        s += Float::with_val(prec, &table[((2 * i + 1) * j) % (4 * k)] * v);
+                    }
+                    s *= 2u32;
+                    s /= k as u32;
+                    if j == 0 {
+                        s /= 2u32;
+                    }
+                    s
+                })
+                .collect()
+        })
+        .collect()
+}
+
 /// sum_{n' >= a} n'^-3 p(a^2/n'^2) for the interpolant p with Chebyshev
 /// coefficients `cheb` (see [`coefficients`]), at `prec` bits.
 pub(crate) fn sum(cheb: &[Float], a: u32, prec: u32) -> Float {
-    let k = cheb.len();
+    sum_many(&[cheb], a, prec).pop().expect("one sum")
+}
+
+/// [`sum`] for several interpolants with the same number of coefficients:
+/// the Hurwitz zeta values, the expensive part, are computed once.
+pub(crate) fn sum_many(chebs: &[&[Float]], a: u32, prec: u32) -> Vec<Float> {
+    let k = chebs.iter().map(|c| c.len()).max().unwrap_or(0);
     let guard = 3 * k as u32 + 32;
     let hp = prec + guard;
-    // integer coefficients of T_j(2u - 1) in powers of u
+    // a^(2m) zeta(3 + 2m, a), m < k
+    let log2a = f64::from(a).log2();
+    let zetas: Vec<Float> = (0..k)
+        .map(|m| {
+            let s = 3 + 2 * m as u32;
+            let zp = hp + (f64::from(s) * log2a).ceil() as u32 + 16;
+            let mut z = Float::with_val(zp, Float::zeta_u(s));
+            for i in 1..a {
+                z -= Float::with_val(zp, Float::with_val(zp, i).pow(s)).recip();
+            }
+            z *= Float::with_val(zp, Float::with_val(zp, a).pow(2 * m as u32));
+            z
+        })
+        .collect();
+    chebs
+        .iter()
+        .map(|cheb| {
+            let mut total = Float::with_val(hp, 0);
+            for (pm, z) in monomials(cheb, hp).iter().zip(&zetas) {
+                total += Float::with_val(hp, pm * z);
+            }
+            Float::with_val(prec, total)
+        })
+        .collect()
+}
+
+/// The interpolant in powers of u (at `hp` bits): the integer coefficients
+/// of T_j(2u - 1) times the Chebyshev coefficients.
+fn monomials(cheb: &[Float], hp: u32) -> Vec<Float> {
+    let k = cheb.len();
     let mut monos = vec![Float::with_val(hp, 0); k];
     let mut tm1: Vec<Integer> = vec![Integer::from(1)];
     let mut t: Vec<Integer> = vec![Integer::from(-1), Integer::from(2)];
@@ -74,20 +139,7 @@ pub(crate) fn sum(cheb: &[Float], a: u32, prec: u32) -> Float {
             tm1 = std::mem::replace(&mut t, next);
         }
     }
-    let mut total = Float::with_val(hp, 0);
-    let log2a = f64::from(a).log2();
-    for (m, pm) in monos.iter().enumerate() {
-        let s = 3 + 2 * m as u32;
-        let zp = hp + (f64::from(s) * log2a).ceil() as u32 + 16;
-        let mut z = Float::with_val(zp, Float::zeta_u(s));
-        for i in 1..a {
-            z -= Float::with_val(zp, Float::with_val(zp, i).pow(s)).recip();
-        }
-        // times a^(2m)
-        z *= Float::with_val(zp, Float::with_val(zp, a).pow(2 * m as u32));
-        total += Float::with_val(hp, pm * &z);
-    }
-    Float::with_val(prec, total)
+    monos
 }
 
 use rug::ops::Pow;
@@ -113,6 +165,10 @@ mod tests {
                 })
                 .collect();
             let c = coefficients(&vals, prec);
+            let many = coefficients_many(std::slice::from_ref(&vals), prec);
+            for (x, y) in c.iter().zip(&many[0]) {
+                assert!(Float::with_val(prec, x - y).abs() < 1e-60, "cosine table");
+            }
             let got = sum(&c, a, prec);
             let want = Float::with_val(prec, 1) / (2 * a * (a - 1));
             let rel = Float::with_val(prec, &got - &want).abs() / &want;

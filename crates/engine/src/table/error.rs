@@ -62,7 +62,7 @@ pub enum FormatProblem {
         value: String,
     },
     /// A row whose error estimate is above the goal of its digits.
-    #[error("row (n={}, l={}): {column} {value} is above the goal 1e-{digits} of the table", .key.0, .key.1)]
+    #[error("row (n={}, l={}): {column} {value} is above the goal of {digits} digits of the table", .key.0, .key.1)]
     RowErrorAboveGoal {
         /// The state of the row.
         key: Key,
@@ -103,6 +103,9 @@ pub enum FormatProblem {
     /// The gauge setting names no gauge.
     #[error("unknown gauge")]
     UnknownGauge,
+    /// The goal setting is neither `absolute` nor `significant`.
+    #[error("unknown goal (absolute or significant)")]
+    UnknownGoal,
     /// The shard entry is not a shard.
     #[error(transparent)]
     Shard(#[from] ShardError),

@@ -17,8 +17,8 @@
 //! # setting.n_max: 3
 //! # setting.l: all
 //! # setting.digits: 20
+//! # setting.goal: absolute
 //! # setting.method: green
-//! # setting.gauge: velocity
 //! n,l,ln_k0,abs_err,method,digits,bits,seconds,check
 //! 1,0,2.9841285557654984...,1.0e-23,green,20,160,0.012,84a4a5f2a12dcfb1
 //! ```
@@ -28,8 +28,9 @@
 //! Reading a table refuses a row whose checksum does not match (a value
 //! changed by hand, a flipped byte, two lines run together), a row whose
 //! error estimate is negative or not a finite number, and a row whose error
-//! is above the goal its digits claim (more than 1.1 x 10^-digits: the goal,
-//! plus what rounding the printed error up to two digits can add). The
+//! is above the goal it claims (more than 1.1 times 10^-digits, or
+//! 10^-digits |ln k0| for a significant goal: the factor is what rounding
+//! the printed error up to two digits can add). The
 //! checksum detects changes; it does not authenticate (anyone can compute
 //! it again).
 //! The provenance lines are the [`Provenance`] schema shared by every file
@@ -42,9 +43,14 @@
 //! ## JSON layout
 //! One object `{"meta": {...}, "rows": [...]}`: `meta` holds `format`
 //! (`kzero-table`), `format_version` (2), the provenance keys (a key that
-//! repeats becomes an array) and `settings`; each row is an object with the
-//! columns as keys (values and errors as decimal strings, `check` as in the
-//! CSV).
+//! repeats becomes an array; `threads` is an integer) and `settings`; each
+//! row is an object with the columns as keys (values, errors and seconds as
+//! decimal strings, counts as integers, `check` as in the CSV).
+//!
+//! `setting.goal` is `absolute` (`--digits`) or `significant`
+//! (`--significant`); `setting.gauge` is recorded only for methods that
+//! have a dipole form (spectral, both). Files without `setting.goal` are
+//! read as absolute.
 //!
 //! Format 2 (this one) added the `check` column. Files of format 1 are
 //! refused with a message saying so: they come from an older build, whose
@@ -65,7 +71,7 @@ use crate::build_info::{self, Provenance};
 use crate::compute::Computed;
 use crate::method::MethodChoice;
 use crate::shard::{Key, Shard};
-use kzero_bethe::{Gauge, UnknownName};
+use kzero_bethe::{Gauge, Goal, UnknownName};
 use serde_json::{json, Map, Value};
 use std::collections::BTreeSet;
 use std::str::FromStr;
@@ -207,11 +213,15 @@ pub struct TableSettings {
     pub n_max: u32,
     /// Angular momenta.
     pub l: LSelect,
-    /// Requested digits (absolute error below 10^-digits).
+    /// Requested digits: absolute error below 10^-digits, or digits
+    /// significant digits (see `goal`).
     pub digits: u32,
+    /// The kind of goal `digits` sets (recorded as `setting.goal`).
+    pub goal: Goal,
     /// Method(s).
     pub method: MethodChoice,
-    /// Dipole form of the spectral method.
+    /// Dipole form of the spectral method (not recorded for the green
+    /// method, which has none).
     pub gauge: Gauge,
 }
 
@@ -263,6 +273,7 @@ impl TableSettings {
             n_max: n_max as u32,
             l,
             digits,
+            goal: Goal::Absolute,
             method,
             gauge,
         };
@@ -272,16 +283,27 @@ impl TableSettings {
         Ok(s)
     }
 
-    /// The settings as (key, value) pairs in a fixed order.
+    /// The same settings with the goal `goal` (absolute by default).
+    pub fn with_goal(mut self, goal: Goal) -> TableSettings {
+        self.goal = goal;
+        self
+    }
+
+    /// The settings as (key, value) pairs in a fixed order. The gauge is
+    /// left out for the green method (it has no dipole form).
     pub fn pairs(&self) -> Vec<(&'static str, String)> {
-        vec![
+        let mut v = vec![
             ("n_min", self.n_min.to_string()),
             ("n_max", self.n_max.to_string()),
             ("l", self.l.render()),
             ("digits", self.digits.to_string()),
+            ("goal", self.goal.name().to_string()),
             ("method", self.method.name().to_string()),
-            ("gauge", self.gauge.name().to_string()),
-        ]
+        ];
+        if self.method != MethodChoice::Green {
+            v.push(("gauge", self.gauge.name().to_string()));
+        }
+        v
     }
 
     fn from_lookup(get: &dyn Fn(&str) -> Option<String>) -> Result<Self, FormatProblem> {
@@ -295,14 +317,25 @@ impl TableSettings {
         let method: MethodChoice = need("method")?
             .parse()
             .map_err(|_| FormatProblem::UnknownMethod)?;
-        let gauge: Gauge = need("gauge")?
-            .parse()
-            .map_err(|_| FormatProblem::UnknownGauge)?;
+        // the green method records no gauge
+        let gauge: Gauge = match (get("gauge"), method) {
+            (None, MethodChoice::Green) => Gauge::Velocity,
+            (g, _) => g
+                .ok_or(FormatProblem::MissingSetting("gauge"))?
+                .parse()
+                .map_err(|_| FormatProblem::UnknownGauge)?,
+        };
+        // tables written before goals existed have absolute goals
+        let goal = match get("goal") {
+            None => Goal::Absolute,
+            Some(g) => Goal::from_name(&g).ok_or(FormatProblem::UnknownGoal)?,
+        };
         Ok(TableSettings {
             n_min: num("n_min")?,
             n_max: num("n_max")?,
             l,
             digits: num("digits")?,
+            goal,
             method,
             gauge,
         })
@@ -334,18 +367,32 @@ impl TableSettings {
 
     /// The keys in which `self` and `other` differ (empty when they agree).
     pub fn differences(&self, other: &TableSettings) -> Differences {
-        Differences(
-            self.pairs()
-                .into_iter()
-                .zip(other.pairs())
-                .filter(|(a, b)| a.1 != b.1)
-                .map(|(a, b)| SettingDifference {
-                    key: a.0,
-                    first: a.1,
-                    second: b.1,
-                })
-                .collect(),
-        )
+        let theirs = other.pairs();
+        let mut diffs: Vec<SettingDifference> = Vec::new();
+        for (k, v) in self.pairs() {
+            let w = theirs
+                .iter()
+                .find(|(k2, _)| *k2 == k)
+                .map_or_else(|| "-".to_string(), |(_, w)| w.clone());
+            if v != w {
+                diffs.push(SettingDifference {
+                    key: k,
+                    first: v,
+                    second: w,
+                });
+            }
+        }
+        // keys only the other side records (the gauge of a non-green method)
+        for (k, w) in theirs {
+            if !self.pairs().iter().any(|(k2, _)| *k2 == k) {
+                diffs.push(SettingDifference {
+                    key: k,
+                    first: "-".into(),
+                    second: w,
+                });
+            }
+        }
+        Differences(diffs)
     }
 
     /// The compute request of every row.
@@ -353,7 +400,10 @@ impl TableSettings {
         crate::batch::Request {
             method: self.method,
             gauge: self.gauge,
-            settings: kzero_bethe::Settings::with_digits(self.digits),
+            settings: kzero_bethe::Settings {
+                digits: self.digits,
+                goal: self.goal,
+            },
         }
     }
 }
@@ -453,8 +503,7 @@ impl Row {
         m.insert("method".into(), json!(self.method.name()));
         m.insert("digits".into(), json!(self.digits));
         m.insert("bits".into(), json!(self.bits));
-        let secs: f64 = self.seconds.parse().unwrap_or(0.0);
-        m.insert("seconds".into(), json!(secs));
+        m.insert("seconds".into(), json!(self.seconds));
         if let Some((v, e, d)) = &self.both {
             m.insert("ln_k0_spectral".into(), json!(v));
             m.insert("abs_err_spectral".into(), json!(e));
@@ -548,9 +597,14 @@ impl Table {
         meta.insert("format".into(), json!(JSON_FORMAT));
         meta.insert("format_version".into(), json!(FORMAT_VERSION));
         for (k, v) in &self.prov {
+            // the thread count is an integer (a merged table says in words)
+            let val = match (k.as_str(), v.parse::<u64>()) {
+                ("threads", Ok(t)) => json!(t),
+                _ => json!(v),
+            };
             match meta.get_mut(k) {
                 None => {
-                    meta.insert(k.clone(), json!(v));
+                    meta.insert(k.clone(), val);
                 }
                 Some(Value::Array(a)) => a.push(json!(v)),
                 Some(old) => {
@@ -647,6 +701,7 @@ pub(crate) mod tests {
             n_max: 3,
             l: LSelect::All,
             digits: 10,
+            goal: Goal::Absolute,
             method: MethodChoice::Green,
             gauge: Gauge::Velocity,
         }
@@ -737,7 +792,6 @@ pub(crate) mod tests {
             ("-0.030016708630", "-0.030016708631"),
             ("1.0e-12", "1.1e-12"),
             ("0.010", "0.011"),
-            ("\"seconds\": 0.01", "\"seconds\": 0.02"),
         ] {
             for text in [&csv, &json] {
                 if text.contains(from) {
@@ -756,8 +810,8 @@ pub(crate) mod tests {
         for (err, want) in [
             ("-5", "is negative"),
             ("-0.0", "is negative"),
-            ("1e5", "above the goal 1e-10"),
-            ("1.2e-10", "above the goal 1e-10"),
+            ("1e5", "above the goal of 10 digits"),
+            ("1.2e-10", "above the goal of 10 digits"),
             ("NaN", "not a number"),
             ("inf", "not a number"),
         ] {
@@ -813,5 +867,36 @@ pub(crate) mod tests {
                 .to_string(),
             "--l = -1: must be a non-negative integer"
         );
+    }
+
+    #[test]
+    fn goal_is_recorded_and_gauge_only_where_it_applies() {
+        let mut t = table();
+        t.settings = t.settings.clone().with_goal(Goal::Significant);
+        let csv = t.to_csv();
+        assert!(csv.contains("# setting.goal: significant\n"));
+        assert!(!csv.contains("setting.gauge"), "green records no gauge");
+        let back = parse_table(&csv).unwrap();
+        assert_eq!(back.settings.goal, Goal::Significant);
+        assert_eq!(back.settings.request().settings.goal, Goal::Significant);
+        let j: Value = serde_json::from_str(&t.to_json()).unwrap();
+        assert_eq!(j["meta"]["settings"]["goal"], "significant");
+        assert_eq!(j["meta"]["threads"], 1);
+        assert_eq!(j["rows"][0]["seconds"], "0.010");
+        assert_eq!(parse_table(&t.to_json()).unwrap().settings, t.settings);
+        // an absolute table differs from it in the goal only
+        let d = table().settings.differences(&t.settings);
+        assert_eq!(d.0.len(), 1);
+        assert_eq!(d.0[0].key, "goal");
+        // the spectral method records its gauge; tables without a goal line
+        // (earlier files) read as absolute
+        let mut sp = table();
+        sp.settings.method = MethodChoice::Spectral;
+        sp.rows[0].method = MethodChoice::Spectral;
+        let csv = sp.to_csv().replace("# setting.goal: absolute\n", "");
+        assert!(csv.contains("# setting.gauge: velocity\n"));
+        assert_eq!(parse_table(&csv).unwrap().settings.goal, Goal::Absolute);
+        let bad = t.to_csv().replace("goal: significant", "goal: relative");
+        assert!(parse_table(&bad).is_err());
     }
 }

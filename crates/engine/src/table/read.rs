@@ -6,6 +6,7 @@ use super::{
 };
 use crate::method::MethodChoice;
 use crate::shard::Shard;
+use kzero_bethe::Goal;
 use serde_json::Value;
 use std::fs;
 use std::path::Path;
@@ -145,9 +146,13 @@ fn json_row(v: &Value, settings: &TableSettings) -> Result<ReadRow, FormatProble
             .map(str::to_string)
             .ok_or(FormatProblem::RowFieldNotString(k))
     };
+    // a decimal string (a number in files of earlier versions)
     let secs = o
         .get("seconds")
-        .and_then(Value::as_f64)
+        .and_then(|v| {
+            v.as_f64()
+                .or_else(|| v.as_str().and_then(|t| t.parse().ok()))
+        })
         .ok_or(FormatProblem::RowSecondsMissing)?;
     Ok(Row {
         n: int("n")?,
@@ -189,15 +194,20 @@ fn check_row(read: &ReadRow, settings: &TableSettings) -> Result<(), FormatProbl
     if r.digits != settings.digits || r.method != settings.method {
         return Err(FormatProblem::RowSettings(r.key()));
     }
-    let mut errors = vec![("abs_err", r.abs_err.as_str())];
-    if let Some((_, e, _)) = &r.both {
-        errors.push(("abs_err_spectral", e.as_str()));
+    let mut errors = vec![("abs_err", r.abs_err.as_str(), r.ln_k0.as_str())];
+    if let Some((v, e, _)) = &r.both {
+        errors.push(("abs_err_spectral", e.as_str(), v.as_str()));
     }
-    // The goal |error| < 10^-digits; the printed error is rounded up to two
-    // digits and covers the rounding of the printed value, which can lift
-    // it to 1.1 x 10^-digits, not beyond.
-    let bound: f64 = format!("1.1e-{}", r.digits).parse().unwrap_or(0.0);
-    for (column, text) in errors {
+    // The goal: |error| < 10^-digits (absolute) or <= 10^-digits |value|
+    // (significant). The printed error is rounded up to two digits and
+    // covers the rounding of the printed value, which can lift it to 1.1
+    // times the goal, not beyond.
+    let unit: f64 = format!("1.1e-{}", r.digits).parse().unwrap_or(0.0);
+    for (column, text, value_text) in errors {
+        let bound = match settings.goal {
+            Goal::Significant => unit * value_text.parse::<f64>().unwrap_or(0.0).abs(),
+            _ => unit,
+        };
         let value = text.to_string();
         let e: f64 = text
             .parse()

@@ -1,0 +1,759 @@
+//! The logarithmic sums by the photon-energy integral with the Sturmian
+//! Green's function.
+//!
+//! For a source phi_a = (H - E_n)^-a p|n l> (same-n states left out) the
+//! resolvent F_a(w) = <phi_a|(H - E_n + w)^-1|phi_a> = sum_m c_m d_m^(-2a)/(d_m + w)
+//! is the Sturmian sum of [`crate::green`] with phi_a in place of p|n l>.
+//! With c'_m = c_m d_m^(-2a), M'_i = sum c' d^i (exact), w0 = 1/(2n^2), and
+//! for any w0 > 0
+//!
+//! ```text
+//! e = 1:  sum c' d ln|d| = M'_1 ln w0 - int_0^inf [M'_0 - w F_a(w) - M'_1/(w + w0)] dw
+//! e = 0:  sum c' ln|d|   = M'_0 ln w0 - int_0^inf [F_a(w) - M'_0/(w + w0)] dw
+//! ```
+//!
+//! (principal values at the lower states), so sum c d^(k-1) ln|d| with
+//! k = e - 2a + 1 comes from the same samples F_a for e = 0 and e = 1. In the
+//! variable nu (E_n - w = -1/(2 nu^2), w + w0 = 1/(2 nu^2), dw = -dnu/nu^3)
+//! the integrands are [M'_0 - w F_a - 2 M'_1 nu^2]/nu^3 and
+//! [F_a - 2 M'_0 nu^2]/nu^3. A lower state (n' < n, d < 0) adds
+//! A [1/(n' - nu) - 1/(n' + nu)] with A = c' d (e = 1) or A = c' (e = 0):
+//! these terms are subtracted from the samples, the image terms integrated in
+//! closed form (A ln((n + n')/n')) and the lower states' own terms A ln|d|
+//! added exactly, as for ln k0. All k share the nodes, and the sources of a
+//! channel share the Meixner recurrences of each node.
+//!
+//! The panels, the pilot for the working precision, the pairs of Gauss rules
+//! and the error budget are those of the ln k0 driver, applied to the vector
+//! of integrals: a pair of rules must agree on every component (measured on
+//! the absolute scale of its L(k)) before a panel is accepted.
+
+use super::chain::StateChains;
+use crate::green::meixner::{channel_j_sources, JValue, NuPoint};
+use crate::green::meter::Meter;
+use crate::green::panels::{panel_layout, Panel};
+use crate::green::quad;
+use crate::green::rates::{
+    even_nodes, finer_nodes, nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE,
+    MAX_NODES, MAX_RATE,
+};
+use crate::green::scale::{exp2_of, quantize};
+use crate::BetheError;
+use kzero_basis::gordon::radial_dipole;
+use kzero_basis::sturmian::matched_expansion;
+use kzero_basis::BoundState;
+use rayon::prelude::*;
+use rug::{Assign, Float, Rational};
+
+const METHOD: &str = "green";
+
+/// Most pairs of rules tried on one panel.
+const MAX_TRIES: u32 = 8;
+/// Bits on top of the worst pilot loss near a panel.
+const GUARD_MARGIN: i32 = 24;
+
+/// The integrals of one state: for each requested k, the logarithmic sum
+/// sum_m c_m d_m^(k-1) ln(2|d_m|) (hartree, velocity form) and its error
+/// estimate, in the order of the requested powers.
+pub(crate) struct Out {
+    pub values: Vec<(Float, f64)>,
+    pub bits: u32,
+    pub nodes: usize,
+    pub terms: usize,
+}
+
+/// One component: the power k, its source index a and e (k = e - 2a + 1).
+#[derive(Debug, Clone)]
+struct Comp {
+    a: usize,
+    e: u32,
+    /// 2^(k+1)/3: from the hartree sum to L(k).
+    factor: f64,
+    /// M'_0 = M_(-2a).
+    m0: Rational,
+    /// M'_1 = M_(1-2a) (used for e = 1).
+    m1: Rational,
+}
+
+/// A lower state of one channel: n', c = w |p|^2 and d (exact).
+#[derive(Debug, Clone)]
+struct Lower {
+    nprime: u32,
+    c: Rational,
+    d: Rational,
+}
+
+/// Exact, precision-independent data.
+struct Exact {
+    n: u32,
+    /// Per channel: L, beta, w S2, and the coefficient vectors of the sources.
+    chans: Vec<(u32, u32, Rational, Vec<Vec<Rational>>)>,
+    lower: Vec<Lower>,
+    comps: Vec<Comp>,
+}
+
+impl Exact {
+    fn new(sc: &StateChains, ks: &[i32]) -> Result<Self, BetheError> {
+        let n = sc.n;
+        let st = BoundState::hydrogen(i64::from(n), i64::from(sc.l))?;
+        let mut comps = Vec::with_capacity(ks.len());
+        let mut need = 0usize;
+        for &k in ks {
+            let a = ((2 - k) / 2) as usize;
+            let e = (k - 1 + 2 * a as i32) as u32;
+            need = need.max(a);
+            let moment = |j: i32| {
+                sc.moment(j)
+                    .cloned()
+                    .expect("moment within the chain depth")
+            };
+            comps.push(Comp {
+                a,
+                e,
+                factor: 2f64.powi(k + 1) / 3.0,
+                m0: moment(-2 * a as i32),
+                m1: if e == 1 {
+                    moment(1 - 2 * a as i32)
+                } else {
+                    Rational::new()
+                },
+            });
+        }
+        let mut chans = Vec::new();
+        let mut lower = Vec::new();
+        for ch in &sc.chains {
+            let big_l = ch.big_l;
+            let alpha = 2 * big_l + 1;
+            let mut coefs = Vec::with_capacity(need + 1);
+            let mut s2 = Rational::new();
+            for phi in ch.phi.iter().take(need + 1) {
+                let f = phi.to_polyexp(n, &ch.rho);
+                let exp = matched_expansion(&f, big_l)?;
+                s2 = &exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha));
+                coefs.push(exp.coef);
+            }
+            chans.push((
+                big_l,
+                2 * big_l + 2,
+                Rational::from(&ch.weight * &s2),
+                coefs,
+            ));
+            for np in (big_l + 1)..n {
+                let low = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
+                let r = radial_dipole(&low, &st)?;
+                let d = low.energy() - st.energy();
+                let c = Rational::from(&d * &d) * r.square() * &ch.weight;
+                lower.push(Lower { nprime: np, c, d });
+            }
+        }
+        Ok(Exact {
+            n,
+            chans,
+            lower,
+            comps,
+        })
+    }
+
+    /// c' = c d^(-2a) of a lower state for component `c`, and its amplitude A.
+    fn amplitude(&self, low: &Lower, comp: &Comp) -> (Rational, Rational) {
+        let mut cp = low.c.clone();
+        for _ in 0..comp.a {
+            cp /= Rational::from(&low.d * &low.d);
+        }
+        let amp = if comp.e == 1 {
+            Rational::from(&cp * &low.d)
+        } else {
+            cp.clone()
+        };
+        (cp, amp)
+    }
+
+    fn first_lower(&self) -> Option<u32> {
+        self.lower.iter().map(|p| p.nprime).min()
+    }
+
+    /// Per component: the exact part (lower states, image terms, the
+    /// ln w0 term) plus ln 2 times the power sum (units Z^2 Ry in the log).
+    fn exact_parts(&self, prec: u32) -> Vec<Float> {
+        let nn = u64::from(self.n) * u64::from(self.n);
+        let ln_w0 = Float::with_val(prec, Rational::from((1u64, 2 * nn))).ln();
+        let ln2 = Float::with_val(prec, rug::float::Constant::Log2);
+        self.comps
+            .iter()
+            .map(|comp| {
+                let mut s = Float::with_val(prec, 0);
+                // the moment that multiplies ln w0, minus the lower states' share
+                let mut up = if comp.e == 1 {
+                    comp.m1.clone()
+                } else {
+                    comp.m0.clone()
+                };
+                for low in &self.lower {
+                    let (_, amp) = self.amplitude(low, comp);
+                    let ln_abs_d = Float::with_val(prec, -low.d.clone()).ln();
+                    let ln_ratio =
+                        Float::with_val(prec, Rational::from((self.n + low.nprime, low.nprime)))
+                            .ln();
+                    s += Float::with_val(prec, &amp) * (ln_abs_d - ln_ratio);
+                    up -= amp;
+                }
+                s += Float::with_val(prec, &up) * &ln_w0;
+                let total = if comp.e == 1 { &comp.m1 } else { &comp.m0 };
+                s += Float::with_val(prec, total) * &ln2;
+                s
+            })
+            .collect()
+    }
+
+    fn at(&self, prec: u32) -> Integrand {
+        Integrand {
+            prec,
+            n: self.n,
+            chans: self
+                .chans
+                .iter()
+                .map(|(big_l, beta, ws2, coefs)| ChanFloat {
+                    big_l: *big_l,
+                    beta: *beta,
+                    ws2: Float::with_val(prec, ws2),
+                    coefs: coefs
+                        .iter()
+                        .map(|v| v.iter().map(|q| Float::with_val(prec, q)).collect())
+                        .collect(),
+                })
+                .collect(),
+            lower: self
+                .lower
+                .iter()
+                .map(|low| {
+                    (
+                        Float::with_val(prec, low.nprime),
+                        self.comps
+                            .iter()
+                            .map(|c| Float::with_val(prec, &self.amplitude(low, c).1))
+                            .collect(),
+                    )
+                })
+                .collect(),
+            comps: self
+                .comps
+                .iter()
+                .map(|c| CompFloat {
+                    a: c.a,
+                    e: c.e,
+                    m0: Float::with_val(prec, &c.m0),
+                    two_m0: Float::with_val(prec, Rational::from(&c.m0 * 2u32)),
+                    two_m1: Float::with_val(prec, Rational::from(&c.m1 * 2u32)),
+                    factor_exp: c.factor.log2().ceil() as i32,
+                })
+                .collect(),
+        }
+    }
+}
+
+struct ChanFloat {
+    big_l: u32,
+    beta: u32,
+    ws2: Float,
+    coefs: Vec<Vec<Float>>,
+}
+
+struct CompFloat {
+    a: usize,
+    e: u32,
+    m0: Float,
+    two_m0: Float,
+    two_m1: Float,
+    factor_exp: i32,
+}
+
+/// Everything the integrand needs at one precision.
+struct Integrand {
+    prec: u32,
+    n: u32,
+    chans: Vec<ChanFloat>,
+    /// (n', amplitude A per component).
+    lower: Vec<(Float, Vec<Float>)>,
+    comps: Vec<CompFloat>,
+}
+
+/// The integrands of every component at one node, their ln(mu)
+/// coefficients and the cancellation each one saw (bits).
+struct Sample {
+    values: Vec<Float>,
+    logs: Vec<Float>,
+    losses: Vec<i32>,
+}
+
+impl Integrand {
+    fn sample(&self, nu: &Float) -> Sample {
+        let prec = self.prec;
+        let n = self.n;
+        let pt = NuPoint::new(n, nu);
+        let nu2 = Float::with_val(prec, nu * nu);
+        let nu3 = Float::with_val(prec, &nu2 * nu);
+        let nn = u64::from(n) * u64::from(n);
+        let w = Float::with_val(
+            prec,
+            Float::with_val(prec, n - Float::with_val(prec, nu)) * Float::with_val(prec, nu + n),
+        ) / (Float::with_val(prec, &nu2 * 2u32) * nn);
+        let sources = self.chans.iter().map(|c| c.coefs.len()).max().unwrap_or(0);
+        let mut jsum = vec![Float::with_val(prec, 0); sources];
+        let mut jlog = vec![Float::with_val(prec, 0); sources];
+        let mut jmeter = Meter::new();
+        // channels come as [L = l-1, L = l+1]: the upper one first; its
+        // Phi(z,1,a+2) gives Phi(z,1,a) = 1/a + z/(a+1) + z^2 Phi(z,1,a+2)
+        let mut phi_up: Option<Float> = None;
+        let top_l = self.chans.last().map_or(0, |c| c.big_l);
+        for ch in self.chans.iter().rev() {
+            let hint = match (&phi_up, ch.big_l + 2 == top_l) {
+                (Some(pu), true) => {
+                    let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, nu));
+                    let a1 = Float::with_val(prec, &a + 1u32);
+                    let mut v = Float::with_val(prec, &pt.zp.z * &pt.zp.z) * pu;
+                    v += Float::with_val(prec, &pt.zp.z / &a1);
+                    v += Float::with_val(prec, a.recip_ref());
+                    Some(v)
+                }
+                _ => None,
+            };
+            let mut m = Meter::new();
+            let (jv, phi): (Vec<JValue>, Option<Float>) = channel_j_sources(
+                ch.big_l,
+                ch.beta,
+                &ch.ws2,
+                &ch.coefs,
+                &pt,
+                &mut m,
+                hint.as_ref(),
+            );
+            if phi_up.is_none() {
+                phi_up = phi;
+            }
+            jmeter.merge(&m);
+            for (s, v) in jv.iter().enumerate() {
+                jsum[s] += &v.j;
+                jlog[s] += &v.log_coef;
+            }
+        }
+        let mut values = Vec::with_capacity(self.comps.len());
+        let mut logs = Vec::with_capacity(self.comps.len());
+        let mut losses = Vec::with_capacity(self.comps.len());
+        let mut t = Float::new(prec);
+        for (ci, c) in self.comps.iter().enumerate() {
+            let mut meter = jmeter.clone();
+            let j = &jsum[c.a];
+            let (f, lc) = if c.e == 1 {
+                let wj = Float::with_val(prec, &w * j);
+                let sub = Float::with_val(prec, &c.two_m1 * &nu2);
+                meter.term(&c.m0);
+                meter.term(&wj);
+                meter.term(&sub);
+                let mut f = Float::with_val(prec, &c.m0 - &wj);
+                f -= sub;
+                meter.result(&f);
+                let lc = Float::with_val(prec, &w * &jlog[c.a]) / &nu3;
+                (f, lc)
+            } else {
+                let sub = Float::with_val(prec, &c.two_m0 * &nu2);
+                meter.term(j);
+                meter.term(&sub);
+                let f = Float::with_val(prec, j - &sub);
+                meter.result(&f);
+                let lc = -Float::with_val(prec, &jlog[c.a] / &nu3);
+                (f, lc)
+            };
+            let mut value = f / &nu3;
+            let mut acc = Float::with_val(prec, 0);
+            let mut biggest = Float::with_val(prec, 0);
+            for (np, amps) in &self.lower {
+                t.assign(np - nu);
+                t.recip_mut();
+                t *= &amps[ci];
+                if t.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
+                    biggest.assign(&t);
+                }
+                acc += &t;
+            }
+            meter.term(&value);
+            meter.term(&biggest);
+            value -= &acc;
+            meter.result(&value);
+            values.push(value);
+            logs.push(lc);
+            losses.push(meter.loss_bits);
+        }
+        Sample {
+            values,
+            logs,
+            losses,
+        }
+    }
+}
+
+/// The integrals of every component over one panel with `nodes` nodes.
+/// Returns the integrals and the loss (bits) on the absolute scale of L(k):
+/// 2^(loss - prec) is the rounding level of the panel.
+fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i32) {
+    let prec = ig.prec;
+    let r = quad::rule(nodes, prec);
+    let bf = Float::with_val(prec, panel.start);
+    let h = Float::with_val(prec, Float::with_val(prec, panel.end) - &bf);
+    let h_exp = exp2_of(&h);
+    let nc = ig.comps.len();
+    let parts: Vec<(Vec<Float>, i32)> = if panel.first {
+        let ln_h = Float::with_val(prec, h.ln_ref());
+        r.x.par_iter()
+            .zip(r.w.par_iter().zip(r.wlog.par_iter()))
+            .map(|(x, (w, wl))| {
+                let nu = Float::with_val(prec, x * &h);
+                let s = ig.sample(&nu);
+                let ln_nu = Float::with_val(prec, nu.ln_ref());
+                let wlt = Float::with_val(prec, wl + Float::with_val(prec, w * &ln_h));
+                let mut out = Vec::with_capacity(nc);
+                let mut loss = i32::MIN;
+                for c in 0..nc {
+                    let an = Float::with_val(
+                        prec,
+                        &s.values[c] - Float::with_val(prec, &s.logs[c] * &ln_nu),
+                    );
+                    let pa = Float::with_val(prec, &an * w);
+                    let pl = Float::with_val(prec, &s.logs[c] * &wlt);
+                    let big = exp2_of(&pa).max(exp2_of(&pl)) + h_exp + ig.comps[c].factor_exp;
+                    loss = loss.max(s.losses[c] + big);
+                    out.push(pa + pl);
+                }
+                (out, loss)
+            })
+            .collect()
+    } else {
+        r.x.par_iter()
+            .zip(r.w.par_iter())
+            .map(|(x, w)| {
+                let nu = Float::with_val(prec, &bf + Float::with_val(prec, x * &h));
+                let s = ig.sample(&nu);
+                let mut out = Vec::with_capacity(nc);
+                let mut loss = i32::MIN;
+                for c in 0..nc {
+                    let v = Float::with_val(prec, &s.values[c] * w);
+                    let big = exp2_of(&v) + h_exp + ig.comps[c].factor_exp;
+                    loss = loss.max(s.losses[c] + big);
+                    out.push(v);
+                }
+                (out, loss)
+            })
+            .collect()
+    };
+    let mut sums = vec![Float::with_val(prec, 0); nc];
+    let mut loss = i32::MIN;
+    for (v, l) in &parts {
+        for (s, x) in sums.iter_mut().zip(v) {
+            *s += x;
+        }
+        loss = loss.max(*l);
+    }
+    (sums.into_iter().map(|s| s * &h).collect(), loss)
+}
+
+/// One pilot point: nu, loss bits, and the exponent of the largest
+/// contribution scale factor nu |I| over the components.
+#[derive(Debug, Clone, Copy)]
+struct PilotPoint {
+    nu: f64,
+    loss: i32,
+    mag: i32,
+}
+
+/// The integrand at 24 log-spaced photon energies at two precisions: the
+/// loss of every component on the absolute scale of its L(k).
+fn pilot(ex: &Exact, bits: u32) -> Vec<PilotPoint> {
+    let p_lo = quantize(bits + 64);
+    let p_hi = p_lo + 128;
+    let lo = ex.at(p_lo);
+    let hi = ex.at(p_hi);
+    let nf = f64::from(ex.n);
+    let count = 24;
+    let (lo_nu, hi_nu) = (1e-5, 0.99 * nf);
+    let points: Vec<f64> = (0..count)
+        .map(|i| {
+            let t = f64::from(i) / f64::from(count - 1);
+            lo_nu * (hi_nu / lo_nu).powf(t) * 0.998_7
+        })
+        .collect();
+    let found: Vec<(i32, i32)> = points
+        .par_iter()
+        .map(|&x| {
+            let a = lo.sample(&Float::with_val(p_lo, x));
+            let b = hi.sample(&Float::with_val(p_hi, x));
+            let mut loss = i32::MIN;
+            let mut mag = i32::MIN;
+            for (c, comp) in lo.comps.iter().enumerate() {
+                let (va, vb) = (&a.values[c], &b.values[c]);
+                if !va.is_finite() || !vb.is_finite() {
+                    return (p_lo as i32 + 64, 0);
+                }
+                let weight = Float::with_val(p_hi, x) * 2f64.powi(comp.factor_exp);
+                let m = exp2_of(&Float::with_val(p_hi, vb * &weight));
+                let log_part = Float::with_val(p_hi, &b.logs[c] * x.ln()) * &weight;
+                let metered = a.losses[c] + m.max(exp2_of(&log_part));
+                let d = Float::with_val(p_hi, Float::with_val(p_hi, va) - vb).abs();
+                let seen = if d.is_zero() {
+                    i32::MIN
+                } else {
+                    p_lo as i32 + exp2_of(&Float::with_val(p_hi, &d * &weight))
+                };
+                loss = loss.max(seen.max(metered));
+                mag = mag.max(m);
+            }
+            (loss, mag)
+        })
+        .collect();
+    points
+        .into_iter()
+        .zip(found)
+        .map(|(nu, (loss, mag))| PilotPoint { nu, loss, mag })
+        .collect()
+}
+
+/// (guard bits, magnitude exponent) of a panel from the pilot points within
+/// a factor 2 of it (all points below 2 nu1 for the first panel), else the
+/// nearest one.
+fn panel_plan(profile: &[PilotPoint], panel: &Panel) -> (u32, i32) {
+    let (lo, hi) = (panel.start / 2.0, panel.end * 2.0);
+    let mut pts: Vec<PilotPoint> = profile
+        .iter()
+        .filter(|p| (lo..=hi).contains(&p.nu) || (panel.first && p.nu <= hi))
+        .copied()
+        .collect();
+    if pts.is_empty() {
+        let mid = 0.5 * (panel.start + panel.end);
+        if let Some(p) = profile.iter().min_by(|a, b| {
+            (a.nu - mid)
+                .abs()
+                .partial_cmp(&(b.nu - mid).abs())
+                .unwrap_or(std::cmp::Ordering::Equal)
+        }) {
+            pts.push(*p);
+        }
+    }
+    let worst = pts.iter().map(|p| p.loss).max().unwrap_or(0);
+    let mag = pts.iter().map(|p| p.mag).max().unwrap_or(0) + 1;
+    ((worst.max(0) + GUARD_MARGIN) as u32, mag)
+}
+
+struct PanelResult {
+    values: Vec<Float>,
+    errs: Vec<f64>,
+    nodes: usize,
+    prec: u32,
+    rate: f64,
+}
+
+/// Integrands at several precisions, built on first use.
+struct ByPrec<'a> {
+    ex: &'a Exact,
+    built: Vec<Integrand>,
+}
+
+impl ByPrec<'_> {
+    fn at(&mut self, prec: u32) -> &Integrand {
+        let i = match self.built.iter().position(|p| p.prec == prec) {
+            Some(i) => i,
+            None => {
+                self.built.push(self.ex.at(prec));
+                self.built.len() - 1
+            }
+        };
+        &self.built[i]
+    }
+}
+
+/// Integrates one panel until every component's pair of rules agrees to
+/// `tol` on the scale of its L(k) (the ln k0 driver's rule, applied to the
+/// vector). `Err(best)` when it does not within [`MAX_TRIES`] pairs.
+fn converge_panel(
+    probs: &mut ByPrec,
+    panel: &Panel,
+    bits: u32,
+    mut guard: u32,
+    mut nodes_a: usize,
+    tol: f64,
+) -> Result<PanelResult, f64> {
+    let factors: Vec<f64> = probs.ex.comps.iter().map(|c| c.factor).collect();
+    let mut best = f64::INFINITY;
+    let mut last_err = f64::INFINITY;
+    let mut a_high = false;
+    let mut coarse: Option<(Vec<Float>, i32)> = None;
+    let short_of_bits = |loss: i32, v: &[Float], guard: u32| {
+        (loss + 16 > guard as i32 || v.iter().any(|x| !x.is_finite()))
+            .then(|| (loss.max(guard as i32) + GUARD_MARGIN) as u32)
+    };
+    for _ in 0..MAX_TRIES {
+        let base = quantize(bits + guard);
+        let (prec_a, prec_b) = if a_high {
+            (base + 32, base)
+        } else {
+            (base, base + 32)
+        };
+        let (va, loss_a) = match coarse.take() {
+            Some(c) => c,
+            None => panel_integral(probs.at(prec_a), panel, nodes_a),
+        };
+        if let Some(g) = short_of_bits(loss_a, &va, guard) {
+            guard = g;
+            a_high = false;
+            continue;
+        }
+        let nodes_b = finer_nodes(nodes_a);
+        let (vb, loss_b) = panel_integral(probs.at(prec_b), panel, nodes_b);
+        let loss = loss_a.max(loss_b);
+        if let Some(g) = short_of_bits(loss, &vb, guard) {
+            guard = g;
+            a_high = false;
+            continue;
+        }
+        let floor = 2f64.powi(loss - base as i32);
+        let errs: Vec<f64> = va
+            .iter()
+            .zip(&vb)
+            .zip(&factors)
+            .map(|((x, y), f)| {
+                let d = Float::with_val(prec_a.max(prec_b), x - y).abs().to_f64() * f;
+                d.max(floor) * 2.0
+            })
+            .collect();
+        let err = errs.iter().copied().fold(0.0f64, f64::max);
+        best = best.min(err);
+        if err < tol {
+            let size = vb
+                .iter()
+                .zip(&factors)
+                .map(|(v, f)| v.to_f64().abs() * f)
+                .fold(0.0f64, f64::max);
+            let rate = (size.max(err).log2() - err.log2()) / nodes_a as f64;
+            return Ok(PanelResult {
+                values: vb,
+                errs,
+                nodes: nodes_b,
+                prec: prec_a.max(prec_b),
+                rate,
+            });
+        }
+        if nodes_b >= MAX_NODES {
+            break;
+        }
+        if err > last_err * 2f64.powi(-8) {
+            // more nodes did not help: rounding sets the difference
+            last_err = f64::INFINITY;
+            guard += 32;
+            a_high = false;
+            continue;
+        }
+        last_err = err;
+        let gained = BITS_PER_NODE * (nodes_b - nodes_a) as f64;
+        if err.log2() - gained < tol.log2() - 4.0 {
+            coarse = Some((vb, loss_b));
+            nodes_a = nodes_b;
+            a_high = !a_high;
+        } else {
+            let more = (err.log2() - tol.log2() + 4.0) / BITS_PER_NODE;
+            nodes_a = even_nodes(nodes_a as f64 + more).max(finer_nodes(nodes_b));
+        }
+    }
+    Err(best)
+}
+
+/// The logarithmic sums of the powers `ks` (sorted, in range) for the state
+/// of `sc`, each to an absolute error below 10^-digits on its L(k).
+///
+/// # Errors
+/// [`BetheError::NoConvergence`] when a panel does not converge.
+pub(crate) fn log_sums(sc: &StateChains, ks: &[i32], digits: u32) -> Result<Out, BetheError> {
+    let ex = Exact::new(sc, ks)?;
+    let goal = 10f64.powi(-(digits as i32));
+    let bits = ((f64::from(digits) + 2.0) * std::f64::consts::LOG2_10).ceil() as u32 + 8;
+    let profile = pilot(&ex, bits);
+    let panels = panel_layout(ex.n, ex.first_lower());
+    let tol = goal / panels.len() as f64;
+    let mut probs = ByPrec {
+        ex: &ex,
+        built: Vec::new(),
+    };
+    let nc = ex.comps.len();
+    let mut integrals: Vec<Vec<Float>> = Vec::with_capacity(panels.len());
+    let mut errs = vec![0.0f64; nc];
+    let (mut nodes, mut prec) = (0usize, 0u32);
+    let mut rate = FIRST_GUESS_RATE;
+    for panel in &panels {
+        let (guard, mag) = panel_plan(&profile, panel);
+        let start = if panel.first {
+            nodes_for(mag, tol, FIRST_PANEL_RATE, 4.0)
+        } else {
+            nodes_for(mag, tol, rate, 4.0)
+        };
+        match converge_panel(&mut probs, panel, bits, guard, start, tol) {
+            Ok(r) => {
+                if !panel.first {
+                    rate = r.rate.clamp(BITS_PER_NODE, MAX_RATE);
+                }
+                for (e, x) in errs.iter_mut().zip(&r.errs) {
+                    *e += x;
+                }
+                nodes += r.nodes;
+                prec = prec.max(r.prec);
+                integrals.push(r.values);
+            }
+            Err(best) => {
+                return Err(BetheError::NoConvergence {
+                    method: METHOD,
+                    n: sc.n,
+                    l: sc.l,
+                    achieved: best * panels.len() as f64,
+                    goal,
+                })
+            }
+        }
+    }
+    let worst = errs.iter().copied().fold(0.0f64, f64::max);
+    if worst >= goal {
+        return Err(BetheError::NoConvergence {
+            method: METHOD,
+            n: sc.n,
+            l: sc.l,
+            achieved: worst,
+            goal,
+        });
+    }
+    let mut values = ex.exact_parts(prec);
+    for panel_values in &integrals {
+        for (v, x) in values.iter_mut().zip(panel_values) {
+            *v -= x;
+        }
+    }
+    let terms = ex
+        .chans
+        .iter()
+        .map(|c| c.3.iter().map(Vec::len).sum::<usize>())
+        .sum();
+    Ok(Out {
+        values: values
+            .into_iter()
+            .zip(ex.comps.iter().zip(errs))
+            .map(|(v, (c, e))| (v, e / c.factor))
+            .collect(),
+        bits: prec,
+        nodes,
+        terms,
+    })
+}
+
+/// Relative cost of [`super::green_sums`] for (n, l) at `digits` with
+/// `count` powers (arbitrary units, comparable with
+/// [`crate::green::cost_estimate`] of the same state).
+pub fn cost_estimate(n: u32, l: u32, digits: u32, count: usize) -> f64 {
+    let nf = f64::from(n);
+    // the absolute goal on the largest sums (S(-4) ~ n^15) asks for more bits
+    let extra_digits = (15.0 * nf.log10()).min(40.0) * if count > 0 { 1.0 } else { 0.0 };
+    let base = crate::green::cost_estimate(n, l, digits + extra_digits as u32);
+    base * (1.0 + 0.1 * count as f64)
+}
