@@ -1,56 +1,30 @@
 //! `kzero shift`: the leading one-loop QED shift of a hydrogenic level from
 //! its Bethe logarithm, term by term, with an estimate of what is left out.
 //!
-//! The Bethe logarithm comes from the Green's-function engine; the assembly
-//! (coefficients, mass factors, constants, uncertainty rules) is the
-//! `kzero-qed` library.
+//! The Bethe logarithm comes from the engine's `compute` (Green's-function
+//! method, `kzero_engine::shift`); the assembly (coefficients, mass factors,
+//! constants, uncertainty rules) is the `kzero-qed` library.
 //!
-//! Table output (`--table --n-max N`), one row per level (n, l, j), sorted by
-//! (n, l, j). CSV columns (all shifts E/h in MHz, positive raises the level):
-//!
-//! | column | meaning |
-//! |---|---|
-//! | `n`, `l`, `j` | the level, j written like `1/2` |
-//! | `ln_k0`, `abs_err` | Bethe logarithm (units of Z^2 Ry) and the error of the printed value (as in `kzero table`) |
-//! | `a41_mhz` ... `v50_mhz` | the included terms: A41 L, A40 (Bethe-log and magnetic-moment parts together), A50 (Z alpha), A62 (Z alpha)^2 L^2, A61 (Z alpha)^2 L, V40, V50 (Z alpha) |
-//! | `total_mhz` | their sum |
-//! | `uncertainty_mhz` | estimated size of the omitted terms (quadrature sum) |
-//! | `cutoff_mhz` | only with `--cutoff-estimate`: the nonrelativistic estimate with the photon energy cut off at m_e c^2 |
-//!
-//! The CSV starts with `#` lines carrying provenance and the constants; JSON
-//! is one object with `"meta"` and `"rows"`.
+//! Table output (`--table --n-max N`): one row per level (n, l, j), sorted
+//! by (n, l, j), in the shift-table format of `kzero_engine::shift` (columns
+//! listed there), with the same provenance keys as every kzero table.
 
 use crate::app_error::AppError;
 use crate::output;
 use kzero_bethe::value::format_err;
 use kzero_bethe::{BetheValue, Settings};
-use kzero_engine::build_info as provenance;
-use kzero_qed::{
-    constants, cutoff_estimate, level_shift, nucleus, shift::UNCERTAINTY_RULE, BetheLog,
-    CutoffEstimate, Level, LevelShift, Nucleus, QedError,
+use kzero_engine::build_info::command_line;
+use kzero_engine::shift::{
+    constants_json, fmt_const, fmt_mhz, fmt_unc_mhz, mass_text, radius_text, shift_level,
+    ShiftTable, DEFAULT_DIGITS, TRUNCATION_NOTE,
 };
-use rayon::prelude::*;
+use kzero_engine::{EngineError, TableFormat};
+use kzero_qed::{
+    constants, nucleus, shift::UNCERTAINTY_RULE, CutoffEstimate, Level, LevelShift, Nucleus,
+    QedError,
+};
 use serde_json::{json, Value};
 use std::fmt::Write as _;
-
-/// Default `--digits` for the Bethe logarithm (far more than the shifts need).
-const DEFAULT_DIGITS: u32 = 15;
-
-/// The statement printed with every result.
-const TRUNCATION_NOTE: &str = "This is a truncated expansion in Z alpha (one-loop self-energy \
-and vacuum polarization at the orders listed), not a complete bound-state QED evaluation; \
-published level evaluations include further terms (all-order one-loop remainders, two-loop \
-QED, recoil and nuclear-structure corrections), whose sizes are only estimated here.";
-
-/// Output format of `--table`.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
-pub enum ShiftFormat {
-    /// Comma-separated values with `#` provenance lines.
-    #[default]
-    Csv,
-    /// One JSON object with "meta" and "rows".
-    Json,
-}
 
 /// Arguments of `kzero shift`.
 #[derive(clap::Args, Debug)]
@@ -78,9 +52,10 @@ pub struct ShiftArgs {
     /// nuclear-size term (default: the preset's value; 1.2 fm A^(1/3) with --mass).
     #[arg(long, value_name = "FM", allow_negative_numbers = true)]
     pub radius: Option<f64>,
-    /// Requested digits of ln k0 (5..=200; default 15, far more than the shifts need).
-    #[arg(long, value_name = "D", allow_negative_numbers = true)]
-    pub digits: Option<i64>,
+    /// Requested digits of ln k0: |error| < 10^-D (5..=200; the default is
+    /// far more than the shifts need).
+    #[arg(long, value_name = "D", default_value_t = DEFAULT_DIGITS, value_parser = crate::args::digits_parser(), allow_negative_numbers = true)]
+    pub digits: u32,
     /// Print JSON instead of text (with --table: same as --format json).
     #[arg(long)]
     pub json: bool,
@@ -95,8 +70,8 @@ pub struct ShiftArgs {
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub n_max: Option<i64>,
     /// Table format (with --table).
-    #[arg(long, value_enum)]
-    pub format: Option<ShiftFormat>,
+    #[arg(long, value_parser = crate::args::format_parser())]
+    pub format: Option<TableFormat>,
 }
 
 const SHIFT_HELP: &str = "\
@@ -118,6 +93,14 @@ Examples:
 
 fn bad(e: QedError) -> AppError {
     AppError::BadInput(e.to_string())
+}
+
+/// An engine error of `kzero shift`: QED input errors are bad input.
+fn qed_bad(e: EngineError) -> AppError {
+    match e {
+        EngineError::Qed(q) => bad(q),
+        other => AppError::from(other),
+    }
 }
 
 fn parse_int(text: &str, what: &str) -> Result<i64, AppError> {
@@ -177,35 +160,6 @@ fn nucleus_from_args(a: &ShiftArgs) -> Result<Nucleus, AppError> {
     Ok(nuc)
 }
 
-fn settings_from_args(a: &ShiftArgs) -> Result<Settings, AppError> {
-    let d = a.digits.unwrap_or(i64::from(DEFAULT_DIGITS));
-    let digits = u32::try_from(d).map_err(|_| {
-        AppError::BadInput(format!(
-            "--digits {d} is outside the accepted range {}..={}",
-            kzero_bethe::settings::MIN_DIGITS,
-            kzero_bethe::settings::MAX_DIGITS
-        ))
-    })?;
-    let s = Settings::with_digits(digits);
-    s.validate()?;
-    Ok(s)
-}
-
-/// One computed (n, l): the engine's value and the library's input form.
-struct Lnk0 {
-    engine: BetheValue,
-    input: BetheLog,
-}
-
-fn compute_ln_k0(n: u32, l: u32, settings: &Settings) -> Result<Lnk0, AppError> {
-    let engine = kzero_bethe::green::ln_k0(i64::from(n), i64::from(l), settings)?;
-    // the f64 handed on carries the conversion in its error
-    let (x, err) = engine.to_f64_with_err();
-    let input = BetheLog::new(n, l, x, err)
-        .map_err(|e| AppError::Other(format!("the engine returned an unusable ln k0: {e}")))?;
-    Ok(Lnk0 { engine, input })
-}
-
 /// Runs `kzero shift`, printing to standard output.
 ///
 /// # Errors
@@ -218,7 +172,7 @@ pub fn run(args: &ShiftArgs) -> Result<(), AppError> {
 
 /// Everything `kzero shift` prints, as one string (errors as [`run`]).
 fn render(args: &ShiftArgs) -> Result<String, AppError> {
-    let settings = settings_from_args(args)?;
+    let settings = Settings::with_digits(args.digits);
     let nucleus = nucleus_from_args(args)?;
     if args.table {
         if args.n.is_some() || args.l.is_some() || args.j.is_some() {
@@ -230,15 +184,23 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
             .n_max
             .ok_or_else(|| AppError::BadInput("--table needs --n-max N".to_string()))?;
         let format = match (args.json, args.format) {
-            (true, Some(ShiftFormat::Csv)) => {
+            (true, Some(TableFormat::Csv)) => {
                 return Err(AppError::BadInput(
                     "--json contradicts --format csv".to_string(),
                 ))
             }
-            (true, _) => ShiftFormat::Json,
+            (true, _) => TableFormat::Json,
             (false, f) => f.unwrap_or_default(),
         };
-        return render_table(args, n_max, format, &nucleus, &settings);
+        let table = ShiftTable::compute(
+            n_max,
+            &nucleus,
+            &settings,
+            args.cutoff_estimate,
+            &command_line(),
+        )
+        .map_err(qed_bad)?;
+        return Ok(table.render(format));
     }
     if args.n_max.is_some() || args.format.is_some() {
         return Err(AppError::BadInput(
@@ -258,15 +220,10 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
     let j2 = kzero_qed::level::parse_j(j).map_err(bad)?;
     let level = Level::new(n, l, i64::from(j2)).map_err(bad)?;
 
-    let lk = compute_ln_k0(level.n(), level.l(), &settings)?;
-    let shift = level_shift(&level, &nucleus, &lk.input).map_err(bad)?;
-    let cutoff = if args.cutoff_estimate {
-        Some(cutoff_estimate(&level, &nucleus, &lk.input).map_err(bad)?)
-    } else {
-        None
-    };
+    let r = shift_level(&level, &nucleus, &settings, args.cutoff_estimate).map_err(qed_bad)?;
+    let (shift, cutoff) = (&r.shift, r.cutoff.as_ref());
     let text = if args.json {
-        let mut v = level_json(&shift, &lk.engine, cutoff.as_ref());
+        let mut v = level_json(shift, &r.ln_k0, cutoff);
         if let Value::Object(m) = &mut v {
             m.insert("note".into(), json!(TRUNCATION_NOTE));
             m.insert("uncertainty_rule".into(), json!(UNCERTAINTY_RULE));
@@ -282,21 +239,9 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
         s.push('\n');
         s
     } else {
-        level_text(&shift, &lk.engine, cutoff.as_ref())
+        level_text(shift, &r.ln_k0, cutoff)
     };
     Ok(text)
-}
-
-fn fmt_mhz(x: f64) -> String {
-    format!("{x:.6}")
-}
-
-/// An uncertainty in MHz printed beside values of [`fmt_mhz`]: the
-/// uncertainty plus the rounding of those values (half a unit of the 6th
-/// decimal), rounded *up* to 6 decimals.
-fn fmt_unc_mhz(x: f64) -> String {
-    let up = ((x + 5e-7) * 1e6 * (1.0 + 1e-12)).ceil() / 1e6;
-    format!("{up:.6}")
 }
 
 /// An f64 as a decimal string for JSON: the shortest one that reads back as
@@ -310,35 +255,11 @@ fn err(x: f64) -> Value {
     json!(format_err(x))
 }
 
-/// A constant with all its digits: plain decimal for moderate magnitudes,
-/// exponent form otherwise (both round-trip exactly).
-fn fmt_const(x: f64) -> String {
-    if x != 0.0 && (x.abs() < 1e-3 || x.abs() >= 1e7) {
-        format!("{x:e}")
-    } else {
-        format!("{x}")
-    }
-}
-
 fn fmt_coef(x: f64) -> String {
     if x == 0.0 {
         "0".to_string()
     } else {
         format!("{x:.12}")
-    }
-}
-
-/// A radius in fm with at most 5 decimals, trailing zeros dropped.
-fn radius_text(r: f64) -> String {
-    let s = format!("{r:.5}");
-    let s = s.trim_end_matches('0');
-    s.strip_suffix('.').unwrap_or(s).to_string()
-}
-
-fn mass_text(nuc: &Nucleus) -> String {
-    match nuc.mass_me {
-        Some(m) => format!("{m} m_e"),
-        None => "infinite".to_string(),
     }
 }
 
@@ -469,15 +390,6 @@ fn nucleus_json(nuc: &Nucleus) -> Value {
     })
 }
 
-fn constants_json() -> Value {
-    let mut m = serde_json::Map::new();
-    m.insert("set".into(), json!("CODATA 2018"));
-    for (name, value, unit) in constants::listing() {
-        m.insert(name.into(), json!({ "value": dec(value), "unit": unit }));
-    }
-    Value::Object(m)
-}
-
 fn level_json(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) -> Value {
     let terms: Vec<Value> = s
         .terms
@@ -538,193 +450,25 @@ fn level_json(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) 
     v
 }
 
-/// One table row: the level with its shift (and cutoff estimate).
-struct TableRow {
-    shift: LevelShift,
-    ln_k0: String,
-    ln_k0_err: String,
-    cutoff: Option<CutoffEstimate>,
-}
-
-fn term_mhz(s: &LevelShift, prefix: &str) -> f64 {
-    s.terms
-        .iter()
-        .filter(|t| t.name.starts_with(prefix))
-        .map(|t| t.mhz)
-        .sum()
-}
-
-const TERM_COLUMNS: [(&str, &str); 7] = [
-    ("a41_mhz", "A41"),
-    ("a40_mhz", "A40"),
-    ("a50_mhz", "A50"),
-    ("a62_mhz", "A62"),
-    ("a61_mhz", "A61"),
-    ("v40_mhz", "V40"),
-    ("v50_mhz", "V50"),
-];
-
-fn render_table(
-    args: &ShiftArgs,
-    n_max: i64,
-    format: ShiftFormat,
-    nucleus: &Nucleus,
-    settings: &Settings,
-) -> Result<String, AppError> {
-    let started = provenance::utc_now();
-    let levels = Level::all_up_to(n_max).map_err(bad)?;
-    let mut pairs: Vec<(u32, u32)> = levels.iter().map(|v| (v.n(), v.l())).collect();
-    pairs.dedup();
-    // One engine call per (n, l), shared by both j; collected in order.
-    let values: Vec<Result<Lnk0, AppError>> = pairs
-        .par_iter()
-        .map(|&(n, l)| compute_ln_k0(n, l, settings))
-        .collect();
-    let mut by_pair = std::collections::BTreeMap::new();
-    for (p, v) in pairs.iter().zip(values) {
-        by_pair.insert(*p, v?);
-    }
-    let mut rows = Vec::with_capacity(levels.len());
-    for level in &levels {
-        let lk = &by_pair[&(level.n(), level.l())];
-        let shift = level_shift(level, nucleus, &lk.input).map_err(bad)?;
-        let cutoff = if args.cutoff_estimate {
-            Some(cutoff_estimate(level, nucleus, &lk.input).map_err(bad)?)
-        } else {
-            None
-        };
-        rows.push(TableRow {
-            shift,
-            ln_k0: lk.engine.value_string(),
-            ln_k0_err: lk.engine.abs_err_string(),
-            cutoff,
-        });
-    }
-
-    // the provenance keys of every kzero table, the settings (as
-    // `setting.KEY` lines / a `settings` object, like `kzero table`), then
-    // what the numbers mean
-    let mut prov_pairs: Vec<(String, String)> = vec![("format".into(), "kzero-shift-table".into())];
-    let mut prov = kzero_engine::Provenance::now(provenance::command_line());
-    prov.started_utc = started;
-    prov_pairs.extend(prov.pairs());
-    let setting_pairs: Vec<(&str, Value)> = vec![
-        ("n_max", json!(n_max)),
-        ("digits", json!(settings.digits)),
-        ("goal", json!(settings.goal.name())),
-        ("method", json!("green")),
-        ("nucleus", json!(nucleus.name)),
-        ("z", json!(nucleus.z)),
-        ("mass_me", json!(mass_text(nucleus))),
-        ("radius_fm", json!(radius_text(nucleus.radius_fm))),
-    ];
-    let info: Vec<(String, String)> = vec![
-        ("nucleus_source".into(), nucleus.source.clone()),
-        ("constants".into(), "CODATA 2018".into()),
-        (
-            "terms".into(),
-            "A41 L, A40, A50 (Z alpha), A62 (Z alpha)^2 L^2, A61 (Z alpha)^2 L, V40, V50 (Z alpha); L = ln[(m_e/m_r)(Z alpha)^-2]".into(),
-        ),
-        ("units".into(), "shifts E/h in MHz, positive raises the level; ln k0 in units of Z^2 Ry".into()),
-        ("uncertainty".into(), UNCERTAINTY_RULE.into()),
-        ("note".into(), TRUNCATION_NOTE.into()),
-    ];
-
-    let mut columns = vec!["n", "l", "j", "ln_k0", "abs_err"];
-    columns.extend(TERM_COLUMNS.iter().map(|c| c.0));
-    columns.extend(["total_mhz", "uncertainty_mhz"]);
-    if args.cutoff_estimate {
-        columns.push("cutoff_mhz");
-    }
-    let cells = |r: &TableRow| -> Vec<String> {
-        let s = &r.shift;
-        let mut v = vec![
-            s.level.n().to_string(),
-            s.level.l().to_string(),
-            s.level.j_text(),
-            r.ln_k0.clone(),
-            r.ln_k0_err.clone(),
-        ];
-        v.extend(TERM_COLUMNS.iter().map(|c| fmt_mhz(term_mhz(s, c.1))));
-        v.push(fmt_mhz(s.total_mhz));
-        v.push(fmt_unc_mhz(s.uncertainty_mhz));
-        if let Some(c) = &r.cutoff {
-            v.push(fmt_mhz(c.mhz));
-        }
-        v
-    };
-
-    let text = match format {
-        ShiftFormat::Csv => {
-            let mut t = String::new();
-            for (k, v) in &prov_pairs {
-                let _ = writeln!(t, "# {k}: {v}");
-            }
-            for (k, v) in &setting_pairs {
-                let v = v.as_str().map_or_else(|| v.to_string(), str::to_string);
-                let _ = writeln!(t, "# setting.{k}: {v}");
-            }
-            for (k, v) in &info {
-                let _ = writeln!(t, "# {k}: {v}");
-            }
-            for (name, value, unit) in constants::listing() {
-                let _ = writeln!(t, "# constant {name}: {} {unit}", fmt_const(value));
-            }
-            let _ = writeln!(t, "{}", columns.join(","));
-            for r in &rows {
-                let _ = writeln!(t, "{}", cells(r).join(","));
-            }
-            t
-        }
-        ShiftFormat::Json => {
-            let mut m = serde_json::Map::new();
-            for (k, v) in prov_pairs.iter().chain(&info) {
-                m.insert(k.clone(), json!(v));
-            }
-            let sm: serde_json::Map<String, Value> = setting_pairs
-                .iter()
-                .map(|(k, v)| (k.to_string(), v.clone()))
-                .collect();
-            m.insert("settings".into(), Value::Object(sm));
-            m.insert("constants_values".into(), constants_json());
-            m.insert("columns".into(), json!(columns));
-            let json_rows: Vec<Value> = rows
-                .iter()
-                .map(|r| {
-                    let mut o = serde_json::Map::new();
-                    for (c, v) in columns.iter().zip(cells(r)) {
-                        o.insert((*c).to_string(), json!(v));
-                    }
-                    // n and l as numbers, like the rows of `kzero table`.
-                    o.insert("n".into(), json!(r.shift.level.n()));
-                    o.insert("l".into(), json!(r.shift.level.l()));
-                    Value::Object(o)
-                })
-                .collect();
-            let v = json!({ "meta": Value::Object(m), "rows": json_rows });
-            let mut s = serde_json::to_string_pretty(&v)
-                .map_err(|e| AppError::Other(format!("cannot format JSON: {e}")))?;
-            s.push('\n');
-            s
-        }
-    };
-    Ok(text)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
 
-    fn args(extra: &[&str]) -> ShiftArgs {
+    #[derive(clap::Parser)]
+    struct Cli {
+        #[command(flatten)]
+        a: ShiftArgs,
+    }
+
+    fn try_args(extra: &[&str]) -> Result<ShiftArgs, clap::Error> {
         use clap::Parser;
-        #[derive(clap::Parser)]
-        struct Cli {
-            #[command(flatten)]
-            a: ShiftArgs,
-        }
         let mut v = vec!["kzero-shift"];
         v.extend_from_slice(extra);
-        Cli::try_parse_from(v).expect("parse").a
+        Cli::try_parse_from(v).map(|c| c.a)
+    }
+
+    fn args(extra: &[&str]) -> ShiftArgs {
+        try_args(extra).expect("parse")
     }
 
     #[test]
@@ -828,8 +572,6 @@ mod tests {
             &["2", "1", "1"],
             &["x", "0", "1/2"],
             &["2", "0"],
-            &["2", "0", "1/2", "--digits", "4"],
-            &["2", "0", "1/2", "--digits", "-3"],
             &["--table"],
             &["2", "0", "1/2", "--table", "--n-max", "2"],
             &["--table", "--n-max", "0"],
@@ -838,6 +580,15 @@ mod tests {
             &["2", "0", "1/2", "--format", "json"],
         ] {
             let e = run(&args(bad_args)).unwrap_err();
+            assert_eq!(e.exit_code(), 2, "{bad_args:?}: {e}");
+        }
+        // Digits out of range are refused by the shared --digits parser
+        // (a clap error: exit 2 in the binary).
+        for bad_args in [
+            &["2", "0", "1/2", "--digits", "4"][..],
+            &["2", "0", "1/2", "--digits", "-3"],
+        ] {
+            let e = try_args(bad_args).expect_err("refused");
             assert_eq!(e.exit_code(), 2, "{bad_args:?}: {e}");
         }
     }

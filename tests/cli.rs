@@ -784,15 +784,39 @@ fn check_runs_the_bundled_checks() {
     let o = kzero(&["check", "--digits", "18", "--json"]);
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
     let lines = v.as_array().unwrap();
-    let find = |q: &str| {
+    let find = |q: &str, n: u64, l: u64| {
         lines
             .iter()
-            .find(|l| l["quantity"] == q)
-            .unwrap_or_else(|| panic!("{q} missing"))
+            .find(|x| x["quantity"] == q && x["state"]["n"] == n && x["state"]["l"] == l)
+            .unwrap_or_else(|| panic!("{q}({n},{l}) missing"))
     };
     // Drake & Swainson 1990 (via CODATA 2018) and Bethe, Brown & Stehn 1950.
-    for q in ["ln_k0(1,0)", "ln_k0(2,0)", "ln_k0(2,1)", "k0_ry(2,0)"] {
-        assert_eq!(find(q)["pass"], true, "{q}");
+    for (q, n, l) in [
+        ("ln_k0", 1, 0),
+        ("ln_k0", 2, 0),
+        ("ln_k0", 2, 1),
+        ("k0_ry", 2, 0),
+    ] {
+        let x = find(q, n, l);
+        assert_eq!(x["pass"], true, "{q}({n},{l})");
+        // every part in its own field, numbers as decimal strings
+        for k in [
+            "source",
+            "expected",
+            "tolerance",
+            "computed",
+            "error",
+            "difference",
+        ] {
+            assert!(x[k].is_string(), "{q}({n},{l}) {k}: {}", x[k]);
+        }
+        // the printed computed value lies within its printed error of the
+        // expected value plus the tolerance
+        let num = |k: &str| x[k].as_str().unwrap().parse::<f64>().unwrap();
+        assert!(
+            (num("computed") - num("expected")).abs()
+                <= num("tolerance") + num("error") + 1e-15 * num("expected").abs()
+        );
     }
     // The pass rule is |difference| <= tolerance + estimate, so every
     // estimate must also be below the goal 10^-18, or an inflated estimate

@@ -16,28 +16,77 @@ use crate::method::MethodChoice;
 use kzero_basis::closure::{closure_sums, ClosureSums};
 use kzero_basis::radial::radial_integral;
 use kzero_basis::BoundState;
-use kzero_bethe::value::decimal_string;
+use kzero_bethe::value::{format_err, printed};
 use kzero_bethe::{agreement, BetheValue, Gauge, Settings};
 use rug::{Float, Rational};
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 use thiserror::Error;
 
-/// One line of the check report.
+/// A state or level a check line is about: (n, l) and, for a level of a
+/// measured interval, 2j.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct LevelRef {
+    /// Principal quantum number.
+    pub n: i64,
+    /// Orbital angular momentum.
+    pub l: i64,
+    /// Twice the total angular momentum (level intervals only).
+    pub j2: Option<i64>,
+}
+
+impl LevelRef {
+    fn nl(n: impl Into<i64>, l: impl Into<i64>) -> LevelRef {
+        LevelRef {
+            n: n.into(),
+            l: l.into(),
+            j2: None,
+        }
+    }
+}
+
+/// One line of the check report, every part in its own field. Numbers are
+/// decimal strings as printed; `error` is the printed error of `computed`
+/// (the printed-value rule of [`kzero_bethe::value::printed`]).
+///
+/// Pass rule: |computed - expected| <= tolerance + error, except for a
+/// measured level interval (`interval`), where tolerance (the measurement
+/// uncertainty) and error (the truncation uncertainty) combine in quadrature.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CheckLine {
-    /// What is checked.
+    /// The kind of quantity: `ln_k0`, `ln_k0_spectral`, `k0_ry`, `radial`,
+    /// `oscillator`, `interval`, `p2_sum`, `p2_energy_sum`, `trk_sum`,
+    /// `green_vs_spectral`, or `file` for a line about an unusable file or
+    /// record; as written in the data file when it is unknown.
     pub quantity: String,
+    /// A short human label, e.g. `ln_k0(1,0)` (the text report).
+    pub label: String,
+    /// The state (the bra of a radial integral, the initial state of an
+    /// oscillator strength, the upper level of an interval).
+    pub state: Option<LevelRef>,
+    /// The second state (ket, final state, lower level), where there is one.
+    pub state2: Option<LevelRef>,
+    /// Further parameters as (name, value): `power`, `z`, `nucleus`, `unit`.
+    pub parameters: Vec<(String, String)>,
     /// Where the expected value comes from.
     pub source: String,
-    /// Expected value.
-    pub expected: String,
-    /// Computed value (or the error that prevented it).
-    pub computed: String,
+    /// Expected value (as in the data file), if known.
+    pub expected: Option<String>,
+    /// Allowed deviation (as in the data file), if any.
+    pub tolerance: Option<String>,
+    /// Computed value, as printed.
+    pub computed: Option<String>,
+    /// Printed error of `computed`.
+    pub error: Option<String>,
     /// computed - expected.
-    pub difference: String,
-    /// Within tolerance, and every ln k0 behind the line computed to its goal.
+    pub difference: Option<String>,
+    /// Whether the line passes.
     pub pass: bool,
+    /// Why nothing could be computed (the line then fails).
+    pub failure: Option<String>,
+    /// Why a computed line fails besides its difference (an ln k0 estimate
+    /// not below its goal, a truncation uncertainty above the cap).
+    pub note: Option<String>,
     /// The largest error estimate of the ln k0 values behind the line (none
     /// for exact quantities).
     pub ln_k0_err: Option<f64>,
@@ -73,28 +122,67 @@ impl EstimateGoal {
         self.err < self.goal
     }
 
-    /// The note added to the difference column when the goal is missed.
-    fn note(self) -> String {
-        if self.met() {
-            String::new()
-        } else {
+    /// Why the line fails when the goal is missed.
+    fn note(self) -> Option<String> {
+        (!self.met()).then(|| {
             format!(
-                "; ln k0 estimate {:.1e} not below the goal {:.0e}",
+                "ln k0 estimate {:.1e} not below the goal {:.0e}",
                 self.err, self.goal
             )
+        })
+    }
+
+    /// Records the estimate on `line`, failing it when the goal is missed.
+    fn apply(self, line: &mut CheckLine) {
+        line.ln_k0_err = Some(self.err);
+        line.ln_k0_goal = Some(self.goal);
+        if let Some(n) = self.note() {
+            line.pass = false;
+            line.add_note(n);
         }
     }
 }
 
-/// A computed value as [`compare`] takes it.
-struct Got<'a> {
-    value: &'a Float,
-    /// Its error estimate (0 for exact quantities), added to the tolerance.
-    err: f64,
-    /// The ln k0 estimates behind it and their goal (none for exact ones).
-    estimate: Option<EstimateGoal>,
-    /// Decimals shown.
-    decimals: usize,
+impl CheckLine {
+    fn new(quantity: impl Into<String>, label: impl Into<String>, source: String) -> CheckLine {
+        CheckLine {
+            quantity: quantity.into(),
+            label: label.into(),
+            state: None,
+            state2: None,
+            parameters: Vec::new(),
+            source,
+            expected: None,
+            tolerance: None,
+            computed: None,
+            error: None,
+            difference: None,
+            pass: false,
+            failure: None,
+            note: None,
+            ln_k0_err: None,
+            ln_k0_goal: None,
+        }
+    }
+
+    fn add_note(&mut self, n: String) {
+        self.note = Some(match self.note.take() {
+            Some(old) => format!("{old}; {n}"),
+            None => n,
+        });
+    }
+
+    fn states(mut self, a: Option<LevelRef>, b: Option<LevelRef>) -> CheckLine {
+        self.state = a;
+        self.state2 = b;
+        self
+    }
+
+    fn failing(mut self, why: String) -> CheckLine {
+        self.failure = Some(why);
+        self.pass = false;
+        self
+    }
 }
 
 /// The states of the closure sum-rule sample.
@@ -220,22 +308,9 @@ fn prec_for(digits: u32, extra: usize) -> u32 {
     ((f64::from(digits) + extra as f64) * std::f64::consts::LOG2_10) as u32 + 128
 }
 
-fn fail(quantity: String, source: String, expected: String, why: String) -> CheckLine {
-    CheckLine {
-        quantity,
-        source,
-        expected,
-        computed: why,
-        difference: "-".into(),
-        pass: false,
-        ln_k0_err: None,
-        ln_k0_goal: None,
-    }
-}
-
 /// A failed line about the whole file `name` (unreadable, missing column).
 fn file_fail(name: &str, why: String) -> CheckLine {
-    fail(format!("file {name}"), name.into(), "-".into(), why)
+    CheckLine::new("file", format!("file {name}"), name.into()).failing(why)
 }
 
 /// A failing line for the first of `cols` that the header lacks, if any.
@@ -248,70 +323,74 @@ fn missing_column(name: &str, headers: &csv::StringRecord, cols: &[&str]) -> Opt
 /// A failed line for the record at 0-based index `i` of file `name` that
 /// the CSV reader could not read.
 fn record_fail(name: &str, i: usize, e: &csv::Error) -> CheckLine {
-    fail(
-        format!("{name} record {}", i + 1),
-        name.into(),
-        "-".into(),
-        format!("malformed line: {e}"),
-    )
+    CheckLine::new("file", format!("{name} record {}", i + 1), name.into())
+        .failing(format!("malformed line: {e}"))
 }
 
+/// Fills `line` with the comparison of `computed` (error estimate
+/// `computed_err`, printed with `shown_decimals` decimals) and `expected`:
+/// it passes when |computed - expected| <= `tolerance` + `computed_err`.
+///
+/// `estimate`: the ln k0 estimates behind the value and their goal; a
+/// missed goal fails the line.
 fn compare(
-    quantity: String,
-    source: String,
+    line: CheckLine,
     expected: &str,
     tolerance: &str,
-    got: Got<'_>,
+    computed: &Float,
+    computed_err: f64,
+    shown_decimals: usize,
+    estimate: EstimateGoal,
 ) -> CheckLine {
-    let Got {
-        value: computed,
-        err: computed_err,
-        estimate,
-        decimals: shown_decimals,
-    } = got;
+    let mut line = compare_exact(
+        line,
+        expected,
+        tolerance,
+        computed,
+        (computed_err, computed_err),
+        shown_decimals,
+    );
+    if line.failure.is_none() {
+        estimate.apply(&mut line);
+    }
+    line
+}
+
+/// As [`compare`], with separate errors for the pass rule and for the
+/// printed error: an exact number held at finite precision passes on the
+/// tolerance alone (`errs.0` = 0) but prints the bound on its conversion
+/// (`errs.1`).
+fn compare_exact(
+    mut line: CheckLine,
+    expected: &str,
+    tolerance: &str,
+    computed: &Float,
+    errs: (f64, f64),
+    shown_decimals: usize,
+) -> CheckLine {
+    let (computed_err, shown_err) = errs;
+    line.expected = Some(expected.trim().to_string());
+    line.tolerance = Some(tolerance.trim().to_string());
     let prec = computed.prec().max(prec_for(0, expected.len() * 2));
     let exp = match Float::parse(expected.trim()) {
         Ok(p) => Float::with_val(prec, p),
-        Err(_) => {
-            return fail(
-                quantity,
-                source,
-                expected.into(),
-                format!("expected value '{expected}' is not a number"),
-            )
-        }
+        Err(_) => return line.failing(format!("expected value '{expected}' is not a number")),
     };
     let tol = match Float::parse(tolerance.trim()) {
         Ok(p) => Float::with_val(64, p).to_f64(),
-        Err(_) => {
-            return fail(
-                quantity,
-                source,
-                expected.into(),
-                format!("tolerance '{tolerance}' is not a number"),
-            )
-        }
+        Err(_) => return line.failing(format!("tolerance '{tolerance}' is not a number")),
     };
     if tol.is_nan() || tol < 0.0 {
-        return fail(
-            quantity,
-            source,
-            expected.into(),
-            "tolerance must be >= 0".into(),
-        );
+        return line.failing("tolerance must be >= 0".into());
     }
     let diff = Float::with_val(prec, computed - &exp);
     let d = diff.to_f64();
-    CheckLine {
-        quantity,
-        source,
-        expected: expected.trim().to_string(),
-        computed: decimal_string(computed, shown_decimals),
-        difference: format!("{d:.2e}{}", estimate.map_or(String::new(), |e| e.note())),
-        pass: d.abs() <= tol + computed_err && estimate.map_or(true, EstimateGoal::met),
-        ln_k0_err: estimate.map(|e| e.err),
-        ln_k0_goal: estimate.map(|e| e.goal),
-    }
+    let shown = printed(computed, shown_err, shown_decimals);
+    line.computed = Some(shown.value);
+    line.error = Some(shown.abs_err);
+    line.difference = Some(format!("{d:.2e}"));
+    line.pass = d.abs() <= tol + computed_err;
+    line
 }
 
 fn decimals_of(s: &str) -> usize {
@@ -372,6 +451,10 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
         let line = (|| -> Result<CheckLine, (String, String)> {
             let n = int("n").map_err(|e| (quantity.clone(), e))?;
             let l = int("l").map_err(|e| (quantity.clone(), e))?;
+            let base = |label: &str| {
+                CheckLine::new(quantity.clone(), label, source.clone())
+                    .states(Some(LevelRef::nl(n, l)), None)
+            };
             match quantity.as_str() {
                 "ln_k0" | "ln_k0_spectral" | "k0_ry" => {
                     let method = if quantity == "ln_k0_spectral" {
@@ -386,30 +469,26 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                     if quantity == "k0_ry" {
                         let k0 = Float::with_val(v.value.prec(), v.value.exp_ref());
                         let err = k0.to_f64() * v.abs_err * 1.000_001;
+                        let mut line = base(&label);
+                        line.parameters.push(("unit".into(), "Ry".into()));
                         Ok(compare(
-                            label,
-                            source.clone(),
+                            line,
                             &expected,
                             &tolerance,
-                            Got {
-                                value: &k0,
-                                err,
-                                estimate: Some(EstimateGoal::of(&[&v], ctx.digits)),
-                                decimals: decimals_of(&expected) + 3,
-                            },
+                            &k0,
+                            err,
+                            decimals_of(&expected) + 3,
+                            EstimateGoal::of(&[&v], ctx.digits),
                         ))
                     } else {
                         Ok(compare(
-                            label,
-                            source.clone(),
+                            base(&label),
                             &expected,
                             &tolerance,
-                            Got {
-                                value: &v.value,
-                                err: v.abs_err,
-                                estimate: Some(EstimateGoal::of(&[&v], ctx.digits)),
-                                decimals: v.digits as usize + 2,
-                            },
+                            &v.value,
+                            v.abs_err,
+                            v.decimals(),
+                            EstimateGoal::of(&[&v], ctx.digits),
                         ))
                     }
                 }
@@ -422,6 +501,9 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                     } else {
                         format!(", Z={z}")
                     };
+                    let mut line = base(&quantity)
+                        .states(Some(LevelRef::nl(n, l)), Some(LevelRef::nl(n2, l2)));
+                    line.parameters.push(("z".into(), z.to_string()));
                     let a = BoundState::new(n, l, z.clone())
                         .map_err(|e| (quantity.clone(), e.to_string()))?;
                     let b = BoundState::new(n2, l2, z)
@@ -435,33 +517,33 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                             .map_err(|_| (label.clone(), "k out of range".into()))?;
                         let s = radial_integral(&a, &b, k32)
                             .map_err(|e| (label.clone(), e.to_string()))?;
-                        Ok(compare(
-                            label,
-                            source.clone(),
+                        line.label = label;
+                        line.parameters.push(("power".into(), k.to_string()));
+                        let x = s.to_float(prec);
+                        // an exact number rounded to prec bits: 8 |x| 2^-prec
+                        let conv = f64::from(x.get_exp().unwrap_or(0) + 3 - prec as i32).exp2();
+                        Ok(compare_exact(
+                            line,
                             &expected,
                             &tolerance,
-                            Got {
-                                value: &s.to_float(prec),
-                                err: 0.0,
-                                estimate: None,
-                                decimals: shown,
-                            },
+                            &x,
+                            (0.0, conv),
+                            shown,
                         ))
                     } else {
                         let label = format!("f({n} {l} -> {n2} {l2}){zs}");
                         let f = kzero_basis::oscillator::oscillator_strength(&a, &b)
                             .map_err(|e| (label.clone(), e.to_string()))?;
-                        Ok(compare(
-                            label,
-                            source.clone(),
+                        line.label = label;
+                        let x = Float::with_val(prec, &f);
+                        let conv = f64::from(x.get_exp().unwrap_or(0) + 1 - prec as i32).exp2();
+                        Ok(compare_exact(
+                            line,
                             &expected,
                             &tolerance,
-                            Got {
-                                value: &Float::with_val(prec, &f),
-                                err: 0.0,
-                                estimate: None,
-                                decimals: shown,
-                            },
+                            &x,
+                            (0.0, conv),
+                            shown,
                         ))
                     }
                 }
@@ -473,7 +555,12 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
         })();
         out.push(match line {
             Ok(l) => l,
-            Err((q, why)) => fail(q, source.clone(), expected.clone(), why),
+            Err((label, why)) => {
+                let mut f = CheckLine::new(quantity.clone(), label, source.clone()).failing(why);
+                f.expected = Some(expected.clone()).filter(|e| !e.is_empty());
+                f.tolerance = Some(tolerance.clone()).filter(|t| !t.is_empty());
+                f
+            }
         });
     }
     out
@@ -482,9 +569,7 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
 /// The level-interval layout (`name,nucleus,upper_n,upper_l,upper_j2,
 /// lower_n,lower_l,lower_j2,measured_mhz,measured_unc_mhz,source`): a
 /// measured interval against the truncated one-loop shifts of `kzero shift`,
-/// passing within the combined truncation and measurement uncertainties,
-/// provided the truncation part stays below [`INTERVAL_THEORY_CAP`] of the
-/// interval and both ln k0 values meet their goal.
+/// passing within the combined truncation and measurement uncertainties.
 fn run_interval_file(
     name: &str,
     rdr: &mut csv::Reader<&[u8]>,
@@ -521,7 +606,19 @@ fn run_interval_file(
         let get = |c: &str| col(c).and_then(|i| rec.get(i)).unwrap_or("").to_string();
         let label = format!("interval {} (MHz)", get("name"));
         let source = get("source");
-        let expected = format!("{} +- {}", get("measured_mhz"), get("measured_unc_mhz"));
+        let level = |p: &str| -> Option<LevelRef> {
+            Some(LevelRef {
+                n: get(&format!("{p}_n")).parse().ok()?,
+                l: get(&format!("{p}_l")).parse().ok()?,
+                j2: get(&format!("{p}_j2")).parse().ok(),
+            })
+        };
+        let mut line = CheckLine::new("interval", label.clone(), source.clone())
+            .states(level("upper"), level("lower"));
+        line.parameters.push(("nucleus".into(), get("nucleus")));
+        line.parameters.push(("unit".into(), "MHz".into()));
+        line.expected = Some(get("measured_mhz"));
+        line.tolerance = Some(get("measured_unc_mhz"));
         let r = (|| -> Result<CheckLine, String> {
             let int = |c: &str| {
                 get(c)
@@ -555,30 +652,26 @@ fn run_interval_file(
             let measured = num("measured_mhz")?;
             let m_unc = num("measured_unc_mhz")?;
             let computed = up.total_mhz - lo.total_mhz;
-            let theory = up.uncertainty_mhz.hypot(lo.uncertainty_mhz);
-            let allowed = theory.hypot(m_unc);
+            let unc = up.uncertainty_mhz.hypot(lo.uncertainty_mhz);
+            let allowed = unc.hypot(m_unc);
             let cap = INTERVAL_THEORY_CAP * measured.abs();
-            let estimate = EstimateGoal::of(&[&up_v, &lo_v], ctx.digits);
             let d = computed - measured;
-            let cap_note = if theory <= cap {
-                String::new()
-            } else {
-                format!("; truncation uncertainty {theory:.3} above the cap {cap:.3}")
-            };
-            Ok(CheckLine {
-                quantity: label.clone(),
-                source: source.clone(),
-                expected: expected.clone(),
-                computed: format!("{computed:.3} +- {theory:.3}"),
-                difference: format!("{d:.3}{cap_note}{}", estimate.note()),
-                pass: d.abs() <= allowed && theory <= cap && estimate.met(),
-                ln_k0_err: Some(estimate.err),
-                ln_k0_goal: Some(estimate.goal),
-            })
+            let mut l = line.clone();
+            // 3 decimals: the rounding (5e-4) goes into the printed error
+            l.computed = Some(format!("{computed:.3}"));
+            l.error = Some(format_err(unc + 5e-4));
+            l.difference = Some(format!("{d:.3}"));
+            l.pass = d.abs() <= allowed;
+            if unc > cap {
+                l.pass = false;
+                l.add_note(format!(
+                    "truncation uncertainty {unc:.3} above the cap {cap:.3}"
+                ));
+            }
+            EstimateGoal::of(&[&up_v, &lo_v], ctx.digits).apply(&mut l);
+            Ok(l)
         })();
-        out.push(
-            r.unwrap_or_else(|why| fail(label.clone(), source.clone(), expected.clone(), why)),
-        );
+        out.push(r.unwrap_or_else(|why| line.clone().failing(why)));
     }
     out
 }
@@ -588,18 +681,24 @@ fn sum_rule_lines() -> Vec<CheckLine> {
     for (n, l) in SUM_RULE_STATES {
         let names = [
             (
+                "p2_sum",
                 format!("sum_m |p_nm|^2 ({n},{l})"),
                 "closure: <p^2> = Z^2/n^2 (virial theorem; Bethe & Salpeter 1957)",
             ),
             (
+                "p2_energy_sum",
                 format!("sum_m |p_nm|^2 (E_m-E_n) ({n},{l})"),
                 "2 pi Z |psi(0)|^2 = 2Z^4/n^3 for l=0, else 0 (Bethe & Salpeter 1957)",
             ),
             (
+                "trk_sum",
                 format!("TRK sum of f ({n},{l})"),
                 "Thomas-Reiche-Kuhn sum rule: sum_m f_nm = 1 (Bethe & Salpeter 1957)",
             ),
         ];
+        let make = |kind: &str, label: String, src: &str| {
+            CheckLine::new(kind, label, src.to_string()).states(Some(LevelRef::nl(n, l)), None)
+        };
         let state = BoundState::hydrogen(i64::from(n), i64::from(l));
         let expected = state.as_ref().map(ClosureSums::expected).ok();
         let got = state
@@ -608,32 +707,28 @@ fn sum_rule_lines() -> Vec<CheckLine> {
         let triple = |c: ClosureSums| [c.p_squared, c.p_squared_energy, c.oscillator_strength];
         match (got, expected) {
             (Ok(got), Some(exp)) => {
-                for ((q, src), (got, exp)) in names
+                for ((kind, q, src), (got, exp)) in names
                     .into_iter()
                     .zip(triple(got).into_iter().zip(triple(exp)))
                 {
+                    // exact rationals: no tolerance, no error
                     let diff = Rational::from(&got - &exp);
-                    out.push(CheckLine {
-                        quantity: q,
-                        source: src.into(),
-                        expected: exp.to_string(),
-                        computed: got.to_string(),
-                        difference: if diff == 0 {
-                            "0 (exact)".into()
-                        } else {
-                            diff.to_string()
-                        },
-                        pass: diff == 0,
-                        ln_k0_err: None,
-                        ln_k0_goal: None,
-                    });
+                    let mut line = make(kind, q, src);
+                    line.expected = Some(exp.to_string());
+                    line.tolerance = Some("0".into());
+                    line.computed = Some(got.to_string());
+                    line.error = Some("0".into());
+                    line.difference = Some(diff.to_string());
+                    line.pass = diff == 0;
+                    out.push(line);
                 }
             }
             (Err(why), exp) => {
                 let exp = exp.map(|e| triple(e).map(|x| x.to_string()));
-                for (i, (q, src)) in names.into_iter().enumerate() {
-                    let shown = exp.as_ref().map_or("-".to_string(), |e| e[i].clone());
-                    out.push(fail(q, src.into(), shown, why.clone()));
+                for (i, (kind, q, src)) in names.into_iter().enumerate() {
+                    let mut line = make(kind, q, src).failing(why.clone());
+                    line.expected = exp.as_ref().map(|e| e[i].clone());
+                    out.push(line);
                 }
             }
             (Ok(_), None) => {}
@@ -647,29 +742,25 @@ fn cross_lines(ctx: &mut Checker) -> Vec<CheckLine> {
     for (n, l) in CROSS_STATES {
         let q = format!("ln_k0({n},{l}) green vs spectral");
         let src = "independent method: explicit spectral sum (velocity form)".to_string();
+        let line =
+            CheckLine::new("green_vs_spectral", q, src).states(Some(LevelRef::nl(n, l)), None);
         let g = ctx.ln_k0(n, l, MethodChoice::Green);
         let s = ctx.ln_k0(n, l, MethodChoice::Spectral);
         match (g, s) {
             (Ok(g), Ok(s)) => {
+                // expected: the spectral value, within its own error
                 let a = agreement(&g, &s);
-                let estimate = EstimateGoal::of(&[&g, &s], ctx.digits);
-                out.push(CheckLine {
-                    quantity: q,
-                    source: src,
-                    expected: s.value_string(),
-                    computed: g.value_string(),
-                    difference: format!(
-                        "{:.2e} ({} digits){}",
-                        a.difference,
-                        a.digits,
-                        estimate.note()
-                    ),
-                    pass: a.consistent && estimate.met(),
-                    ln_k0_err: Some(estimate.err),
-                    ln_k0_goal: Some(estimate.goal),
-                });
+                let mut line = line;
+                line.expected = Some(s.value_string());
+                line.tolerance = Some(s.abs_err_string());
+                line.computed = Some(g.value_string());
+                line.error = Some(g.abs_err_string());
+                line.difference = Some(format!("{:.2e}", a.difference));
+                line.pass = a.consistent;
+                EstimateGoal::of(&[&g, &s], ctx.digits).apply(&mut line);
+                out.push(line);
             }
-            (Err(e), _) | (_, Err(e)) => out.push(fail(q, src, "-".into(), e)),
+            (Err(e), _) | (_, Err(e)) => out.push(line.failing(e)),
         }
     }
     out
@@ -711,16 +802,13 @@ mod tests {
                 ..v.clone()
             };
             compare(
-                "ln_k0(2,1)".into(),
-                "test".into(),
+                CheckLine::new("ln_k0", "ln_k0(2,1)", "test".into()),
                 "-0.030016708630213",
                 "1e-15",
-                Got {
-                    value: &v.value,
-                    err: v.abs_err,
-                    estimate: Some(EstimateGoal::of(&[&v], 12)),
-                    decimals: 14,
-                },
+                &v.value,
+                v.abs_err,
+                14,
+                EstimateGoal::of(&[&v], 12),
             )
         };
         let good = line(1e-14);
@@ -728,7 +816,10 @@ mod tests {
         // 1e-3 would cover any difference, but it is far above the goal 1e-12.
         let inflated = line(1e-3);
         assert!(!inflated.pass, "{inflated:?}");
-        assert!(inflated.difference.contains("not below the goal"));
+        assert!(inflated
+            .note
+            .as_deref()
+            .is_some_and(|n| n.contains("not below the goal")));
         assert_eq!(inflated.ln_k0_err, Some(1e-3));
         assert_eq!(inflated.ln_k0_goal, Some(1e-12));
     }
@@ -754,13 +845,30 @@ mod tests {
         );
         let pass: Vec<bool> = lines.iter().map(|l| l.pass).collect();
         assert_eq!(pass, [true, false], "{lines:?}");
-        assert!(lines[1].difference.contains("above the cap"), "{lines:?}");
+        assert!(
+            lines[1]
+                .note
+                .as_deref()
+                .is_some_and(|n| n.contains("above the cap")),
+            "{lines:?}"
+        );
+        // the levels are named fields
+        assert_eq!(
+            lines[0].state,
+            Some(LevelRef {
+                n: 2,
+                l: 0,
+                j2: Some(1)
+            })
+        );
     }
 
     #[test]
     fn sum_rule_lines_all_pass() {
         let lines = sum_rule_lines();
         assert_eq!(lines.len(), 3 * SUM_RULE_STATES.len());
-        assert!(lines.iter().all(|l| l.pass && l.difference == "0 (exact)"));
+        assert!(lines
+            .iter()
+            .all(|l| l.pass && l.difference.as_deref() == Some("0") && l.state.is_some()));
     }
 }

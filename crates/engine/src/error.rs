@@ -48,6 +48,12 @@ pub enum EngineError {
         /// Agreeing decimal digits.
         digits: u32,
     },
+    /// A computed ln k0 that the QED assembly does not accept (not finite).
+    #[error("the engine returned an unusable ln k0: {source}")]
+    UnusableLnK0 {
+        /// Why.
+        source: QedError,
+    },
     /// The two methods give dipole sums that differ beyond their combined
     /// error estimates (see [`crate::ComputedSums::check_agreement`]).
     #[error("methods disagree at (n={n}, l={l}) on {quantity}({k}): green {green} vs spectral {spectral}")]
@@ -123,7 +129,9 @@ impl EngineError {
             EngineError::MethodsDisagree { .. } | EngineError::SumsDisagree { .. } => {
                 ErrorClass::CheckFailed
             }
-            EngineError::Internal { .. } | EngineError::Threads { .. } => ErrorClass::Failure,
+            EngineError::Internal { .. }
+            | EngineError::Threads { .. }
+            | EngineError::UnusableLnK0 { .. } => ErrorClass::Failure,
         }
     }
 

@@ -25,6 +25,8 @@
 //!   of a running table, resume and merge rules.
 //! * [`check`]: the check runner (bundled outside checks, closure sum
 //!   rules, cross-method sample); [`data_checks`]: the bundled files.
+//! * [`shift`]: QED level shifts with ln k0 from [`compute()`], and the
+//!   shift-table format.
 //! * [`sweep`]: precision sweeps; [`exact`]: exact radial integrals and
 //!   oscillator strengths.
 //!
@@ -56,6 +58,7 @@ pub mod error;
 pub mod exact;
 pub mod method;
 pub mod shard;
+pub mod shift;
 pub mod sums;
 pub mod sweep;
 pub mod table;

@@ -53,4 +53,6 @@ pub mod shift;
 pub use error::QedError;
 pub use level::Level;
 pub use nucleus::Nucleus;
-pub use shift::{cutoff_estimate, level_shift, BetheLog, CutoffEstimate, LevelShift};
+pub use shift::{
+    cutoff_estimate, level_shift, BetheLog, CutoffEstimate, Family, LevelShift, TermId, TermKind,
+};

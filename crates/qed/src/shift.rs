@@ -40,15 +40,176 @@ impl BetheLog {
     }
 }
 
+/// The part of the one-loop correction a term belongs to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum TermKind {
+    /// The electron self-energy (coefficients A).
+    SelfEnergy,
+    /// The vacuum polarization (coefficients V).
+    VacuumPolarization,
+}
+
+/// A coefficient family: the terms that share a coefficient name and an
+/// order (A40 has a Bethe-logarithm part and a magnetic-moment part).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum Family {
+    /// A41 L.
+    A41,
+    /// A40 (both parts).
+    A40,
+    /// A50 (Z alpha).
+    A50,
+    /// A62 (Z alpha)^2 L^2.
+    A62,
+    /// A61 (Z alpha)^2 L.
+    A61,
+    /// V40.
+    V40,
+    /// V50 (Z alpha).
+    V50,
+}
+
+impl Family {
+    /// Every family, in the order of the terms.
+    pub const ALL: [Family; 7] = [
+        Family::A41,
+        Family::A40,
+        Family::A50,
+        Family::A62,
+        Family::A61,
+        Family::V40,
+        Family::V50,
+    ];
+
+    /// The coefficient name: `A41`, ..., `V50`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Family::A41 => "A41",
+            Family::A40 => "A40",
+            Family::A50 => "A50",
+            Family::A62 => "A62",
+            Family::A61 => "A61",
+            Family::V40 => "V40",
+            Family::V50 => "V50",
+        }
+    }
+
+    /// The shift-table column: `a41_mhz`, ..., `v50_mhz`.
+    pub fn column(self) -> &'static str {
+        match self {
+            Family::A41 => "a41_mhz",
+            Family::A40 => "a40_mhz",
+            Family::A50 => "a50_mhz",
+            Family::A62 => "a62_mhz",
+            Family::A61 => "a61_mhz",
+            Family::V40 => "v40_mhz",
+            Family::V50 => "v50_mhz",
+        }
+    }
+
+    /// Self-energy or vacuum polarization.
+    pub fn kind(self) -> TermKind {
+        match self {
+            Family::V40 | Family::V50 => TermKind::VacuumPolarization,
+            _ => TermKind::SelfEnergy,
+        }
+    }
+}
+
+/// One included term of the expansion, by identity.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum TermId {
+    /// A41 L.
+    A41,
+    /// The Bethe-logarithm part of A40.
+    A40BetheLog,
+    /// The anomalous-magnetic-moment part of A40.
+    A40MagneticMoment,
+    /// A50 (Z alpha).
+    A50,
+    /// A62 (Z alpha)^2 L^2.
+    A62,
+    /// A61 (Z alpha)^2 L.
+    A61,
+    /// V40.
+    V40,
+    /// V50 (Z alpha).
+    V50,
+}
+
+impl TermId {
+    /// Every term, in the order of [`LevelShift::terms`].
+    pub const ALL: [TermId; 8] = [
+        TermId::A41,
+        TermId::A40BetheLog,
+        TermId::A40MagneticMoment,
+        TermId::A50,
+        TermId::A62,
+        TermId::A61,
+        TermId::V40,
+        TermId::V50,
+    ];
+
+    /// The printed name, e.g. `A41`, `A40 (Bethe log)`, `V50`.
+    pub fn name(self) -> &'static str {
+        match self {
+            TermId::A41 => "A41",
+            TermId::A40BetheLog => "A40 (Bethe log)",
+            TermId::A40MagneticMoment => "A40 (magnetic moment)",
+            TermId::A50 => "A50",
+            TermId::A62 => "A62",
+            TermId::A61 => "A61",
+            TermId::V40 => "V40",
+            TermId::V50 => "V50",
+        }
+    }
+
+    /// The order of the term, e.g. `alpha (Z alpha)^6 L`.
+    pub fn order(self) -> &'static str {
+        match self {
+            TermId::A41 => "alpha (Z alpha)^4 L",
+            TermId::A40BetheLog | TermId::A40MagneticMoment | TermId::V40 => "alpha (Z alpha)^4",
+            TermId::A50 | TermId::V50 => "alpha (Z alpha)^5",
+            TermId::A62 => "alpha (Z alpha)^6 L^2",
+            TermId::A61 => "alpha (Z alpha)^6 L",
+        }
+    }
+
+    /// The coefficient family.
+    pub fn family(self) -> Family {
+        match self {
+            TermId::A41 => Family::A41,
+            TermId::A40BetheLog | TermId::A40MagneticMoment => Family::A40,
+            TermId::A50 => Family::A50,
+            TermId::A62 => Family::A62,
+            TermId::A61 => Family::A61,
+            TermId::V40 => Family::V40,
+            TermId::V50 => Family::V50,
+        }
+    }
+
+    /// Self-energy or vacuum polarization.
+    pub fn kind(self) -> TermKind {
+        self.family().kind()
+    }
+}
+
 /// One included term of the expansion.
 ///
 /// `mhz = unit_mhz * mass_factor * coefficient * multiplier`, where
 /// `unit_mhz` is [`LevelShift::unit_mhz`].
 #[derive(Debug, Clone, PartialEq)]
 pub struct Term {
-    /// Name of the coefficient, e.g. `A41`, `A40 (Bethe log)`, `V50`.
+    /// Which term (its family and kind: [`TermId::family`],
+    /// [`TermId::kind`]).
+    pub id: TermId,
+    /// Name of the coefficient, e.g. `A41`, `A40 (Bethe log)`, `V50`
+    /// ([`TermId::name`]).
     pub name: &'static str,
-    /// The order of the term, e.g. `alpha (Z alpha)^6 L`.
+    /// The order of the term, e.g. `alpha (Z alpha)^6 L` ([`TermId::order`]).
     pub order: &'static str,
     /// The dimensionless coefficient (A41, A40, ...).
     pub coefficient: f64,
@@ -182,62 +343,40 @@ pub fn level_shift(
     let big_l = (1.0 / (mr * za * za)).ln();
     let unit = unit_mhz(nucleus.z, level.n());
 
-    let mut terms = Vec::with_capacity(8);
-    let mut push = |name, order, coefficient: f64, multiplier: f64, mass_factor: f64| {
+    let mut terms = Vec::with_capacity(TermId::ALL.len());
+    for id in TermId::ALL {
+        let (coefficient, multiplier, mass_factor) = match id {
+            TermId::A41 => (k::a41(level), big_l, m3),
+            TermId::A40BetheLog => (k::a40_bethe(level, ln_k0.value), 1.0, m3),
+            TermId::A40MagneticMoment => (k::a40_magnetic(level), 1.0, m2),
+            TermId::A50 => (k::a50(level), za, m3),
+            TermId::A62 => (k::a62(level), za * za * big_l * big_l, m3),
+            TermId::A61 => (k::a61(level), za * za * big_l, m3),
+            TermId::V40 => (k::v40(level), 1.0, m3),
+            TermId::V50 => (k::v50(level), za, m3),
+        };
         // `+ 0.0` turns a negative zero (a vanishing coefficient with a
         // minus sign) into +0 for printing.
         terms.push(Term {
-            name,
-            order,
+            id,
+            name: id.name(),
+            order: id.order(),
             coefficient: coefficient + 0.0,
             multiplier,
             mass_factor,
             mhz: unit * mass_factor * coefficient * multiplier + 0.0,
         });
-    };
-    push("A41", "alpha (Z alpha)^4 L", k::a41(level), big_l, m3);
-    push(
-        "A40 (Bethe log)",
-        "alpha (Z alpha)^4",
-        k::a40_bethe(level, ln_k0.value),
-        1.0,
-        m3,
-    );
-    push(
-        "A40 (magnetic moment)",
-        "alpha (Z alpha)^4",
-        k::a40_magnetic(level),
-        1.0,
-        m2,
-    );
-    push("A50", "alpha (Z alpha)^5", k::a50(level), za, m3);
-    push(
-        "A62",
-        "alpha (Z alpha)^6 L^2",
-        k::a62(level),
-        za * za * big_l * big_l,
-        m3,
-    );
-    push(
-        "A61",
-        "alpha (Z alpha)^6 L",
-        k::a61(level),
-        za * za * big_l,
-        m3,
-    );
-    push("V40", "alpha (Z alpha)^4", k::v40(level), 1.0, m3);
-    push("V50", "alpha (Z alpha)^5", k::v50(level), za, m3);
+    }
 
-    let self_energy_mhz: f64 = terms
-        .iter()
-        .filter(|t| t.name.starts_with('A'))
-        .map(|t| t.mhz)
-        .sum();
-    let vacuum_polarization_mhz: f64 = terms
-        .iter()
-        .filter(|t| t.name.starts_with('V'))
-        .map(|t| t.mhz)
-        .sum();
+    let sum_of = |kind: TermKind| -> f64 {
+        terms
+            .iter()
+            .filter(|t| t.id.kind() == kind)
+            .map(|t| t.mhz)
+            .sum()
+    };
+    let self_energy_mhz = sum_of(TermKind::SelfEnergy);
+    let vacuum_polarization_mhz = sum_of(TermKind::VacuumPolarization);
     let total_mhz = self_energy_mhz + vacuum_polarization_mhz;
 
     let omitted = omitted_estimates(level, nucleus, za, big_l, unit);
@@ -390,4 +529,33 @@ pub fn cutoff_estimate(
         mhz: unit * m3 * coefficient,
         ln_k0_error_mhz: 4.0 / 3.0 * ln_k0.abs_err * unit * m3,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn terms_come_in_order_with_their_kind() {
+        let h = Nucleus::preset("H").unwrap();
+        // ln k0(2,0) = 2.811769893120563 (Drake & Swainson, Phys. Rev. A 41,
+        // 1243 (1990)).
+        let b = BetheLog::new(2, 0, 2.811769893120563, 1e-15).unwrap();
+        let s = level_shift(&Level::new(2, 0, 1).unwrap(), &h, &b).unwrap();
+        let ids: Vec<TermId> = s.terms.iter().map(|t| t.id).collect();
+        assert_eq!(ids, TermId::ALL);
+        let se: f64 = s
+            .terms
+            .iter()
+            .filter(|t| t.id.kind() == TermKind::SelfEnergy)
+            .map(|t| t.mhz)
+            .sum();
+        assert_eq!(se, s.self_energy_mhz);
+        assert!(s.vacuum_polarization_mhz < 0.0 && s.self_energy_mhz > 0.0);
+        for id in TermId::ALL {
+            let v = id.kind() == TermKind::VacuumPolarization;
+            assert_eq!(v, id.name().starts_with('V'), "{}", id.name());
+            assert!(id.name().starts_with(id.family().name()));
+        }
+    }
 }

@@ -854,7 +854,8 @@ pub(crate) mod tests {
         let m = MethodChoice::Green;
         let g = Gauge::Velocity;
         assert!(TableSettings::new(1, 3, None, None, 20, m, g).is_ok());
-        for (lo, hi) in [(1, 0), (1, 201), (0, 3), (4, 3)] {
+        let above = i64::from(kzero_bethe::settings::MAX_N) + 1;
+        for (lo, hi) in [(1, 0), (1, above), (0, 3), (4, 3)] {
             assert!(TableSettings::new(lo, hi, None, None, 20, m, g).is_err());
         }
         assert_eq!(
