@@ -33,4 +33,8 @@ if [ -z "$KZERO_BIN" ]; then
     KZERO_BIN="${CARGO_TARGET_DIR:-target}/release/kzero"
     export KZERO_BIN
 fi
-exec "$VENV/bin/python" -m pytest -q python/tests "$@"
+# Arguments go to pytest (default: every test in python/tests).
+if [ $# -eq 0 ]; then
+    set -- python/tests
+fi
+exec "$VENV/bin/python" -m pytest -q "$@"

@@ -127,6 +127,16 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
             "reference_digits": ref_digits,
             "rows": jrows,
         });
+        // the provenance keys of every kzero table
+        let meta: serde_json::Map<String, serde_json::Value> = sw
+            .provenance
+            .pairs()
+            .into_iter()
+            .map(|(k, v)| (k, json!(v)))
+            .collect();
+        if let Some(m) = j.as_object_mut() {
+            m.insert("meta".into(), serde_json::Value::Object(meta));
+        }
         if let (MethodChoice::Spectral, Some(m)) = (a.method, j.as_object_mut()) {
             m.insert("gauge".into(), json!(gauge.name()));
         }

@@ -742,6 +742,17 @@ fn sweep_reports_every_setting_and_plots() {
     ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    // The provenance keys of every kzero table.
+    for k in [
+        "version",
+        "git_revision",
+        "mpfr",
+        "gmp",
+        "command",
+        "started_utc",
+    ] {
+        assert!(v["meta"][k].is_string(), "meta.{k} missing: {}", v["meta"]);
+    }
     let rows = v["rows"].as_array().unwrap();
     assert_eq!(rows.len(), 3);
     for r in &rows[..2] {

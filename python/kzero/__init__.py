@@ -24,24 +24,44 @@ Errors are exceptions with the one-line messages of the command line:
 estimates.
 """
 
+from decimal import Decimal
+from fractions import Fraction
+from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
+
 from . import _kzero
 from ._kzero import InvalidInput, MethodsDisagree, NoConvergence
-from ._value import Value, to_rows
+from ._value import Exact, Value, to_rows
 
 __version__: str = _kzero.__version__
 
 # Show the public classes as members of `kzero` (help(), repr, pickling).
 Value.__module__ = __name__
+Exact.__module__ = __name__
 
 __all__ = [
     "__version__",
+    "Exact",
     "InvalidInput",
+    "MAX_N",
     "MethodsDisagree",
     "NoConvergence",
     "Value",
+    "build_info",
     "ln_k0",
+    "oscillator",
+    "radial",
+    "sweep",
+    "table",
     "to_rows",
 ]
+
+#: The largest principal quantum number n the methods accept (the same
+#: range as the command line).
+MAX_N: int = _kzero.MAX_N
+
+
+def _value(d: Dict[str, Any]) -> Value:
+    return Value._from_native(d, gauge=d.get("gauge"))
 
 
 def ln_k0(
@@ -53,27 +73,208 @@ def ln_k0(
 ) -> Value:
     """The Bethe logarithm ln k0(n, l) with its estimated absolute error.
 
+    Precision contract: ``digits=D`` asks for an absolute error below 10^-D
+    (not a relative error, not significant digits). ``abs_err`` is an
+    estimate obtained by refinement, not a rigorous bound; when it misses the
+    goal, ``NoConvergence`` is raised and no number is returned.
+
     Args:
-        n: principal quantum number, 1 <= n <= 200.
+        n: principal quantum number, 1 <= n <= ``kzero.MAX_N``.
         l: orbital angular momentum, 0 <= l < n.
-        digits: requested absolute accuracy D (5..=200): the goal is
-            |error| < 10^-D. This is an absolute error, not significant
-            digits.
+        digits: requested absolute accuracy D (5..=200): |error| < 10^-D.
         method: ``"green"`` (photon-energy integral with the Sturmian
-            Coulomb Green's function, the default) or ``"spectral"``
-            (explicit sum over the bound and continuum spectrum).
+            Coulomb Green's function, the default), ``"spectral"`` (explicit
+            sum over the bound and continuum spectrum) or ``"both"`` (both,
+            cross-checked: ``value`` is the Green's-function value,
+            ``spectral`` the spectral one, ``agreement`` the agreeing
+            decimal digits).
         gauge: dipole form of the spectral method: ``"velocity"``
             (default), ``"length"`` or ``"acceleration"``.
 
     Returns:
         A :class:`Value`; ``value`` and ``abs_err`` are ``decimal.Decimal``.
-        ``abs_err`` is an estimate obtained by refinement, not a rigorous
-        bound.
 
     Raises:
         InvalidInput: bad state or setting (message as on the command line).
         NoConvergence: the estimated error stayed above 10^-D.
+        MethodsDisagree: with ``method="both"``, the two values differ by
+            more than their combined error estimates (where ``kzero state``
+            exits 3); the result is attached as ``.value``.
     """
     d = _kzero.ln_k0(n, l, digits, method, gauge)
-    return Value._from_native(d, gauge=None if method == "green" else gauge)
+    v = _value(d)
+    message = d.get("disagreement")
+    if message is not None:
+        e = MethodsDisagree(message)
+        e.value = v
+        raise e
+    return v
 
+
+StateList = Iterable[Tuple[int, int]]
+
+
+def _select_l(l: Union[None, int, Sequence[int]]) -> Optional[List[int]]:
+    if l is None:
+        return None
+    if isinstance(l, int):
+        return [l]
+    return [int(x) for x in l]
+
+
+def table(
+    states: Optional[StateList] = None,
+    n_min: int = 1,
+    n_max: Optional[int] = None,
+    l: Union[None, int, Sequence[int]] = None,
+    digits: int = 20,
+    method: str = "green",
+    threads: Optional[int] = None,
+    gauge: str = "velocity",
+) -> List[Value]:
+    """ln k0 for many states, computed in parallel with the GIL released.
+
+    Give either ``states``, a list of ``(n, l)`` pairs, or a range:
+    ``n_min..=n_max`` with every ``l < n``, or only the angular momenta
+    ``l`` (an int or a list; each used where ``l < n``), as ``kzero table
+    --n-min --n-max --l`` selects them.
+
+    The result is one :class:`Value` per state, sorted by (n, l) with
+    duplicates dropped: the order of a finished ``kzero table``, whatever
+    the order of ``states`` and the number of threads. Values do not depend
+    on ``threads``. Precision contract as in :func:`ln_k0` (absolute error
+    below 10^-digits; ``abs_err`` is an estimate, not a bound).
+
+    Ctrl-C (SIGINT) raises ``KeyboardInterrupt`` within a fraction of a
+    second: no further state starts, and the states already running finish
+    in the background and are dropped.
+
+    Args:
+        threads: worker threads (default: the number of CPUs).
+        method, gauge: as in :func:`ln_k0`.
+
+    Raises:
+        InvalidInput: a bad state or setting (message as on the command
+            line).
+        NoConvergence: a state missed its goal (``state (n=.., l=..): ...``).
+        MethodsDisagree: with ``method="both"``, some states disagree; the
+            whole table is attached as ``.values`` and the messages as
+            ``.disagreements``.
+    """
+    if states is not None:
+        if n_max is not None or l is not None or n_min != 1:
+            raise InvalidInput("give either states or a range (n_min, n_max, l), not both")
+        pairs = [(int(n), int(ll)) for n, ll in states]
+        if not pairs:
+            raise InvalidInput("no state selected: the list of states is empty")
+    else:
+        if n_max is None:
+            raise InvalidInput("give either states or n_max (a range n_min..=n_max)")
+        pairs = _kzero.range_states(n_min, n_max, _select_l(l))
+    rows = _kzero.table(pairs, digits, method, gauge, threads)
+    values = [_value(d) for d in rows]
+    disagreements = [d["disagreement"] for d in rows if d.get("disagreement")]
+    if disagreements:
+        e = MethodsDisagree(
+            f"{len(disagreements)} state(s) where green and spectral disagree"
+        )
+        e.values = values
+        e.disagreements = disagreements
+        raise e
+    return values
+
+
+def build_info() -> Dict[str, str]:
+    """Version and provenance of this build, with the keys of a table header.
+
+    ``version`` (the package version, also ``kzero.__version__``),
+    ``git_revision`` (of the checkout it was built from, ``unknown``
+    outside git), ``mpfr`` and ``gmp`` (the linked library versions),
+    ``command`` (this process's command line) and ``started_utc`` (now).
+    """
+    return _kzero.build_info_dict()
+
+
+
+def sweep(
+    n: int,
+    l: int,
+    digits: Sequence[int] = (10, 15, 20, 30),
+    method: str = "green",
+    gauge: str = "velocity",
+) -> List[Dict[str, Any]]:
+    """One state computed from scratch at a ladder of ``digits`` (as ``kzero sweep``).
+
+    Use it to choose settings before a large run: each rung's printed value
+    is compared with the most precise rung (the reference, the largest
+    ``digits``), itself uncertain by its own estimated error.
+
+    Returns one dict per rung, in increasing digits, with the keys of
+    ``kzero sweep --json``: ``digits``, ``ln_k0`` and ``abs_err``
+    (``decimal.Decimal``), ``actual_err`` (``Decimal``, ``None`` for the
+    reference), ``covered`` (whether the printed error covers the actual
+    error plus the reference's estimate; ``None`` for the reference),
+    ``bits``, ``nodes``, ``terms``, ``seconds``; and ``value``, the rung as
+    a :class:`Value`.
+
+    ``method`` is ``"green"`` or ``"spectral"`` (not ``"both"``).
+
+    Raises:
+        InvalidInput: bad state, digits or method (command-line messages).
+        NoConvergence: a rung missed its goal.
+    """
+    rows = _kzero.sweep(n, l, [int(d) for d in digits], method, gauge)
+    out = []
+    for r in rows:
+        v = Value._from_native(r["value"], gauge=None if method == "green" else gauge)
+        out.append({
+            "digits": r["digits"],
+            "ln_k0": Decimal(r["ln_k0"]),
+            "abs_err": Decimal(r["abs_err"]),
+            "actual_err": None if r["actual_err"] is None else Decimal(r["actual_err"]),
+            "covered": r["covered"],
+            "bits": v.bits,
+            "nodes": v.nodes,
+            "terms": v.terms,
+            "seconds": v.seconds,
+            "value": v,
+        })
+    return out
+
+
+def radial(
+    n: int, l: int, n2: int, l2: int, power: int = 1, digits: int = 20
+) -> Union[Fraction, Exact]:
+    """The exact radial integral <n l| r^power |n2 l2> of hydrogen, in bohr^power.
+
+    Z = 1 (for charge Z the integral scales as Z^-power). The result is
+    exact: a ``fractions.Fraction`` when the value is rational (for example
+    ``<2s| r |2s> = 6``), otherwise an :class:`Exact` with the exact form as
+    text (``c*sqrt(r)``) and the value as a ``Decimal`` with ``digits``
+    decimals, rounded to nearest.
+
+    Raises:
+        InvalidInput: an invalid state or a divergent integral (messages as
+            ``kzero radial``).
+    """
+    d = _kzero.radial(n, l, n2, l2, power, digits)
+    if d["rational"] is not None:
+        num, den = d["rational"]
+        return Fraction(int(num), int(den))
+    return Exact(d["exact"], Decimal(d["value"]), Decimal(d["abs_err"]), d["digits"])
+
+
+def oscillator(n: int, l: int, n2: int, l2: int) -> Fraction:
+    """The exact absorption oscillator strength f(n l -> n2 l2) of hydrogen.
+
+    Non-relativistic, infinite nuclear mass, summed over the final magnetic
+    substates and averaged over the initial ones; negative for emission
+    (n2 below n). Always rational, returned as a ``fractions.Fraction``:
+    ``oscillator(1, 0, 2, 1) == Fraction(2**13, 3**9)``.
+
+    Raises:
+        InvalidInput: an invalid state or a transition that is not
+            dipole-allowed (messages as ``kzero oscillator``).
+    """
+    num, den = _kzero.oscillator(n, l, n2, l2)
+    return Fraction(int(num), int(den))

@@ -3,7 +3,7 @@
 from decimal import Decimal
 from typing import Any, Dict, Iterable, List, Optional
 
-__all__ = ["Value", "to_rows"]
+__all__ = ["Exact", "Value", "to_rows"]
 
 
 class Value:
@@ -179,3 +179,34 @@ def to_rows(values: Iterable[Value]) -> List[Dict[str, Any]]:
     ``consistent``. pandas is not needed by kzero.
     """
     return [v.as_dict() for v in values]
+
+
+class Exact:
+    """An exact irrational number, such as a radial integral ``c*sqrt(r)``.
+
+    Attributes:
+        exact: the exact form as text, ``c*sqrt(r)`` with rational ``c`` and
+            ``r`` (for example ``559872/15625*sqrt(1/1458)``).
+        value: the number as a ``decimal.Decimal`` with ``digits`` decimals,
+            rounded to nearest.
+        abs_err: the printed error of ``value`` (the rounding), a
+            ``Decimal``, below 10^-digits.
+        digits: decimals of ``value``.
+    """
+
+    __slots__ = ("exact", "value", "abs_err", "digits")
+
+    def __init__(self, exact: str, value: Decimal, abs_err: Decimal, digits: int) -> None:
+        self.exact = exact
+        self.value = value
+        self.abs_err = abs_err
+        self.digits = digits
+
+    def __float__(self) -> float:
+        return float(self.value)
+
+    def __repr__(self) -> str:
+        return f"Exact({self.exact!r}, value={self.value!r})"
+
+    def __str__(self) -> str:
+        return f"{self.exact} = {self.value}"

@@ -91,9 +91,12 @@ def cli_error(kzero_bin, args):
 
 @pytest.mark.parametrize(
     "n,l,method",
-    [(0, 0, "green"), (2, 2, "green"), (3, -1, "spectral"), (201, 0, "green"), (250, 3, "spectral")],
+    # n far beyond the methods' range (kzero.MAX_N) in the last two.
+    [(0, 0, "green"), (2, 2, "green"), (3, -1, "spectral"), (10**6, 0, "green"),
+     (10**7, 3, "spectral")],
 )
 def test_bad_states_raise_invalid_input_with_the_cli_message(kzero_bin, n, l, method):
+    assert kzero.MAX_N < 10**6  # else the cases below would compute
     expected = cli_error(kzero_bin, ["state", str(n), str(l), "--method", method])
     with pytest.raises(kzero.InvalidInput) as e:
         kzero.ln_k0(n, l, method=method)
@@ -122,7 +125,62 @@ def test_digits_out_of_range(kzero_bin, digits):
 
 
 def test_unknown_gauge(kzero_bin):
-    expected = cli_option_error(kzero_bin, "gauge", "radial")
+    # `kzero table` lists the three forms (`kzero state` also accepts `all`,
+    # which the package does not offer).
+    msg = cli_error(kzero_bin, ["table", "--n-max", "2", "--gauge", "radial"])
+    expected = msg.replace("'--gauge <GAUGE>'", "'gauge'").removesuffix(" (see kzero --help)")
+    for call in [lambda: kzero.ln_k0(2, 0, method="spectral", gauge="radial"),
+                 lambda: kzero.table(n_max=2, method="spectral", gauge="radial")]:
+        with pytest.raises(kzero.InvalidInput) as e:
+            call()
+        assert str(e.value) == expected
+
+
+def test_both_methods_match_the_binary(kzero_bin):
+    cli = json.loads(subprocess.run(
+        [kzero_bin, "state", "3", "1", "--digits", "22", "--method", "both", "--json"],
+        check=True, capture_output=True, text=True).stdout)
+    v = kzero.ln_k0(3, 1, digits=22, method="both")
+    assert v.method == "both" and v.gauge == "velocity"
+    assert v.spectral is not None and v.spectral.method == "spectral"
+    assert v.value.as_tuple() == Decimal(cli["ln_k0"]).as_tuple()
+    assert v.spectral.value.as_tuple() == Decimal(cli["ln_k0_spectral"]).as_tuple()
+    assert v.agreement == cli["agreement_digits"] and v.consistent is cli["consistent"]
+    row = kzero.to_rows([v])[0]
+    assert row["agreement_digits"] == cli["agreement_digits"]
+    assert row["abs_err_spectral"].as_tuple() == Decimal(cli["abs_err_spectral"]).as_tuple()
+
+
+def test_a_disagreement_raises_methods_disagree_with_the_value(monkeypatch):
+    # The two methods agree on every state, so the native result is replaced
+    # by one that carries a disagreement message (invented numbers, in the
+    # engine's wording).
+    real = kzero._kzero.ln_k0(2, 1, 10, "both", "velocity")
+    message = ("methods disagree at (n=2, l=1): green -0.030016708630 +- 1e-12 vs "
+               "spectral -0.030016708640 +- 1e-12 (10 agreeing digits)")
+    fake = dict(real, consistent=False, disagreement=message)
+    monkeypatch.setattr(kzero._kzero, "ln_k0", lambda *args: fake)
+    with pytest.raises(kzero.MethodsDisagree) as e:
+        kzero.ln_k0(2, 1, digits=10, method="both")
+    assert str(e.value) == message
+    assert isinstance(e.value, RuntimeError)
+    assert e.value.value.n == 2 and e.value.value.consistent is False
+
+
+def test_unknown_method(kzero_bin):
+    expected = cli_option_error(kzero_bin, "method", "fastest")
     with pytest.raises(kzero.InvalidInput) as e:
-        kzero.ln_k0(2, 0, method="spectral", gauge="radial")
+        kzero.ln_k0(2, 0, method="fastest")
     assert str(e.value) == expected
+
+
+def test_build_info_has_the_table_header_keys(kzero_bin):
+    info = kzero.build_info()
+    assert list(info) == ["version", "git_revision", "mpfr", "gmp", "command", "started_utc"]
+    assert info["version"] == kzero.__version__
+    header = subprocess.run([kzero_bin, "table", "--n-max", "1", "--digits", "5", "--quiet"],
+                            check=True, capture_output=True, text=True).stdout
+    prov = dict(line[2:].split(": ", 1) for line in header.splitlines()
+                if line.startswith("# ") and ": " in line)
+    for key in ["version", "git_revision", "mpfr", "gmp"]:
+        assert info[key] == prov[key], key

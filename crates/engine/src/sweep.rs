@@ -1,6 +1,7 @@
 //! Precision sweeps: one state computed from scratch at a ladder of
 //! `digits`, each printed value compared with the most precise run.
 
+use crate::build_info::{command_line, Provenance};
 use crate::compute::{compute, validate_state};
 use crate::error::EngineError;
 use crate::method::MethodChoice;
@@ -27,6 +28,10 @@ pub struct SweepPoint {
 /// A precision sweep of one state.
 #[derive(Debug, Clone)]
 pub struct Sweep {
+    /// Where the sweep came from (the one provenance schema of every kzero
+    /// output; `command` is this process's command line, which a library
+    /// front end may replace with its own call).
+    pub provenance: Provenance,
     /// n.
     pub n: u32,
     /// l.
@@ -82,6 +87,7 @@ pub fn sweep(
     goal: Goal,
 ) -> Result<Sweep, EngineError> {
     let (n, l) = validate(n, l, method)?;
+    let provenance = Provenance::now(command_line());
     let mut ladder = ladder.to_vec();
     ladder.sort_unstable();
     ladder.dedup();
@@ -111,6 +117,7 @@ pub fn sweep(
         })
         .collect();
     Ok(Sweep {
+        provenance,
         n,
         l,
         method,
@@ -118,4 +125,50 @@ pub fn sweep(
         goal,
         points,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sweep_points_come_sorted_and_covered() {
+        let sw = sweep(
+            2,
+            1,
+            MethodChoice::Green,
+            Gauge::Velocity,
+            &[12, 6, 9, 12],
+            Goal::Absolute,
+        )
+        .unwrap();
+        let d: Vec<u32> = sw.points.iter().map(|p| p.value.digits).collect();
+        assert_eq!(d, [6, 9, 12]);
+        assert_eq!(sw.reference_digits(), 12);
+        assert!(sw.points[..2].iter().all(|p| p.covered == Some(true)));
+        assert_eq!(sw.points[2].actual_err, None);
+        assert_eq!(sw.provenance.version, crate::build_info::VERSION);
+        assert!(matches!(
+            sweep(
+                2,
+                1,
+                MethodChoice::Both,
+                Gauge::Velocity,
+                &[8],
+                Goal::Absolute
+            ),
+            Err(EngineError::SweepMethod)
+        ));
+        assert!(matches!(
+            sweep(
+                2,
+                1,
+                MethodChoice::Green,
+                Gauge::Velocity,
+                &[],
+                Goal::Absolute
+            ),
+            Err(EngineError::EmptyLadder)
+        ));
+    }
 }

@@ -3,7 +3,7 @@
 //! The Python package `kzero` (sources in `python/kzero/`, built with
 //! maturin from the `pyproject.toml` at the checkout root) is a thin
 //! pure-Python layer over this module. This crate only converts arguments and
-//! results between Python and the library crates; every computation and every
+//! results between Python and [`kzero_engine`]; every computation and every
 //! check of the input happens in the library crates, so the package and the
 //! `kzero` binary give the same digits and the same error messages.
 //!
@@ -15,14 +15,27 @@
 //! * Every computation runs with the interpreter released (other Python
 //!   threads keep running) and inside `catch_unwind`: a Rust panic becomes a
 //!   `RuntimeError("internal error: ...")`, never a crash of the interpreter.
-//! * Errors map to the package's exceptions: bad input to `InvalidInput` (a
-//!   `ValueError`), a goal that was not reached to `NoConvergence` (a
-//!   `RuntimeError`).
+//! * Errors map to the package's exceptions by their class
+//!   ([`kzero_engine::ErrorClass`]): bad input to `InvalidInput` (a
+//!   `ValueError`), non-convergence to `NoConvergence` (a `RuntimeError`), a
+//!   failed cross-check to `MethodsDisagree` (a `RuntimeError`).
+//! * Argument names that the command line spells as options (`--digits`,
+//!   `--method`, `--gauge`) appear in messages as the keyword names
+//!   (`'digits'`, `'method'`, `'gauge'`); the rest of each message is the
+//!   command line's.
 
+use kzero_bethe::Goal;
+use kzero_engine::{
+    build_info, catch_panic, compute_states, Computed, EngineError, ErrorClass, Gauge,
+    MethodChoice, Request, Settings, TableSettings,
+};
 use pyo3::exceptions::{PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
-use pyo3::types::PyDict;
-use std::panic::{self, AssertUnwindSafe};
+use pyo3::types::{PyDict, PyList};
+use std::str::FromStr;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::{mpsc, Arc};
+use std::time::Duration;
 
 pyo3::create_exception!(
     kzero,
@@ -36,116 +49,92 @@ pyo3::create_exception!(
     NoConvergence,
     PyRuntimeError,
     "The requested accuracy was not reached: the estimated error stayed \
-     above the goal 10^-digits. No number is returned in that case."
+     above the goal. No number is returned in that case."
 );
 pyo3::create_exception!(
     kzero,
     MethodsDisagree,
     PyRuntimeError,
     "The Green's-function and the spectral values differ by more than their \
-     combined error estimates (method=\"both\"; the command line exits 3)."
+     combined error estimates (method=\"both\"; the command line exits 3). \
+     The computed result is attached as the attribute `value` (a \
+     kzero.Value) or `values` (a list, for a table)."
 );
 
-/// A failure of one call, before it becomes a Python exception.
-#[derive(Debug)]
-enum Failure {
-    /// Bad input (`InvalidInput`).
-    Invalid(String),
-    /// The accuracy goal was not reached (`NoConvergence`).
-    NoConvergence(String),
-    /// Anything else, including a caught panic (`RuntimeError`).
-    Other(String),
-}
-
-impl From<Failure> for PyErr {
-    fn from(f: Failure) -> PyErr {
-        match f {
-            Failure::Invalid(m) => InvalidInput::new_err(m),
-            Failure::NoConvergence(m) => NoConvergence::new_err(m),
-            Failure::Other(m) => PyRuntimeError::new_err(m),
-        }
-    }
-}
-
-impl From<kzero_bethe::BetheError> for Failure {
-    fn from(e: kzero_bethe::BetheError) -> Self {
-        use kzero_bethe::BetheError as E;
-        match e {
-            E::InvalidState { .. }
-            | E::OutOfRange { .. }
-            | E::DigitsOutOfRange { .. }
-            | E::GaugeUnsupported { .. }
-            | E::Basis(_) => Failure::Invalid(e.to_string()),
-            E::NoConvergence { .. } => Failure::NoConvergence(e.to_string()),
-            _ => Failure::Other(e.to_string()),
-        }
+/// An engine error as the package's exception.
+fn to_py(e: EngineError) -> PyErr {
+    let msg = e.to_string();
+    match e.class() {
+        ErrorClass::BadInput => InvalidInput::new_err(msg),
+        ErrorClass::CheckFailed => MethodsDisagree::new_err(msg),
+        _ if e.is_no_convergence() => NoConvergence::new_err(msg),
+        _ => PyRuntimeError::new_err(msg),
     }
 }
 
 /// Runs `f` with the interpreter released, turning a panic into
-/// [`Failure::Other`].
-fn guarded<T: Send>(
+/// [`EngineError::Internal`].
+fn released<T: Send>(
     py: Python<'_>,
-    f: impl FnOnce() -> Result<T, Failure> + Send,
-) -> Result<T, Failure> {
-    py.detach(|| match panic::catch_unwind(AssertUnwindSafe(f)) {
-        Ok(r) => r,
-        Err(payload) => {
-            let msg = payload
-                .downcast_ref::<&str>()
-                .map(|s| s.to_string())
-                .or_else(|| payload.downcast_ref::<String>().cloned())
-                .unwrap_or_else(|| "unknown cause".into());
-            Err(Failure::Other(format!(
-                "internal error: {}",
-                msg.lines().next().unwrap_or("")
-            )))
-        }
+    f: impl FnOnce() -> Result<T, EngineError> + Send,
+) -> PyResult<T> {
+    py.detach(|| catch_panic(f)).map_err(to_py)
+}
+
+/// The command line's message for a value that its parser refuses, with the
+/// keyword name in place of the option.
+fn invalid_value(name: &str, given: &str, detail: &str) -> PyErr {
+    InvalidInput::new_err(format!("invalid value '{given}' for '{name}'{detail}"))
+}
+
+/// A named choice parsed by the library's `FromStr` (the one spelling of
+/// the names).
+fn parse_named<T: FromStr>(name: &str, given: &str, accepted: &[&str]) -> PyResult<T> {
+    T::from_str(given).map_err(|_| {
+        invalid_value(
+            name,
+            given,
+            &format!(" [possible values: {}]", accepted.join(", ")),
+        )
     })
 }
 
-/// The method names accepted by `ln_k0`.
-fn parse_method(s: &str) -> Result<kzero_bethe::Method, Failure> {
-    match s {
-        "green" => Ok(kzero_bethe::Method::Green),
-        "spectral" => Ok(kzero_bethe::Method::Spectral),
-        _ => Err(Failure::Invalid(format!(
-            "invalid value '{s}' for 'method' [possible values: green, spectral]"
-        ))),
-    }
+fn parse_method(given: &str) -> PyResult<MethodChoice> {
+    parse_named("method", given, MethodChoice::NAMES)
 }
 
-/// The gauge names accepted by `ln_k0`.
-fn parse_gauge(s: &str) -> Result<kzero_bethe::Gauge, Failure> {
-    use kzero_bethe::Gauge;
-    match s {
-        "velocity" => Ok(Gauge::Velocity),
-        "length" => Ok(Gauge::Length),
-        "acceleration" => Ok(Gauge::Acceleration),
-        _ => Err(Failure::Invalid(format!(
-            "invalid value '{s}' for 'gauge' [possible values: velocity, length, acceleration]"
-        ))),
-    }
+fn parse_gauge(given: &str) -> PyResult<Gauge> {
+    parse_named("gauge", given, Gauge::NAMES)
 }
 
-/// Converts `digits` as given in Python to the library's settings. Out of
-/// range, the message is the command line's for `--digits`, with the keyword
-/// name in place of the option.
-fn digits_setting(digits: i64) -> Result<kzero_bethe::Settings, Failure> {
+/// `digits` as given in Python, checked against the library's range (the
+/// command line refuses the same values with the same wording).
+fn parse_digits(digits: i64) -> PyResult<u32> {
     use kzero_bethe::settings::{MAX_DIGITS, MIN_DIGITS};
     match u32::try_from(digits) {
-        Ok(d) if (MIN_DIGITS..=MAX_DIGITS).contains(&d) => {
-            Ok(kzero_bethe::Settings::with_digits(d))
-        }
-        _ => Err(Failure::Invalid(format!(
-            "invalid value '{digits}' for 'digits': {digits} is not in {MIN_DIGITS}..={MAX_DIGITS}"
-        ))),
+        Ok(d) if (MIN_DIGITS..=MAX_DIGITS).contains(&d) => Ok(d),
+        _ => Err(invalid_value(
+            "digits",
+            &digits.to_string(),
+            &format!(": {digits} is not in {MIN_DIGITS}..={MAX_DIGITS}"),
+        )),
     }
 }
 
-/// One Bethe logarithm as a dict of plain values (the Python layer builds a
-/// `kzero.Value` from it).
-fn value_dict<'py>(py: Python<'py>, v: &kzero_bethe::BetheValue) -> PyResult<Bound<'py, PyDict>> {
+/// The request of one call: method, gauge and the absolute goal 10^-digits.
+fn request(digits: i64, method: &str, gauge: &str) -> PyResult<Request> {
+    let method = parse_method(method)?;
+    let gauge = parse_gauge(gauge)?;
+    let digits = parse_digits(digits)?;
+    Ok(Request {
+        method,
+        gauge,
+        settings: Settings::with_digits(digits),
+    })
+}
+
+/// One method's value as a dict of plain values.
+fn value_dict<'py>(py: Python<'py>, v: &kzero_engine::BetheValue) -> PyResult<Bound<'py, PyDict>> {
     let d = PyDict::new(py);
     d.set_item("n", v.n)?;
     d.set_item("l", v.l)?;
@@ -160,7 +149,38 @@ fn value_dict<'py>(py: Python<'py>, v: &kzero_bethe::BetheValue) -> PyResult<Bou
     Ok(d)
 }
 
-/// ln k0(n, l) by one method; see `kzero.ln_k0` for the contract.
+/// A computed state as a dict: the primary value's fields, the method
+/// setting, the gauge where the spectral method ran, and with both methods
+/// `spectral` (a dict), `agreement`, `consistent` and `disagreement` (the
+/// command line's message when they disagree, else `None`).
+fn computed_dict<'py>(
+    py: Python<'py>,
+    c: &Computed,
+    req: &Request,
+) -> PyResult<Bound<'py, PyDict>> {
+    let d = value_dict(py, c.primary())?;
+    d.set_item("method", req.method.name())?;
+    d.set_item("seconds", c.seconds())?;
+    if req.method != MethodChoice::Green {
+        d.set_item("gauge", req.gauge.name())?;
+    }
+    if let (Some(s), Some(a)) = (c.spectral().filter(|_| c.green().is_some()), c.agreement()) {
+        d.set_item("spectral", value_dict(py, s)?)?;
+        d.set_item("agreement", a.digits)?;
+        d.set_item("consistent", a.consistent)?;
+        d.set_item(
+            "disagreement",
+            c.check_agreement().err().map(|e| e.to_string()),
+        )?;
+    }
+    Ok(d)
+}
+
+/// ln k0(n, l) with the requested method(s); see `kzero.ln_k0`.
+///
+/// A disagreement of the two methods is not raised here: the result carries
+/// the message (`disagreement`) and the Python layer raises
+/// `MethodsDisagree` with the value attached.
 #[pyfunction]
 #[pyo3(signature = (n, l, digits, method, gauge))]
 fn ln_k0<'py>(
@@ -171,28 +191,263 @@ fn ln_k0<'py>(
     method: &str,
     gauge: &str,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let m = parse_method(method)?;
-    let g = parse_gauge(gauge)?;
-    let settings = digits_setting(digits)?;
-    let v = guarded(py, move || {
-        let (n, l) = kzero_bethe::settings::validate_state(n, l, m.name())?;
-        let (n, l) = (i64::from(n), i64::from(l));
-        Ok(match m {
-            kzero_bethe::Method::Green => kzero_bethe::green::ln_k0(n, l, &settings)?,
-            kzero_bethe::Method::Spectral => kzero_bethe::spectral::ln_k0(n, l, g, &settings)?,
-        })
+    let req = request(digits, method, gauge)?;
+    let (n, l) = kzero_engine::validate_state(n, l, req.method).map_err(to_py)?;
+    let c = released(py, || req.compute(n, l))?;
+    computed_dict(py, &c, &req)
+}
+
+/// How often a running table looks for a pending signal (Ctrl-C).
+const SIGNAL_POLL: Duration = Duration::from_millis(100);
+
+/// Many states in parallel; see `kzero.table`.
+///
+/// The states run on a separate thread while this one waits with the
+/// interpreter released, waking every [`SIGNAL_POLL`] to run the Python
+/// signal handlers. A `KeyboardInterrupt` (or any exception a handler
+/// raises) sets the batch's cancellation flag, so no further state starts,
+/// and is raised at once; the states already running finish in the
+/// background and are dropped.
+///
+/// Returns the computed states as dicts, sorted by (n, l). Failed states
+/// raise: the first failure (by (n, l)) with the command line's wording
+/// `state (n=.., l=..): ...`.
+#[pyfunction]
+#[pyo3(signature = (states, digits, method, gauge, threads))]
+fn table<'py>(
+    py: Python<'py>,
+    states: Vec<(i64, i64)>,
+    digits: i64,
+    method: &str,
+    gauge: &str,
+    threads: Option<i64>,
+) -> PyResult<Bound<'py, PyList>> {
+    let req = request(digits, method, gauge)?;
+    let threads = match threads {
+        None => None,
+        Some(t) if (1..=4096).contains(&t) => Some(t as usize),
+        Some(t) => {
+            return Err(invalid_value(
+                "threads",
+                &t.to_string(),
+                &format!(": {t} is not in 1..=4096"),
+            ))
+        }
+    };
+    let mut keys = Vec::with_capacity(states.len());
+    for (n, l) in states {
+        keys.push(kzero_engine::validate_state(n, l, req.method).map_err(to_py)?);
+    }
+    let cancel = Arc::new(AtomicBool::new(false));
+    let (tx, rx) = mpsc::channel();
+    {
+        let (req, cancel) = (req.clone(), Arc::clone(&cancel));
+        std::thread::Builder::new()
+            .name("kzero-table".into())
+            .spawn(move || {
+                let stop = || cancel.load(Ordering::Relaxed);
+                let r = catch_panic(|| compute_states(&keys, &req, threads, &stop));
+                // The receiver is gone after an interrupt; nothing to report then.
+                let _ = tx.send(r);
+            })
+            .map_err(|e| PyRuntimeError::new_err(format!("cannot start a thread: {e}")))?;
+    }
+    let mut rx = rx;
+    let batch = loop {
+        // The receiver moves into the released section and back (it is not Sync).
+        let (back, got) = py.detach(move || {
+            let got = rx.recv_timeout(SIGNAL_POLL);
+            (rx, got)
+        });
+        rx = back;
+        match got {
+            Ok(r) => break r.map_err(to_py)?,
+            Err(mpsc::RecvTimeoutError::Timeout) => {
+                if let Err(e) = py.check_signals() {
+                    cancel.store(true, Ordering::Relaxed);
+                    return Err(e);
+                }
+            }
+            Err(mpsc::RecvTimeoutError::Disconnected) => {
+                return Err(PyRuntimeError::new_err(
+                    "internal error: the table thread ended without a result",
+                ))
+            }
+        }
+    };
+    let out = PyList::empty(py);
+    let mut failures = Vec::new();
+    for r in batch.results {
+        match r.result {
+            Ok(c) => out.append(computed_dict(py, &c, &req)?)?,
+            Err(e) => failures.push((r.n, r.l, e)),
+        }
+    }
+    if let Some((n, l, first)) = failures.first() {
+        let more = if failures.len() > 1 {
+            format!(" (and {} more failed states)", failures.len() - 1)
+        } else {
+            String::new()
+        };
+        let msg = format!("state (n={n}, l={l}): {first}{more}");
+        let all_bad = failures
+            .iter()
+            .all(|(_, _, e)| e.class() == ErrorClass::BadInput);
+        return Err(if all_bad {
+            InvalidInput::new_err(msg)
+        } else if first.is_no_convergence() {
+            NoConvergence::new_err(msg)
+        } else {
+            PyRuntimeError::new_err(msg)
+        });
+    }
+    Ok(out)
+}
+
+/// The states of a table over a range, selected and checked by the library
+/// as `kzero table --n-min --n-max --l` does (sorted by (n, l)); messages
+/// name the keywords `n_min`, `n_max`, `l` where the command line names its
+/// options.
+#[pyfunction]
+#[pyo3(signature = (n_min, n_max, l))]
+fn range_states(n_min: i64, n_max: i64, l: Option<Vec<i64>>) -> PyResult<Vec<(u32, u32)>> {
+    let s = TableSettings::new(
+        n_min,
+        n_max,
+        l.as_deref(),
+        None,
+        Settings::default().digits,
+        MethodChoice::default(),
+        Gauge::default(),
+    )
+    .map_err(|e| {
+        let msg = e
+            .to_string()
+            .replace("--n-max", "n_max")
+            .replace("--n-min", "n_min")
+            .replace("--l ", "l ");
+        InvalidInput::new_err(msg)
     })?;
-    value_dict(py, &v)
+    Ok(s.states())
+}
+
+/// A precision sweep of one state; see `kzero.sweep`. One dict per rung
+/// (in increasing digits): `value` (the rung's computed value as the dict
+/// of [`value_dict`]), the printed `ln_k0` and `abs_err`, `actual_err`
+/// (`None` for the reference rung) and `covered`.
+#[pyfunction]
+#[pyo3(signature = (n, l, digits, method, gauge))]
+fn sweep<'py>(
+    py: Python<'py>,
+    n: i64,
+    l: i64,
+    digits: Vec<i64>,
+    method: &str,
+    gauge: &str,
+) -> PyResult<Bound<'py, PyList>> {
+    let method = parse_method(method)?;
+    let gauge = parse_gauge(gauge)?;
+    let mut ladder = Vec::with_capacity(digits.len());
+    for d in digits {
+        ladder.push(parse_digits(d)?);
+    }
+    let s = released(py, || {
+        kzero_engine::sweep::sweep(n, l, method, gauge, &ladder, Goal::Absolute)
+    })?;
+    let out = PyList::empty(py);
+    for p in &s.points {
+        let d = PyDict::new(py);
+        d.set_item("digits", p.value.digits)?;
+        d.set_item("ln_k0", &p.printed.value)?;
+        d.set_item("abs_err", &p.printed.abs_err)?;
+        d.set_item(
+            "actual_err",
+            p.actual_err.map(kzero_bethe::value::format_err),
+        )?;
+        d.set_item("covered", p.covered)?;
+        d.set_item("value", value_dict(py, &p.value)?)?;
+        out.append(d)?;
+    }
+    Ok(out)
+}
+
+/// An exact rational as (numerator, denominator) decimal strings.
+fn ratio(q: &rug::Rational) -> (String, String) {
+    (q.numer().to_string(), q.denom().to_string())
+}
+
+/// An exact radial integral; see `kzero.radial`. `rational` is (numerator,
+/// denominator) when the value is rational, else `None`.
+#[pyfunction]
+#[pyo3(signature = (n, l, n2, l2, power, digits))]
+fn radial<'py>(
+    py: Python<'py>,
+    n: i64,
+    l: i64,
+    n2: i64,
+    l2: i64,
+    power: i64,
+    digits: i64,
+) -> PyResult<Bound<'py, PyDict>> {
+    let digits = parse_digits(digits)?;
+    let power = i32::try_from(power).map_err(|_| {
+        invalid_value(
+            "power",
+            &power.to_string(),
+            ": number too large to fit in target type",
+        )
+    })?;
+    let r = released(py, || {
+        kzero_engine::exact::radial(n, l, n2, l2, power, digits)
+    })?;
+    let d = PyDict::new(py);
+    let rational = (r.value.radicand == 1 || r.value.coef == 0).then(|| ratio(&r.value.coef));
+    d.set_item("rational", rational)?;
+    d.set_item("exact", &r.exact)?;
+    d.set_item("value", &r.decimal.value)?;
+    d.set_item("abs_err", &r.decimal.abs_err)?;
+    d.set_item("digits", digits)?;
+    Ok(d)
+}
+
+/// An exact oscillator strength as (numerator, denominator); see
+/// `kzero.oscillator`.
+#[pyfunction]
+#[pyo3(signature = (n, l, n2, l2))]
+fn oscillator(py: Python<'_>, n: i64, l: i64, n2: i64, l2: i64) -> PyResult<(String, String)> {
+    let digits = Settings::default().digits;
+    let f = released(py, || kzero_engine::exact::oscillator(n, l, n2, l2, digits))?;
+    Ok(ratio(&f.value))
+}
+
+/// Versions and git revision of this build, with the provenance keys of a
+/// table header (`command` is this process's command line, `started_utc`
+/// the time of the call).
+#[pyfunction]
+fn build_info_dict(py: Python<'_>) -> PyResult<Bound<'_, PyDict>> {
+    let d = PyDict::new(py);
+    let p = kzero_engine::Provenance::now(build_info::command_line());
+    for (k, v) in p.pairs() {
+        d.set_item(k, v)?;
+    }
+    Ok(d)
 }
 
 /// The native module `kzero._kzero`.
 #[pymodule]
 fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     let py = m.py();
-    m.add("__version__", env!("CARGO_PKG_VERSION"))?;
+    m.add("__version__", build_info::VERSION)?;
+    m.add("MAX_N", kzero_bethe::settings::MAX_N)?;
     m.add("InvalidInput", py.get_type::<InvalidInput>())?;
     m.add("NoConvergence", py.get_type::<NoConvergence>())?;
     m.add("MethodsDisagree", py.get_type::<MethodsDisagree>())?;
     m.add_function(wrap_pyfunction!(ln_k0, m)?)?;
+    m.add_function(wrap_pyfunction!(table, m)?)?;
+    m.add_function(wrap_pyfunction!(build_info_dict, m)?)?;
+    m.add_function(wrap_pyfunction!(range_states, m)?)?;
+    m.add_function(wrap_pyfunction!(sweep, m)?)?;
+    m.add_function(wrap_pyfunction!(radial, m)?)?;
+    m.add_function(wrap_pyfunction!(oscillator, m)?)?;
     Ok(())
 }
