@@ -21,7 +21,7 @@ at the highest D (itself uncertain by that value's estimated error, so the
 last row has none). 'covered' says whether the printed error is at least that
 actual error plus the reference's own estimated error.")]
 pub struct SweepArgs {
-    /// Principal quantum number n (1..=200).
+    /// Principal quantum number n (1..=1000).
     #[arg(value_name = "N", allow_negative_numbers = true)]
     pub n: i64,
     /// Orbital angular momentum l (0 <= l < n).

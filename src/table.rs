@@ -24,7 +24,7 @@ use std::time::Instant;
 #[derive(Debug, clap::Args)]
 #[command(after_long_help = TABLE_HELP)]
 pub struct TableArgs {
-    /// Largest principal quantum number (1..=200).
+    /// Largest principal quantum number (1..=1000).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub n_max: i64,
     /// Smallest principal quantum number.
@@ -89,6 +89,14 @@ pub struct TableArgs {
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,
+    /// Print the estimated cost of the run (core-seconds, wall time with
+    /// --threads) and stop without computing or writing anything.
+    #[arg(long)]
+    pub estimate: bool,
+    /// With --estimate: the shard count whose parts finish within this wall
+    /// time, each with --threads threads (seconds, or e.g. 90s, 30m, 2h).
+    #[arg(long, value_name = "TIME", requires = "estimate", value_parser = kzero_engine::parse_duration)]
+    pub target_wall: Option<f64>,
 }
 
 const TABLE_HELP: &str = "\
@@ -140,6 +148,14 @@ Cluster recipe (Slurm job array; the same pattern works with any scheduler):
   kzero merge part-*.csv --out table.csv
   A requeued task that finds its part file continues it with --resume.
 
+Cost before the run:
+  --estimate prints the estimated core-seconds of the states of this command
+  (of its shard with --shard) and the wall time with --threads, and stops;
+  with --target-wall TIME it also names the shard count M whose parts finish
+  within TIME. The figures come from cost models fitted to measured times on
+  the reference machine of benches/README.md (within a factor of about 1.5);
+  nothing is computed and no file is touched.
+
 Determinism:
   ln_k0 and abs_err do not depend on --threads, sharding or resuming.
 
@@ -171,10 +187,13 @@ pub fn settings_from_args(a: &TableArgs) -> Result<TableSettings, AppError> {
 pub fn run(a: &TableArgs) -> Result<(), AppError> {
     let settings = settings_from_args(a)?;
     let format = if a.json { TableFormat::Json } else { a.format };
-    interrupt::on_stop(stop_hint(a, format))?;
     let shard = a.shard.unwrap_or(Shard::WHOLE);
     let cores = kzero_engine::default_threads();
     let threads = a.threads.map_or(cores, |t| t as usize);
+    if a.estimate {
+        return print_estimate(a, &settings, shard, threads);
+    }
+    interrupt::on_stop(stop_hint(a, format))?;
     // The journal's lock first: a file another run is writing is refused as
     // busy, whatever else the command asks. Held until the run ends.
     let lock = match &a.out {
@@ -301,6 +320,69 @@ fn check_table_outputs(a: &TableArgs, format: TableFormat) -> Result<(), AppErro
         });
     }
     Ok(check_outputs(&outputs, &[])?)
+}
+
+/// `--estimate`: the cost of the run, without computing.
+fn print_estimate(
+    a: &TableArgs,
+    settings: &TableSettings,
+    shard: Shard,
+    threads: usize,
+) -> Result<(), AppError> {
+    use kzero_engine::human_duration as dur;
+    let states: Vec<Key> = plan(&settings.states(), settings.digits, settings.method, shard)
+        .into_iter()
+        .map(|(k, _)| k)
+        .collect();
+    let e = kzero_engine::estimate(&states, settings.digits, settings.method, threads);
+    let mut text = format!(
+        "estimate for {} states (n = {}..{}, {} digits, method {}), shard {}/{}:\n",
+        e.states,
+        settings.n_min,
+        settings.n_max,
+        settings.digits,
+        settings.method,
+        shard.k,
+        shard.m
+    );
+    text += &format!(
+        "  cost        {:.0} core-seconds ({} of one core)\n",
+        e.core_seconds,
+        dur(e.core_seconds)
+    );
+    text += &format!(
+        "  wall time   {} with {} thread{}\n",
+        dur(e.wall_seconds()),
+        e.threads,
+        if e.threads == 1 { "" } else { "s" }
+    );
+    if let Some(((n, l), c)) = e.largest {
+        text += &format!("  costliest   ({n},{l}): {c:.2} core-seconds\n");
+    }
+    if let Some(target) = a.target_wall {
+        let g = kzero_engine::suggest_shards(
+            &states,
+            settings.digits,
+            settings.method,
+            threads,
+            target,
+        );
+        let verdict = if g.meets_target {
+            "slowest part"
+        } else {
+            "target not reachable; slowest part"
+        };
+        text += &format!(
+            "  for {} of wall time: --shard K/{} with {} threads each ({verdict} {})\n",
+            dur(target),
+            g.shards,
+            threads,
+            dur(g.wall_seconds)
+        );
+    }
+    text += "nothing was computed; the figures are fits to measured times (benches/README.md), within a factor of about 1.5\n";
+    output::print(&text)?;
+    Ok(())
 }
 
 /// What SIGINT or SIGTERM tells about continuing this run.

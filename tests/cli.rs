@@ -1009,6 +1009,82 @@ fn significant_goal_in_state_and_sweep() {
     assert!(rows[..2].iter().all(|r| r["covered"] == true));
 }
 
+/// `kzero table --estimate`: the cost of the run is printed, nothing is
+/// computed and no file is touched; the shard suggestion splits the run by
+/// the same plan as `--shard`; `--target-wall` needs `--estimate`.
+#[test]
+fn table_estimate_prints_cost_without_computing() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = p(dir.path(), "t.csv");
+    let o = kzero(&[
+        "table",
+        "--n-max",
+        "200",
+        "--digits",
+        "20",
+        "--threads",
+        "2",
+        "--out",
+        &out,
+        "--estimate",
+        "--target-wall",
+        "1m",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = stdout(&o);
+    assert!(text.starts_with("estimate for 20100 states"), "{text}");
+    assert!(text.contains("core-seconds") && text.contains("with 2 threads"));
+    // the suggested count meets 1 minute with 2 threads
+    let m: u32 = text
+        .split("--shard K/")
+        .nth(1)
+        .and_then(|r| r.split_whitespace().next())
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("no shard count in {text}"));
+    assert!(m > 1, "{text}");
+    assert!(text.contains("(slowest part"), "{text}");
+    assert!(!Path::new(&out).exists(), "--estimate wrote {out}");
+    // one shard of it costs about 1/m of the whole
+    let part = kzero(&[
+        "table",
+        "--n-max",
+        "200",
+        "--digits",
+        "20",
+        "--threads",
+        "2",
+        "--estimate",
+        "--shard",
+        &format!("1/{m}"),
+    ]);
+    assert_eq!(code(&part), 0);
+    let seconds = |t: &str| -> f64 {
+        t.lines()
+            .find(|l| l.trim_start().starts_with("cost"))
+            .and_then(|l| l.split_whitespace().nth(1))
+            .and_then(|v| v.parse().ok())
+            .unwrap_or_else(|| panic!("no cost in {t}"))
+    };
+    let whole = seconds(&text);
+    let one = seconds(&stdout(&part));
+    assert!(one < whole / f64::from(m) * 1.2 && one > whole / f64::from(m) * 0.8);
+    assert_bad_input(
+        &kzero(&["table", "--n-max", "3", "--target-wall", "1m"]),
+        "--target-wall without --estimate",
+    );
+    assert_bad_input(
+        &kzero(&[
+            "table",
+            "--n-max",
+            "3",
+            "--estimate",
+            "--target-wall",
+            "soon",
+        ]),
+        "bad --target-wall",
+    );
+}
+
 #[test]
 fn table_records_the_goal_and_refuses_to_resume_with_another() {
     let dir = tempfile::tempdir().unwrap();
