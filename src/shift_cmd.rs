@@ -111,14 +111,25 @@ fn parse_int(text: &str, what: &str) -> Result<i64, AppError> {
 
 /// The nucleus from --nucleus / --mass / --z / --radius.
 fn nucleus_from_args(a: &ShiftArgs) -> Result<Nucleus, AppError> {
-    if let Some(r) = a.radius {
+    nucleus_from_options(a.nucleus.as_deref(), a.mass.as_deref(), a.z, a.radius)
+}
+
+/// The nucleus from the options --nucleus NAME / --mass M / --z Z /
+/// --radius FM shared by the commands that need one (default: H).
+pub(crate) fn nucleus_from_options(
+    nucleus_name: Option<&str>,
+    mass: Option<&str>,
+    z: Option<i64>,
+    radius: Option<f64>,
+) -> Result<Nucleus, AppError> {
+    if let Some(r) = radius {
         if !r.is_finite() {
             return Err(AppError::BadInput(format!(
                 "--radius {r} is not a finite number of fm"
             )));
         }
     }
-    let nuc = match (&a.nucleus, &a.mass) {
+    let nuc = match (nucleus_name, mass) {
         (Some(_), Some(_)) => {
             return Err(AppError::BadInput(
                 "give either --nucleus or --mass, not both".to_string(),
@@ -133,12 +144,12 @@ fn nucleus_from_args(a: &ShiftArgs) -> Result<Nucleus, AppError> {
                     ))
                 })?,
             };
-            Nucleus::custom(a.z.unwrap_or(1), mass, a.radius).map_err(bad)?
+            Nucleus::custom(z.unwrap_or(1), mass, radius).map_err(bad)?
         }
         (preset, None) => {
-            let name = preset.as_deref().unwrap_or("H");
+            let name = preset.unwrap_or("H");
             let nuc = Nucleus::preset(name).map_err(bad)?;
-            if let Some(z) = a.z {
+            if let Some(z) = z {
                 nucleus::check_z(z).map_err(bad)?;
                 if z != i64::from(nuc.z) {
                     return Err(AppError::BadInput(if preset.is_some() {
@@ -151,7 +162,7 @@ fn nucleus_from_args(a: &ShiftArgs) -> Result<Nucleus, AppError> {
                     }));
                 }
             }
-            match a.radius {
+            match radius {
                 Some(r) => nuc.with_radius(r).map_err(bad)?,
                 None => nuc,
             }

@@ -1142,3 +1142,49 @@ fn the_cluster_check_finds_the_readme_recipe() {
     // The batch script continues a part file whenever it exists.
     assert!(readme.contains("if [ -e \"$OUT\" ]; then RESUME=\"--resume\"; fi"));
 }
+
+/// `kzero sums`: the JSON object with the fixed names, S(0) = 1
+/// (Thomas-Reiche-Kuhn), 4 S(-2) = 9/2 bohr^3 for 1s (Bethe & Salpeter
+/// (1957)), I(0) of 1s about 14.99 eV with an infinitely heavy nucleus
+/// (Inokuti, Rev. Mod. Phys. 43, 297 (1971), from memory), every printed
+/// value within its printed error of the exact S(k), the methods in
+/// agreement, and bad powers refused with exit 2.
+#[test]
+fn sums_command_json_values_and_bad_powers() {
+    let o = kzero(&[
+        "sums", "1", "0", "--k", "-2,0,2", "--json", "--method", "both", "--mass", "inf",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("json");
+    for key in ["n", "l", "digits", "method", "rows"] {
+        assert!(v.get(key).is_some(), "missing {key}");
+    }
+    assert_eq!(v["consistent"], serde_json::Value::Bool(true));
+    let rows = v["rows"].as_array().expect("rows");
+    assert_eq!(rows.len(), 3);
+    for r in rows {
+        for key in ["k", "S", "S_err", "L", "L_err", "ln_I", "ln_I_err"] {
+            assert!(r.get(key).is_some(), "row without {key}");
+        }
+        assert!(r["S"].is_string() && r["L_err"].is_string());
+        let (s, e) = (number(&r["S"]), number(&r["S_err"]));
+        let want = match r["k"].as_i64() {
+            Some(-2) => 1.125,
+            Some(0) => 1.0,
+            Some(2) => 16.0 / 3.0,
+            k => panic!("k = {k:?}"),
+        };
+        assert!((s - want).abs() <= e + 1e-15, "S = {s} +- {e}");
+        if r["k"].as_i64() == Some(0) {
+            let ev = number(&r["I_eV"]);
+            assert!((ev - 14.99).abs() < 0.01, "I(0) = {ev} eV");
+        }
+    }
+    for bad in [["--k", "3"], ["--k", "-5"]] {
+        let o = kzero(&["sums", "2", "1", bad[0], bad[1]]);
+        assert_bad_input(&o, "power k");
+    }
+    let o = kzero(&["sums", "2", "1", "--k", "0", "--digits", "12"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert!(stdout(&o).contains("ln I(k)"), "{}", stdout(&o));
+}
