@@ -47,6 +47,9 @@ pub struct SweepArgs {
     /// One JSON object instead of the text table.
     #[arg(long)]
     pub json: bool,
+    /// Replace an existing --plot file instead of refusing.
+    #[arg(long, requires = "plot")]
+    pub force: bool,
 }
 
 /// Runs `kzero sweep`.
@@ -58,7 +61,16 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
     kzero_engine::sweep::validate(a.n, a.l, a.method)?;
     let gauge = a.gauge.unwrap_or(Gauge::Velocity);
     if let Some(p) = &a.plot {
-        kzero_engine::table::files::check_output_folder(p, "--plot")?;
+        use kzero_engine::table::files::{check_outputs, OutputKind, PlannedOutput};
+        check_outputs(
+            &[PlannedOutput {
+                option: "--plot",
+                path: p,
+                kind: OutputKind::Plot,
+                refuse_existing: (!a.force).then_some("use --force to replace it"),
+            }],
+            &[],
+        )?;
     }
     let (ladder, goal) = match (&a.digits, &a.significant) {
         (_, Some(s)) => (s.clone(), Goal::Significant),

@@ -48,12 +48,14 @@ fn data_lines(text: &str) -> Vec<String> {
         .collect()
 }
 
-/// Data lines without the wall-time column (index 7).
+/// Data lines without the wall-time column (index 7) and the row checksum
+/// (the last column, which covers the wall time).
 fn value_columns(text: &str) -> Vec<String> {
     data_lines(text)
         .iter()
         .map(|l| {
             let mut f: Vec<&str> = l.split(',').collect();
+            f.pop();
             f.remove(7);
             f.join(",")
         })
@@ -97,7 +99,7 @@ fn table_is_sorted_complete_and_carries_provenance() {
     ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let text = fs::read_to_string(&out).unwrap();
-    assert!(text.starts_with("# kzero-table: 1\n"));
+    assert!(text.starts_with("# kzero-table: 2\n"));
     for key in [
         "# version: ",
         "# git_revision: ",
@@ -113,7 +115,7 @@ fn table_is_sorted_complete_and_carries_provenance() {
     ] {
         assert!(text.contains(key), "missing {key}");
     }
-    assert!(text.contains("\nn,l,ln_k0,abs_err,method,digits,bits,seconds\n"));
+    assert!(text.contains("\nn,l,ln_k0,abs_err,method,digits,bits,seconds,check\n"));
     let rows = data_lines(&text);
     let keys: Vec<(u32, u32)> = rows
         .iter()
@@ -381,7 +383,7 @@ fn resume_starts_the_work_on_a_file_left_before_the_first_row() {
             value_columns(&full_text),
             "cut at {cut}"
         );
-        assert!(text.starts_with("# kzero-table: 1\n"));
+        assert!(text.starts_with("# kzero-table: 2\n"));
     }
     // A cut header that names other digits or another shard is refused,
     // the file untouched.
@@ -887,7 +889,7 @@ fn both_methods_in_state_and_table_agree() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let text = stdout(&o);
     assert!(text.contains(
-        "\nn,l,ln_k0,abs_err,method,digits,bits,seconds,ln_k0_spectral,abs_err_spectral,agreement_digits\n"
+        "\nn,l,ln_k0,abs_err,method,digits,bits,seconds,ln_k0_spectral,abs_err_spectral,agreement_digits,check\n"
     ));
     let rows = data_lines(&text);
     assert_eq!(rows.len(), 6);
