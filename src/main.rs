@@ -18,6 +18,7 @@ mod output;
 mod plot;
 mod shift_cmd;
 mod state_cmd;
+mod sums_cmd;
 mod sweep;
 mod table;
 
@@ -58,6 +59,8 @@ enum Command {
     Oscillator(basis_cmd::OscillatorArgs),
     /// Leading one-loop QED shift of a level from its Bethe logarithm.
     Shift(shift_cmd::ShiftArgs),
+    /// Logarithmic dipole sums S(k), L(k), ln I(k) and mean excitation energies of a state.
+    Sums(sums_cmd::SumsArgs),
 }
 
 /// Runs `f`, turning a panic inside it into an error (exit 1) instead of a
@@ -109,6 +112,7 @@ fn run(cli: Cli) -> Result<(), AppError> {
         Command::Radial(a) => basis_cmd::run_radial(a),
         Command::Oscillator(a) => basis_cmd::run_oscillator(a),
         Command::Shift(a) => shift_cmd::run(a),
+        Command::Sums(a) => sums_cmd::run(a),
     }
 }
 

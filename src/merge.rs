@@ -4,10 +4,12 @@
 use crate::app_error::AppError;
 use crate::output;
 use kzero_engine::build_info::command_line;
-use kzero_engine::table::files::{check_output_folder, write_atomic};
+use kzero_engine::table::files::{
+    check_not_busy, check_outputs, write_atomic, OutputKind, PlannedOutput,
+};
 use kzero_engine::table::merge::merge;
 use kzero_engine::table::read_table;
-use kzero_engine::{Table, TableError, TableFormat};
+use kzero_engine::{Table, TableFormat};
 use std::path::PathBuf;
 
 /// Arguments of `kzero merge`.
@@ -18,7 +20,9 @@ by this kzero build, with the same number of shards M. Together they must
 cover every requested state exactly once: any duplicate or missing state is
 reported and nothing is written. The output has the rows sorted by (n, l)
 and shard 1/1, like a single run; its provenance lines name the inputs.
-An existing --out file is refused unless --force is given.")]
+An existing --out file is refused unless --force is given, and so is an --out
+that is one of the inputs, a name that does not end in .csv (.json with
+--json), and an input or --out that a running kzero table holds (its lock).")]
 pub struct MergeArgs {
     /// Shard files to merge.
     #[arg(required = true, value_name = "FILES")]
@@ -41,10 +45,20 @@ pub struct MergeArgs {
 pub fn run(a: &MergeArgs) -> Result<(), AppError> {
     let format = if a.json { TableFormat::Json } else { a.format };
     if let Some(out) = &a.out {
-        check_output_folder(out, "--out")?;
-        if out.exists() && !a.force {
-            return Err(TableError::ExistsNoResume { path: out.clone() }.into());
-        }
+        let inputs: Vec<&std::path::Path> = a.files.iter().map(PathBuf::as_path).collect();
+        check_outputs(
+            &[PlannedOutput {
+                option: "--out",
+                path: out,
+                kind: OutputKind::Table(format),
+                refuse_existing: (!a.force).then_some("use --force to replace it"),
+            }],
+            &inputs,
+        )?;
+        check_not_busy(out)?;
+    }
+    for f in &a.files {
+        check_not_busy(f)?;
     }
     let mut tables: Vec<(PathBuf, Table)> = Vec::new();
     for f in &a.files {

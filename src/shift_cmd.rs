@@ -110,12 +110,19 @@ fn parse_int(text: &str, what: &str) -> Result<i64, AppError> {
 /// The nucleus from --nucleus / --mass / --z / --radius (rules and
 /// messages in `kzero_engine::shift::nucleus`).
 fn nucleus_from_args(a: &ShiftArgs) -> Result<Nucleus, AppError> {
-    Ok(shift::nucleus(
-        a.nucleus.as_deref(),
-        a.z,
-        a.mass.as_deref(),
-        a.radius,
-    )?)
+    nucleus_from_options(a.nucleus.as_deref(), a.mass.as_deref(), a.z, a.radius)
+}
+
+/// The nucleus from the options --nucleus NAME / --mass M / --z Z /
+/// --radius FM shared by the commands that need one (default: H; rules and
+/// messages in `kzero_engine::shift::nucleus`).
+pub(crate) fn nucleus_from_options(
+    nucleus_name: Option<&str>,
+    mass: Option<&str>,
+    z: Option<i64>,
+    radius: Option<f64>,
+) -> Result<Nucleus, AppError> {
+    Ok(shift::nucleus(nucleus_name, z, mass, radius)?)
 }
 
 /// Runs `kzero shift`, printing to standard output.

@@ -12,7 +12,7 @@ use serde_json::{json, Map, Value};
 /// Arguments of `kzero state`.
 #[derive(Debug, clap::Args)]
 pub struct StateArgs {
-    /// Principal quantum number n (1..=200).
+    /// Principal quantum number n (1..=1000).
     #[arg(value_name = "N", allow_negative_numbers = true)]
     pub n: i64,
     /// Orbital angular momentum l (0 <= l < n).

@@ -21,7 +21,7 @@ at the highest D (itself uncertain by that value's estimated error, so the
 last row has none). 'covered' says whether the printed error is at least that
 actual error plus the reference's own estimated error.")]
 pub struct SweepArgs {
-    /// Principal quantum number n (1..=200).
+    /// Principal quantum number n (1..=1000).
     #[arg(value_name = "N", allow_negative_numbers = true)]
     pub n: i64,
     /// Orbital angular momentum l (0 <= l < n).
@@ -47,6 +47,9 @@ pub struct SweepArgs {
     /// One JSON object instead of the text table.
     #[arg(long)]
     pub json: bool,
+    /// Replace an existing --plot file instead of refusing.
+    #[arg(long, requires = "plot")]
+    pub force: bool,
 }
 
 /// Runs `kzero sweep`.
@@ -58,7 +61,16 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
     kzero_engine::sweep::validate(a.n, a.l, a.method)?;
     let gauge = a.gauge.unwrap_or(Gauge::Velocity);
     if let Some(p) = &a.plot {
-        kzero_engine::table::files::check_output_folder(p, "--plot")?;
+        use kzero_engine::table::files::{check_outputs, OutputKind, PlannedOutput};
+        check_outputs(
+            &[PlannedOutput {
+                option: "--plot",
+                path: p,
+                kind: OutputKind::Plot,
+                refuse_existing: (!a.force).then_some("use --force to replace it"),
+            }],
+            &[],
+        )?;
     }
     let (ladder, goal) = match (&a.digits, &a.significant) {
         (_, Some(s)) => (s.clone(), Goal::Significant),

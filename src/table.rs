@@ -9,8 +9,10 @@ use crate::output;
 use crate::plot;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use kzero_engine::build_info as provenance;
-use kzero_engine::table::files::{check_output_folder, journal_path, write_atomic};
-use kzero_engine::table::journal::{check_resumable, load_for_resume, Journal};
+use kzero_engine::table::files::{
+    check_outputs, journal_path, write_atomic, OutputKind, PlannedOutput,
+};
+use kzero_engine::table::journal::{check_resumable, load_for_resume, Journal, JournalLock};
 use kzero_engine::{
     plan, run_batch, Flow, Gauge, Key, MethodChoice, Shard, Table, TableFormat, TableSettings,
 };
@@ -22,7 +24,7 @@ use std::time::Instant;
 #[derive(Debug, clap::Args)]
 #[command(after_long_help = TABLE_HELP)]
 pub struct TableArgs {
-    /// Largest principal quantum number (1..=200).
+    /// Largest principal quantum number (1..=1000).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub n_max: i64,
     /// Smallest principal quantum number.
@@ -68,13 +70,14 @@ pub struct TableArgs {
     /// Output file (default: standard output, written when the run ends).
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,
-    /// Worker threads (default: the number of CPUs).
+    /// Worker threads (default: the number of CPUs; more is accepted with a
+    /// warning).
     #[arg(long, value_name = "T", value_parser = clap::value_parser!(u32).range(1..=4096))]
     pub threads: Option<u32>,
     /// Continue an interrupted run of the same command (needs --out).
     #[arg(long, requires = "out")]
     pub resume: bool,
-    /// Replace an existing --out file instead of refusing.
+    /// Replace an existing --out (and --plot) file instead of refusing.
     #[arg(long, conflicts_with = "resume")]
     pub force: bool,
     /// Compute only part K of M (1 <= K <= M), e.g. for a job array.
@@ -86,12 +89,32 @@ pub struct TableArgs {
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,
+    /// Print the estimated cost of the run (core-seconds, wall time with
+    /// --threads) and stop without computing or writing anything.
+    #[arg(long)]
+    pub estimate: bool,
+    /// With --estimate: the shard count whose parts finish within this wall
+    /// time, each with --threads threads (seconds, or e.g. 90s, 30m, 2h).
+    #[arg(long, value_name = "TIME", requires = "estimate", value_parser = kzero_engine::parse_duration)]
+    pub target_wall: Option<f64>,
 }
 
 const TABLE_HELP: &str = "\
 Output files:
-  Without --resume or --force an existing --out file is never touched: the
-  command refuses (exit 2). --force replaces it. --resume continues it.
+  Every file the run writes is checked before any work, and the run is
+  refused (exit 2, nothing touched) when: --out does not end in .csv (.json
+  with --json) or --plot in .svg; a folder is missing or takes no new files;
+  two outputs name the same file (links included); --out or --plot exists
+  without --force (--resume continues --out and may replace --plot).
+  --force replaces them. Files appear atomically (written, then renamed).
+  A running table holds an exclusive lock on its journal (the --out CSV, or
+  FILE.partial for JSON): a second run on the same file, with or without
+  --resume or --force, is refused at once and changes nothing. The lock is
+  the operating system's and ends with the process: a killed run never
+  blocks a later --resume.
+  Every row ends with a checksum (column check); --resume and merge refuse
+  a row changed after it was written, and a row whose error is negative,
+  not a number, or above its goal.
 
 Crash safety and --resume:
   CSV: the --out file is written while the run goes: each finished state is
@@ -125,9 +148,23 @@ Cluster recipe (Slurm job array; the same pattern works with any scheduler):
   kzero merge part-*.csv --out table.csv
   A requeued task that finds its part file continues it with --resume.
 
+Cost before the run:
+  --estimate prints the estimated core-seconds of the states of this command
+  (of its shard with --shard) and the wall time with --threads, and stops;
+  with --target-wall TIME it also names the shard count M whose parts finish
+  within TIME. The figures come from cost models fitted to measured times on
+  the reference machine of benches/README.md (within a factor of about 1.5);
+  nothing is computed and no file is touched.
+
 Determinism:
-  ln_k0 and abs_err do not depend on --threads, sharding or resuming. The
-  seconds column is wall time.";
+  ln_k0 and abs_err do not depend on --threads, sharding or resuming.
+
+The seconds column:
+  the wall time of that state, from its start to its end on its worker
+  thread (for --method both, the two methods added). States running at the
+  same time share the cores, so with more threads than cores (accepted with
+  a warning line) each state's seconds grow by about threads/cores while
+  the table is not faster.";
 
 /// The validated settings of a table command.
 pub fn settings_from_args(a: &TableArgs) -> Result<TableSettings, AppError> {
@@ -150,14 +187,24 @@ pub fn settings_from_args(a: &TableArgs) -> Result<TableSettings, AppError> {
 pub fn run(a: &TableArgs) -> Result<(), AppError> {
     let settings = settings_from_args(a)?;
     let format = if a.json { TableFormat::Json } else { a.format };
-    interrupt::on_stop(stop_hint(a, format))?;
     let shard = a.shard.unwrap_or(Shard::WHOLE);
-    let threads = a
-        .threads
-        .map(|t| t as usize)
-        .unwrap_or_else(kzero_engine::default_threads);
-    if let Some(p) = &a.plot {
-        check_output_folder(p, "--plot")?;
+    let cores = kzero_engine::default_threads();
+    let threads = a.threads.map_or(cores, |t| t as usize);
+    if a.estimate {
+        return print_estimate(a, &settings, shard, threads);
+    }
+    interrupt::on_stop(stop_hint(a, format))?;
+    // The journal's lock first: a file another run is writing is refused as
+    // busy, whatever else the command asks. Held until the run ends.
+    let lock = match &a.out {
+        Some(out) => Some(JournalLock::acquire(out, format)?),
+        None => None,
+    };
+    check_table_outputs(a, format)?;
+    if threads > cores {
+        eprintln!(
+            "kzero: warning: --threads {threads} is more than the {cores} cores here; the states share the cores, so the table is not faster and each row's seconds (wall time) grows"
+        );
     }
     let requested = settings.states();
     let planned = plan(&requested, settings.digits, settings.method, shard);
@@ -170,8 +217,7 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
         threads,
     );
     let mut journal: Option<Journal> = None;
-    if let Some(out) = &a.out {
-        check_output_folder(out, "--out")?;
+    if let (Some(out), Some(lock)) = (&a.out, lock) {
         // A file left by a run killed before its first row (empty, or a cut
         // header) is an empty journal: --resume starts the work on it.
         let loaded = if a.resume {
@@ -183,7 +229,7 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             check_resumable(&loaded, &from, &settings, shard, &planned)?;
             table.prov = loaded.prov.clone();
             table.rows = loaded.rows.clone();
-            let mut j = Journal::reopen(out, format, &from, &loaded)?;
+            let mut j = Journal::reopen(out, format, &from, &loaded, lock)?;
             let when = provenance::utc_now();
             let cmd = provenance::command_line();
             j.append_provenance("resumed_utc", &when)?;
@@ -192,7 +238,13 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             table.prov.push(("resumed_command".into(), cmd));
             journal = Some(j);
         } else {
-            journal = Some(Journal::create(out, format, &table, a.force || a.resume)?);
+            journal = Some(Journal::create(
+                out,
+                format,
+                &table,
+                a.force || a.resume,
+                lock,
+            )?);
         }
     }
 
@@ -227,6 +279,110 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
         plot::table_plot(&table.rows, p)?;
     }
     finish(outcome, a.out.as_deref(), format)
+}
+
+/// Checks every file the run writes (table, JSON journal, plot) before any
+/// work: names, folders, existing files, no file named twice.
+fn check_table_outputs(a: &TableArgs, format: TableFormat) -> Result<(), AppError> {
+    let keep = if a.force || a.resume {
+        None
+    } else {
+        Some("use --resume to continue it or --force to replace it")
+    };
+    let journal = a.out.as_ref().map(|o| journal_path(o, format));
+    let mut outputs = Vec::new();
+    if let Some(out) = &a.out {
+        outputs.push(PlannedOutput {
+            option: "--out",
+            path: out,
+            kind: OutputKind::Table(format),
+            refuse_existing: keep,
+        });
+    }
+    if let (Some(j), TableFormat::Json) = (&journal, format) {
+        outputs.push(PlannedOutput {
+            option: "--out (its journal)",
+            path: j,
+            kind: OutputKind::Journal,
+            refuse_existing: keep,
+        });
+    }
+    if let Some(p) = &a.plot {
+        outputs.push(PlannedOutput {
+            option: "--plot",
+            path: p,
+            kind: OutputKind::Plot,
+            refuse_existing: if a.force || a.resume {
+                None
+            } else {
+                Some("use --force to replace it")
+            },
+        });
+    }
+    Ok(check_outputs(&outputs, &[])?)
+}
+
+/// `--estimate`: the cost of the run, without computing.
+fn print_estimate(
+    a: &TableArgs,
+    settings: &TableSettings,
+    shard: Shard,
+    threads: usize,
+) -> Result<(), AppError> {
+    use kzero_engine::human_duration as dur;
+    let states: Vec<Key> = plan(&settings.states(), settings.digits, settings.method, shard)
+        .into_iter()
+        .map(|(k, _)| k)
+        .collect();
+    let e = kzero_engine::estimate(&states, settings.digits, settings.method, threads);
+    let mut text = format!(
+        "estimate for {} states (n = {}..{}, {} digits, method {}), shard {}/{}:\n",
+        e.states,
+        settings.n_min,
+        settings.n_max,
+        settings.digits,
+        settings.method,
+        shard.k,
+        shard.m
+    );
+    text += &format!(
+        "  cost        {:.0} core-seconds ({} of one core)\n",
+        e.core_seconds,
+        dur(e.core_seconds)
+    );
+    text += &format!(
+        "  wall time   {} with {} thread{}\n",
+        dur(e.wall_seconds()),
+        e.threads,
+        if e.threads == 1 { "" } else { "s" }
+    );
+    if let Some(((n, l), c)) = e.largest {
+        text += &format!("  costliest   ({n},{l}): {c:.2} core-seconds\n");
+    }
+    if let Some(target) = a.target_wall {
+        let g = kzero_engine::suggest_shards(
+            &states,
+            settings.digits,
+            settings.method,
+            threads,
+            target,
+        );
+        let verdict = if g.meets_target {
+            "slowest part"
+        } else {
+            "target not reachable; slowest part"
+        };
+        text += &format!(
+            "  for {} of wall time: --shard K/{} with {} threads each ({verdict} {})\n",
+            dur(target),
+            g.shards,
+            threads,
+            dur(g.wall_seconds)
+        );
+    }
+    text += "nothing was computed; the figures are fits to measured times (benches/README.md), within a factor of about 1.5\n";
+    output::print(&text)?;
+    Ok(())
 }
 
 /// What SIGINT or SIGTERM tells about continuing this run.

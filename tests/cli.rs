@@ -48,12 +48,14 @@ fn data_lines(text: &str) -> Vec<String> {
         .collect()
 }
 
-/// Data lines without the wall-time column (index 7).
+/// Data lines without the wall-time column (index 7) and the row checksum
+/// (the last column, which covers the wall time).
 fn value_columns(text: &str) -> Vec<String> {
     data_lines(text)
         .iter()
         .map(|l| {
             let mut f: Vec<&str> = l.split(',').collect();
+            f.pop();
             f.remove(7);
             f.join(",")
         })
@@ -97,7 +99,7 @@ fn table_is_sorted_complete_and_carries_provenance() {
     ]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let text = fs::read_to_string(&out).unwrap();
-    assert!(text.starts_with("# kzero-table: 1\n"));
+    assert!(text.starts_with("# kzero-table: 2\n"));
     for key in [
         "# version: ",
         "# git_revision: ",
@@ -113,7 +115,7 @@ fn table_is_sorted_complete_and_carries_provenance() {
     ] {
         assert!(text.contains(key), "missing {key}");
     }
-    assert!(text.contains("\nn,l,ln_k0,abs_err,method,digits,bits,seconds\n"));
+    assert!(text.contains("\nn,l,ln_k0,abs_err,method,digits,bits,seconds,check\n"));
     let rows = data_lines(&text);
     let keys: Vec<(u32, u32)> = rows
         .iter()
@@ -381,7 +383,7 @@ fn resume_starts_the_work_on_a_file_left_before_the_first_row() {
             value_columns(&full_text),
             "cut at {cut}"
         );
-        assert!(text.starts_with("# kzero-table: 1\n"));
+        assert!(text.starts_with("# kzero-table: 2\n"));
     }
     // A cut header that names other digits or another shard is refused,
     // the file untouched.
@@ -887,7 +889,7 @@ fn both_methods_in_state_and_table_agree() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     let text = stdout(&o);
     assert!(text.contains(
-        "\nn,l,ln_k0,abs_err,method,digits,bits,seconds,ln_k0_spectral,abs_err_spectral,agreement_digits\n"
+        "\nn,l,ln_k0,abs_err,method,digits,bits,seconds,ln_k0_spectral,abs_err_spectral,agreement_digits,check\n"
     ));
     let rows = data_lines(&text);
     assert_eq!(rows.len(), 6);
@@ -1007,6 +1009,82 @@ fn significant_goal_in_state_and_sweep() {
     assert!(rows[..2].iter().all(|r| r["covered"] == true));
 }
 
+/// `kzero table --estimate`: the cost of the run is printed, nothing is
+/// computed and no file is touched; the shard suggestion splits the run by
+/// the same plan as `--shard`; `--target-wall` needs `--estimate`.
+#[test]
+fn table_estimate_prints_cost_without_computing() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = p(dir.path(), "t.csv");
+    let o = kzero(&[
+        "table",
+        "--n-max",
+        "200",
+        "--digits",
+        "20",
+        "--threads",
+        "2",
+        "--out",
+        &out,
+        "--estimate",
+        "--target-wall",
+        "1m",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let text = stdout(&o);
+    assert!(text.starts_with("estimate for 20100 states"), "{text}");
+    assert!(text.contains("core-seconds") && text.contains("with 2 threads"));
+    // the suggested count meets 1 minute with 2 threads
+    let m: u32 = text
+        .split("--shard K/")
+        .nth(1)
+        .and_then(|r| r.split_whitespace().next())
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("no shard count in {text}"));
+    assert!(m > 1, "{text}");
+    assert!(text.contains("(slowest part"), "{text}");
+    assert!(!Path::new(&out).exists(), "--estimate wrote {out}");
+    // one shard of it costs about 1/m of the whole
+    let part = kzero(&[
+        "table",
+        "--n-max",
+        "200",
+        "--digits",
+        "20",
+        "--threads",
+        "2",
+        "--estimate",
+        "--shard",
+        &format!("1/{m}"),
+    ]);
+    assert_eq!(code(&part), 0);
+    let seconds = |t: &str| -> f64 {
+        t.lines()
+            .find(|l| l.trim_start().starts_with("cost"))
+            .and_then(|l| l.split_whitespace().nth(1))
+            .and_then(|v| v.parse().ok())
+            .unwrap_or_else(|| panic!("no cost in {t}"))
+    };
+    let whole = seconds(&text);
+    let one = seconds(&stdout(&part));
+    assert!(one < whole / f64::from(m) * 1.2 && one > whole / f64::from(m) * 0.8);
+    assert_bad_input(
+        &kzero(&["table", "--n-max", "3", "--target-wall", "1m"]),
+        "--target-wall without --estimate",
+    );
+    assert_bad_input(
+        &kzero(&[
+            "table",
+            "--n-max",
+            "3",
+            "--estimate",
+            "--target-wall",
+            "soon",
+        ]),
+        "bad --target-wall",
+    );
+}
+
 #[test]
 fn table_records_the_goal_and_refuses_to_resume_with_another() {
     let dir = tempfile::tempdir().unwrap();
@@ -1063,4 +1141,50 @@ fn the_cluster_check_finds_the_readme_recipe() {
     }
     // The batch script continues a part file whenever it exists.
     assert!(readme.contains("if [ -e \"$OUT\" ]; then RESUME=\"--resume\"; fi"));
+}
+
+/// `kzero sums`: the JSON object with the fixed names, S(0) = 1
+/// (Thomas-Reiche-Kuhn), 4 S(-2) = 9/2 bohr^3 for 1s (Bethe & Salpeter
+/// (1957)), I(0) of 1s about 14.99 eV with an infinitely heavy nucleus
+/// (Inokuti, Rev. Mod. Phys. 43, 297 (1971), from memory), every printed
+/// value within its printed error of the exact S(k), the methods in
+/// agreement, and bad powers refused with exit 2.
+#[test]
+fn sums_command_json_values_and_bad_powers() {
+    let o = kzero(&[
+        "sums", "1", "0", "--k", "-2,0,2", "--json", "--method", "both", "--mass", "inf",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("json");
+    for key in ["n", "l", "digits", "method", "rows"] {
+        assert!(v.get(key).is_some(), "missing {key}");
+    }
+    assert_eq!(v["consistent"], serde_json::Value::Bool(true));
+    let rows = v["rows"].as_array().expect("rows");
+    assert_eq!(rows.len(), 3);
+    for r in rows {
+        for key in ["k", "S", "S_err", "L", "L_err", "ln_I", "ln_I_err"] {
+            assert!(r.get(key).is_some(), "row without {key}");
+        }
+        assert!(r["S"].is_string() && r["L_err"].is_string());
+        let (s, e) = (number(&r["S"]), number(&r["S_err"]));
+        let want = match r["k"].as_i64() {
+            Some(-2) => 1.125,
+            Some(0) => 1.0,
+            Some(2) => 16.0 / 3.0,
+            k => panic!("k = {k:?}"),
+        };
+        assert!((s - want).abs() <= e + 1e-15, "S = {s} +- {e}");
+        if r["k"].as_i64() == Some(0) {
+            let ev = number(&r["I_eV"]);
+            assert!((ev - 14.99).abs() < 0.01, "I(0) = {ev} eV");
+        }
+    }
+    for bad in [["--k", "3"], ["--k", "-5"]] {
+        let o = kzero(&["sums", "2", "1", bad[0], bad[1]]);
+        assert_bad_input(&o, "power k");
+    }
+    let o = kzero(&["sums", "2", "1", "--k", "0", "--digits", "12"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert!(stdout(&o).contains("ln I(k)"), "{}", stdout(&o));
 }

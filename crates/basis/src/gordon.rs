@@ -51,19 +51,36 @@ fn hyper_poly(a: u32, b: u32, c: u32, x: &Integer, d: &Integer, e: i64) -> Ratio
     // numbers per step).
     let mut num = Integer::from(1); // num_0 = p_0 = 1 (q_0 = 1)
     let mut p = Integer::from(1);
-    let mut q = Integer::from(1);
+    // the small factors of one step are multiplied together first (in
+    // machine integers when they fit), so that each big number is
+    // multiplied once per step (i128 holds every product for n, n' below
+    // MAX_N)
+    let x_small = x.to_i64().map(i128::from);
+    let d2_small = d2.to_i64().map(i128::from);
     for k in 1..=kmax {
         // p_k = p_{k-1} (k-1-a)(k-1-b) x;  q_k = q_{k-1} (c+k-1) k
-        let j = i64::from(k) - 1;
-        p *= Integer::from(j - i64::from(a)) * (j - i64::from(b));
-        p *= x;
-        let step = Integer::from(c + k - 1) * k;
-        q *= &step;
+        let j = i128::from(k) - 1;
+        let pab = (j - i128::from(a)) * (j - i128::from(b));
+        match x_small {
+            Some(xs) => p *= Integer::from(pab * xs),
+            None => {
+                p *= Integer::from(pab);
+                p *= x;
+            }
+        }
+        let step = (i128::from(c) + i128::from(k) - 1) * i128::from(k);
         // num_k = num_{k-1} d^2 (c+k-1) k + p_k
-        num *= &d2;
-        num *= &step;
+        match d2_small {
+            Some(ds) => num *= Integer::from(ds * step),
+            None => {
+                num *= &d2;
+                num *= Integer::from(step);
+            }
+        }
         num += &p;
     }
+    // q_kmax = (c)_kmax kmax! = (c + kmax - 1)! / (c - 1)! kmax!
+    let q = factorial(c + kmax - 1) / factorial(c - 1) * factorial(kmax);
     let acc = Rational::from((num, q));
     let top = e - 2 * i64::from(kmax);
     if top >= 0 {

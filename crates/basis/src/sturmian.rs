@@ -10,9 +10,9 @@
 //! and int_0^inf S_k S_k' dr / r = delta_kk'.
 
 use crate::error::BasisError;
-use crate::exact::{binomial, factorial, PolyExp};
+use crate::exact::{factorial, PolyExp};
 use rug::ops::Pow;
-use rug::{Float, Rational};
+use rug::{Float, Integer, Rational};
 
 /// The expansion f(r) = (1/r) sum_i gamma_i S_i(r) of a reduced function
 /// f = exp(-kappa r) * polynomial in Sturmians of angular momentum L and the
@@ -78,20 +78,34 @@ pub fn matched_expansion(f: &PolyExp, big_l: u32) -> Result<MatchedExpansion, Ba
         let v = cp / two_kappa.clone().pow(p) * Rational::from(factorial(alpha + q));
         d.push(v);
     }
-    // coef_i = (-1)^i sum_{q >= i} D'_q C(q, i)
-    let mut coef = Vec::with_capacity(qmax as usize + 1);
-    for i in 0..=qmax {
-        let mut s = Rational::new();
-        for q in i..=qmax {
-            if d[q as usize] != 0 {
-                s += Rational::from(&d[q as usize] * binomial(q, i));
-            }
+    // coef_i = (-1)^i sum_{q >= i} D'_q C(q, i): the sums over q are the
+    // coefficients of sum_q D'_q (x + 1)^q, formed by repeated synthetic
+    // division (Taylor shift by 1: additions only) on the integers D'_q den,
+    // den a common denominator, so that no step needs a gcd
+    let den = d.iter().fold(Integer::from(1), |acc, v| acc.lcm(v.denom()));
+    let mut a: Vec<Integer> = d
+        .iter()
+        .map(|v| v.numer() * Integer::from(&den / v.denom()))
+        .collect();
+    let top = a.len() - 1;
+    for i in 0..top {
+        for j in (i..top).rev() {
+            let (lo, hi) = a.split_at_mut(j + 1);
+            lo[j] += &hi[0];
         }
-        if i % 2 == 1 {
-            s = -s;
-        }
-        coef.push(s);
     }
+    let coef = a
+        .into_iter()
+        .enumerate()
+        .map(|(i, v)| {
+            let s = Rational::from((v, den.clone()));
+            if i % 2 == 1 {
+                -s
+            } else {
+                s
+            }
+        })
+        .collect();
     // dr / r = dx / x; the integral over x carries no extra scale.
     Ok(MatchedExpansion {
         big_l,

@@ -148,9 +148,12 @@ fn value(
     })
 }
 
-/// Relative cost of computing (n, l) at `digits` with `method`, for load
-/// balancing only: larger means slower; always finite and > 0 (1 where a
-/// method's own estimate is not).
+/// Estimated cost of computing (n, l) at `digits` with `method`: the sum of
+/// the methods' own models, in single-core CPU seconds on the reference
+/// machine of benches/README.md (an estimate within a factor of about 1.6,
+/// see [`crate::estimate`](mod@crate::estimate)); used to balance shards and
+/// to estimate a run.
+/// Always finite and > 0 (1 where a method's own estimate is not).
 pub fn cost(n: u32, l: u32, digits: u32, method: MethodChoice) -> f64 {
     let c: f64 = method
         .methods()

@@ -16,6 +16,8 @@
 //!   of two values is [`agreement`] (from kzero-bethe, the one used
 //!   everywhere).
 //! * [`shard`]: the deterministic cost-balanced shard plan.
+//! * [`estimate`](mod@estimate): the cost of a run before it starts
+//!   (core-seconds, wall time, a shard count for a target wall time).
 //! * [`sums`](mod@sums): the logarithmic dipole sums S(k), L(k), ln I(k)
 //!   of one state ([`compute_sums`]) and their printed rows with I(k) in eV
 //!   ([`row_text`]).
@@ -55,6 +57,7 @@ pub mod check;
 pub mod compute;
 pub mod data_checks;
 pub mod error;
+pub mod estimate;
 pub mod exact;
 pub mod method;
 pub mod shard;
@@ -70,8 +73,11 @@ pub use batch::{
 pub use build_info::Provenance;
 pub use compute::{compute, cost, validate_state, Computed};
 pub use error::{EngineError, ErrorClass};
+pub use estimate::{
+    estimate, human_duration, parse_duration, suggest_shards, Estimate, ShardSuggestion,
+};
 pub use kzero_bethe::{agreement, Agreement, BetheValue, Gauge, Method, Settings};
 pub use method::MethodChoice;
-pub use shard::{plan, Key, Shard, ShardError};
+pub use shard::{part_costs, plan, Key, Shard, ShardError};
 pub use sums::{compute_sums, row_text, sums_cost, ComputedSums, EnergyUnit, RowText};
 pub use table::{Row, Table, TableError, TableFormat, TableSettings};

@@ -583,3 +583,48 @@ pub fn level_json(r: &LevelResult, settings: &Settings) -> Value {
     }
     v
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shift_table_columns_add_up_and_carry_provenance() {
+        let h = Nucleus::preset("H").unwrap();
+        let t = ShiftTable::compute(2, &h, &Settings::with_digits(8), true, "test").unwrap();
+        let keys: Vec<String> = t.rows.iter().map(|r| r.shift.level.label()).collect();
+        assert_eq!(keys.len(), 4, "{keys:?}");
+        for r in &t.rows {
+            let s = &r.shift;
+            let by_family: f64 = Family::ALL.iter().map(|f| family_mhz(s, *f)).sum();
+            assert!((by_family - s.total_mhz).abs() <= 1e-9 * s.total_mhz.abs().max(1.0));
+            assert!(r.cutoff.is_some());
+        }
+        let csv = t.to_csv();
+        for k in Provenance::KEYS {
+            assert!(csv.contains(&format!("\n# {k}: ")), "{k}");
+        }
+        assert!(csv.contains("\nn,l,j,ln_k0,abs_err,a41_mhz,"));
+        let v: Value = serde_json::from_str(&t.to_json()).unwrap();
+        assert_eq!(v["meta"]["format"], "kzero-shift-table");
+        assert_eq!(v["meta"]["settings"]["n_max"], 2);
+    }
+
+    #[test]
+    fn lamb_shift_of_hydrogen_through_compute() {
+        // Measured 2S1/2 - 2P1/2 = 1057.845(9) MHz (Lundeen & Pipkin, Phys.
+        // Rev. Lett. 46, 232 (1981)).
+        let h = Nucleus::preset("H").unwrap();
+        let st = Settings::with_digits(10);
+        let s = shift_level(&Level::new(2, 0, 1).unwrap(), &h, &st, false).unwrap();
+        let p = shift_level(&Level::new(2, 1, 1).unwrap(), &h, &st, false).unwrap();
+        let lamb = s.shift.total_mhz - p.shift.total_mhz;
+        let unc = s.shift.uncertainty_mhz.hypot(p.shift.uncertainty_mhz);
+        assert!(
+            (lamb - 1057.845).abs() <= unc.hypot(0.009),
+            "{lamb} +- {unc}"
+        );
+        // A wrong level is bad input, before any computation.
+        assert!(Level::new(2, 0, 3).is_err());
+    }
+}

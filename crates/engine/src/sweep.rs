@@ -126,3 +126,49 @@ pub fn sweep(
         points,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sweep_points_come_sorted_and_covered() {
+        let sw = sweep(
+            2,
+            1,
+            MethodChoice::Green,
+            Gauge::Velocity,
+            &[12, 6, 9, 12],
+            Goal::Absolute,
+        )
+        .unwrap();
+        let d: Vec<u32> = sw.points.iter().map(|p| p.value.digits).collect();
+        assert_eq!(d, [6, 9, 12]);
+        assert_eq!(sw.reference_digits(), 12);
+        assert!(sw.points[..2].iter().all(|p| p.covered == Some(true)));
+        assert_eq!(sw.points[2].actual_err, None);
+        assert_eq!(sw.provenance.version, crate::build_info::VERSION);
+        assert!(matches!(
+            sweep(
+                2,
+                1,
+                MethodChoice::Both,
+                Gauge::Velocity,
+                &[8],
+                Goal::Absolute
+            ),
+            Err(EngineError::SweepMethod)
+        ));
+        assert!(matches!(
+            sweep(
+                2,
+                1,
+                MethodChoice::Green,
+                Gauge::Velocity,
+                &[],
+                Goal::Absolute
+            ),
+            Err(EngineError::EmptyLadder)
+        ));
+    }
+}

@@ -36,8 +36,43 @@ pub enum FormatProblem {
     #[error("truncated kzero table (the header is incomplete)")]
     TruncatedHeader,
     /// The first line is not the magic line.
-    #[error("not a kzero table (first line is not '# kzero-table: 1')")]
+    #[error("not a kzero table (first line is not '# kzero-table: 2')")]
     NoMagic,
+    /// A table of format 1 (rows without checksums), written by an older
+    /// build.
+    #[error("written by an older kzero (table format 1, rows without checksums); compute it again with this build")]
+    OldFormat,
+    /// A row whose checksum does not match its fields: changed after it
+    /// was written.
+    #[error("row (n={}, l={}) was changed after it was written (its check {found} does not match)", .key.0, .key.1)]
+    RowChanged {
+        /// The state of the row.
+        key: Key,
+        /// The checksum found in the file.
+        found: String,
+    },
+    /// A row whose error estimate is negative.
+    #[error("row (n={}, l={}): {column} {value} is negative", .key.0, .key.1)]
+    RowErrorNegative {
+        /// The state of the row.
+        key: Key,
+        /// The error column.
+        column: &'static str,
+        /// The error as written.
+        value: String,
+    },
+    /// A row whose error estimate is above the goal of its digits.
+    #[error("row (n={}, l={}): {column} {value} is above the goal of {digits} digits of the table", .key.0, .key.1)]
+    RowErrorAboveGoal {
+        /// The state of the row.
+        key: Key,
+        /// The error column.
+        column: &'static str,
+        /// The error as written.
+        value: String,
+        /// The table's digits.
+        digits: u32,
+    },
     /// A `# setting.` line after the column line.
     #[error("setting line after the column line")]
     SettingAfterColumns,
@@ -250,6 +285,62 @@ pub enum TableError {
         /// What.
         problem: FormatProblem,
     },
+    /// An output whose name does not end in the extension of what is
+    /// written there.
+    #[error("{option} {}: {what} is written there, so the name must end in .{want}", .path.display())]
+    WrongExtension {
+        /// The option naming the output.
+        option: &'static str,
+        /// The output.
+        path: PathBuf,
+        /// What is written (`a CSV table`, `an SVG plot`).
+        what: &'static str,
+        /// The extension it needs, without the dot.
+        want: &'static str,
+    },
+    /// Two outputs of one run name the same file.
+    #[error("{first} and {second} name the same file {}; give them different names", .path.display())]
+    SameOutput {
+        /// The first option.
+        first: &'static str,
+        /// The second option.
+        second: &'static str,
+        /// The file.
+        path: PathBuf,
+    },
+    /// An output that is also an input of the run.
+    #[error("{option} {} is also an input; write the result to another file", .path.display())]
+    OutputIsInput {
+        /// The option naming the output.
+        option: &'static str,
+        /// The file.
+        path: PathBuf,
+    },
+    /// An output that exists, without the option that allows replacing it.
+    #[error("{option} {} already exists; {hint}", .path.display())]
+    OutputExists {
+        /// The option naming the output.
+        option: &'static str,
+        /// The file.
+        path: PathBuf,
+        /// How to replace or continue it.
+        hint: &'static str,
+    },
+    /// A file another running kzero holds (its output or journal).
+    #[error("{} is in use by another running kzero (it holds the file's lock); wait for it to end or use another file", .path.display())]
+    Busy {
+        /// The file.
+        path: PathBuf,
+    },
+    /// The lock of a file could not be taken for another reason than
+    /// another run holding it.
+    #[error("cannot lock {}: {source}", .path.display())]
+    Lock {
+        /// The file.
+        path: PathBuf,
+        /// The cause.
+        source: std::io::Error,
+    },
     /// The folder of an output file does not exist.
     #[error("{option} {}: folder {} does not exist", .path.display(), .folder.display())]
     NoFolder {
@@ -442,6 +533,9 @@ impl TableError {
     /// Whether the input was at fault (an unusable file, selection or
     /// option); write failures are not.
     pub fn is_bad_input(&self) -> bool {
-        !matches!(self, TableError::Create { .. } | TableError::Write { .. })
+        !matches!(
+            self,
+            TableError::Create { .. } | TableError::Write { .. } | TableError::Lock { .. }
+        )
     }
 }

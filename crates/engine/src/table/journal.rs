@@ -10,16 +10,76 @@
 //! or a header cut before its column line, [`unstarted_journal`]) holds no
 //! work yet: resuming starts the work on it.
 
-use super::files::{journal_path, looks_like_json};
+use super::files::{check_not_busy, journal_path, lock_exclusive, looks_like_json};
 use super::{
     read_table, Differences, Row, SettingDifference, Table, TableError, TableFormat, TableSettings,
-    BASE_COLUMNS, BOTH_COLUMNS, MAGIC,
+    BASE_COLUMNS, BOTH_COLUMNS, CHECK_COLUMN, MAGIC,
 };
 use crate::shard::{Key, Shard};
 use std::collections::BTreeSet;
 use std::fs::{File, OpenOptions};
-use std::io::Write;
+use std::io::{Seek, SeekFrom, Write};
 use std::path::{Path, PathBuf};
+
+/// The exclusive lock of a table run on its journal, taken before the
+/// journal is read, cut, truncated or appended to, and held until the run
+/// ends (the lock is the operating system's advisory lock: it ends with the
+/// process, so a killed run never blocks a later `--resume`).
+///
+/// A second run on the same output, with or without `--resume` or
+/// `--force`, finds the lock taken and is refused before it changes
+/// anything.
+#[derive(Debug)]
+pub struct JournalLock {
+    /// The journal, open and locked, when it existed already.
+    file: Option<File>,
+    path: PathBuf,
+}
+
+impl JournalLock {
+    /// Takes the lock of the journal of `out` in `format` when the journal
+    /// exists (when it does not, [`Journal::create`] and [`Journal::reopen`]
+    /// take it as they create it). For a JSON output, also refuses an
+    /// existing `out` that another run holds.
+    ///
+    /// # Errors
+    /// [`TableError::Busy`] (bad input) when another run holds the file,
+    /// [`TableError::Lock`] when the lock cannot be taken otherwise.
+    pub fn acquire(out: &Path, format: TableFormat) -> Result<JournalLock, TableError> {
+        let path = journal_path(out, format);
+        if path != out {
+            check_not_busy(out)?;
+        }
+        let file = match OpenOptions::new().read(true).write(true).open(&path) {
+            Ok(f) => {
+                lock_exclusive(&f, &path)?;
+                Some(f)
+            }
+            Err(_) => None,
+        };
+        Ok(JournalLock { file, path })
+    }
+
+    /// The locked journal file, opened (and created when missing) for
+    /// writing. Nothing in it is changed.
+    fn into_file(self) -> Result<File, TableError> {
+        if let Some(f) = self.file {
+            return Ok(f);
+        }
+        let f = OpenOptions::new()
+            .read(true)
+            .write(true)
+            .create(true)
+            .truncate(false)
+            .open(&self.path)
+            .map_err(|e| TableError::Create {
+                path: self.path.clone(),
+                source: e,
+            })?;
+        lock_exclusive(&f, &self.path)?;
+        Ok(f)
+    }
+}
 
 /// An open journal: rows are appended and flushed one by one.
 #[derive(Debug)]
@@ -42,6 +102,7 @@ impl Journal {
         format: TableFormat,
         table: &Table,
         replace: bool,
+        lock: JournalLock,
     ) -> Result<Journal, TableError> {
         let jpath = journal_path(out, format);
         for p in [out, jpath.as_path()] {
@@ -51,15 +112,13 @@ impl Journal {
                 });
             }
         }
-        let f = OpenOptions::new()
-            .write(true)
-            .create(true)
-            .truncate(true)
-            .open(&jpath)
-            .map_err(|e| TableError::Create {
-                path: jpath.clone(),
-                source: e,
-            })?;
+        // Locked first, emptied only then: a run refused for the lock
+        // changes nothing.
+        let f = lock.into_file()?;
+        f.set_len(0).map_err(|e| TableError::Create {
+            path: jpath.clone(),
+            source: e,
+        })?;
         let mut j = Journal {
             file: f,
             path: jpath,
@@ -79,20 +138,20 @@ impl Journal {
         format: TableFormat,
         from: &Path,
         loaded: &Table,
+        lock: JournalLock,
     ) -> Result<Journal, TableError> {
         let jpath = journal_path(out, format);
         let io = |e: std::io::Error| TableError::Write {
             path: jpath.clone(),
             source: e,
         };
+        let mut f = lock.into_file()?;
         if from == jpath {
-            let f = OpenOptions::new().write(true).open(&jpath).map_err(io)?;
             if let Some(at) = loaded.torn_at {
                 // Drop only the torn last line left by an interrupted write.
                 f.set_len(at).map_err(io)?;
             }
-            let mut f = OpenOptions::new().append(true).open(&jpath).map_err(io)?;
-            f.flush().map_err(io)?;
+            f.seek(SeekFrom::End(0)).map_err(io)?;
             Ok(Journal {
                 file: f,
                 path: jpath,
@@ -100,12 +159,7 @@ impl Journal {
         } else {
             // Resuming a finished JSON table: start a journal holding its rows.
             // (A journal already there holds no row: see `load_for_resume`.)
-            let mut f = OpenOptions::new()
-                .write(true)
-                .create(true)
-                .truncate(true)
-                .open(&jpath)
-                .map_err(io)?;
+            f.set_len(0).map_err(io)?;
             f.write_all(loaded.to_csv().as_bytes()).map_err(io)?;
             Ok(Journal {
                 file: f,
@@ -182,8 +236,13 @@ pub fn unstarted_journal(bytes: &[u8]) -> Option<Vec<(String, String)>> {
         let (k, v) = c.split_once(':').unwrap_or((c, ""));
         pairs.push((k.trim().to_string(), v.trim().to_string()));
     }
-    let all_columns = [&BASE_COLUMNS[..], &BOTH_COLUMNS[..]].concat().join(",");
-    (cut.starts_with('#') || all_columns.starts_with(cut)).then_some(pairs)
+    let column_lines = [
+        [&BASE_COLUMNS[..], &[CHECK_COLUMN]].concat().join(","),
+        [&BASE_COLUMNS[..], &BOTH_COLUMNS[..], &[CHECK_COLUMN]]
+            .concat()
+            .join(","),
+    ];
+    (cut.starts_with('#') || column_lines.iter().any(|c| c.starts_with(cut))).then_some(pairs)
 }
 
 /// Whether `jpath` exists and holds no row yet.
@@ -339,7 +398,7 @@ mod tests {
         assert_eq!(unstarted_journal(b""), Some(Vec::new()));
         // Every cut inside the header, up to the whole column line without
         // its newline.
-        let col_end = columns_at + BASE_COLUMNS.join(",").len();
+        let col_end = columns_at + s[columns_at..].find('\n').unwrap();
         for end in 0..=col_end {
             let got = unstarted_journal(&s.as_bytes()[..end]);
             assert!(got.is_some(), "cut at {end}: {:?}", &s[..end]);
@@ -352,7 +411,8 @@ mod tests {
         assert_eq!(unstarted_journal(&s.as_bytes()[..=col_end]), None);
         assert_eq!(unstarted_journal(b"name,value\n"), None);
         assert_eq!(unstarted_journal(b"x"), None);
-        assert_eq!(unstarted_journal(b"# kzero-table: 2\n"), None);
+        assert_eq!(unstarted_journal(b"# kzero-table: 1\n"), None);
+        assert_eq!(unstarted_journal(b"# kzero-table: 3\n"), None);
         assert_eq!(unstarted_journal(&[0xff, 0xfe]), None);
     }
 }

@@ -4,7 +4,7 @@
 //!
 //! ## CSV layout
 //! ```text
-//! # kzero-table: 1
+//! # kzero-table: 2
 //! # version: 0.1.0
 //! # git_revision: 0123456789ab
 //! # mpfr: 4.2.1
@@ -19,9 +19,20 @@
 //! # setting.digits: 20
 //! # setting.goal: absolute
 //! # setting.method: green
-//! n,l,ln_k0,abs_err,method,digits,bits,seconds
-//! 1,0,2.9841285557654984...,1.0e-23,green,20,160,0.012
+//! n,l,ln_k0,abs_err,method,digits,bits,seconds,check
+//! 1,0,2.9841285557654984...,1.0e-23,green,20,160,0.012,84a4a5f2a12dcfb1
 //! ```
+//! The last column, `check`, is the row's checksum ([`Row::check`]): 16
+//! hexadecimal digits of the 64-bit FNV-1a hash of the row's other fields
+//! exactly as written, joined by commas (`1,0,2.98...,1.0e-23,green,20,160,0.012`).
+//! Reading a table refuses a row whose checksum does not match (a value
+//! changed by hand, a flipped byte, two lines run together), a row whose
+//! error estimate is negative or not a finite number, and a row whose error
+//! is above the goal it claims (more than 1.1 times 10^-digits, or
+//! 10^-digits |ln k0| for a significant goal: the factor is what rounding
+//! the printed error up to two digits can add). The
+//! checksum detects changes; it does not authenticate (anyone can compute
+//! it again).
 //! The provenance lines are the [`Provenance`] schema shared by every file
 //! kzero writes, plus `threads` and `shard`. While a run is in progress the
 //! file is also its journal ([`journal`]): rows are appended in completion
@@ -31,15 +42,19 @@
 //!
 //! ## JSON layout
 //! One object `{"meta": {...}, "rows": [...]}`: `meta` holds `format`
-//! (`kzero-table`), `format_version` (1), the provenance keys (a key that
+//! (`kzero-table`), `format_version` (2), the provenance keys (a key that
 //! repeats becomes an array; `threads` is an integer) and `settings`; each
 //! row is an object with the columns as keys (values, errors and seconds as
-//! decimal strings, counts as integers).
+//! decimal strings, counts as integers, `check` as in the CSV).
 //!
 //! `setting.goal` is `absolute` (`--digits`) or `significant`
 //! (`--significant`); `setting.gauge` is recorded only for methods that
 //! have a dipole form (spectral, both). Files without `setting.goal` are
 //! read as absolute.
+//!
+//! Format 2 (this one) added the `check` column. Files of format 1 are
+//! refused with a message saying so: they come from an older build, whose
+//! rows are never mixed with this build's anyway.
 
 mod error;
 pub mod files;
@@ -61,8 +76,10 @@ use serde_json::{json, Map, Value};
 use std::collections::BTreeSet;
 use std::str::FromStr;
 
-/// First line of every kzero CSV table (format version 1).
-pub const MAGIC: &str = "# kzero-table: 1";
+/// Version of the table format (CSV magic line and JSON `format_version`).
+pub const FORMAT_VERSION: u64 = 2;
+/// First line of every kzero CSV table (format version 2).
+pub const MAGIC: &str = "# kzero-table: 2";
 /// `meta.format` of a kzero JSON table.
 pub const JSON_FORMAT: &str = "kzero-table";
 
@@ -72,6 +89,8 @@ pub const BASE_COLUMNS: [&str; 8] = [
 ];
 /// Extra columns with method `both`.
 pub const BOTH_COLUMNS: [&str; 3] = ["ln_k0_spectral", "abs_err_spectral", "agreement_digits"];
+/// The last column of every table: the row checksum ([`Row::check`]).
+pub const CHECK_COLUMN: &str = "check";
 
 /// Provenance keys every table carries, in this order: the
 /// [`Provenance::KEYS`], then `threads` and `shard`.
@@ -342,6 +361,7 @@ impl TableSettings {
         if self.method == MethodChoice::Both {
             c.extend(BOTH_COLUMNS);
         }
+        c.push(CHECK_COLUMN);
         c
     }
 
@@ -439,8 +459,23 @@ impl Row {
         (self.n, self.l)
     }
 
-    /// The CSV line, with its newline.
+    /// The CSV line, with its checksum and its newline.
     pub fn csv_line(&self) -> String {
+        let fields = self.fields();
+        let check = row_check(&fields);
+        format!("{fields},{check}\n")
+    }
+
+    /// The row's checksum: 16 hexadecimal digits of the 64-bit FNV-1a hash
+    /// of [`Row::fields`]. It is written with the row and checked when the
+    /// row is read back.
+    pub fn check(&self) -> String {
+        row_check(&self.fields())
+    }
+
+    /// Every field but the checksum, as written in CSV, joined by commas
+    /// (no newline).
+    pub fn fields(&self) -> String {
         let mut s = format!(
             "{},{},{},{},{},{},{},{}",
             self.n,
@@ -455,7 +490,6 @@ impl Row {
         if let Some((v, e, d)) = &self.both {
             s.push_str(&format!(",{v},{e},{d}"));
         }
-        s.push('\n');
         s
     }
 
@@ -475,6 +509,7 @@ impl Row {
             m.insert("abs_err_spectral".into(), json!(e));
             m.insert("agreement_digits".into(), json!(d));
         }
+        m.insert(CHECK_COLUMN.into(), json!(self.check()));
         Value::Object(m)
     }
 }
@@ -560,7 +595,7 @@ impl Table {
     pub fn to_json(&self) -> String {
         let mut meta = Map::new();
         meta.insert("format".into(), json!(JSON_FORMAT));
-        meta.insert("format_version".into(), json!(1));
+        meta.insert("format_version".into(), json!(FORMAT_VERSION));
         for (k, v) in &self.prov {
             // the thread count is an integer (a merged table says in words)
             let val = match (k.as_str(), v.parse::<u64>()) {
@@ -641,6 +676,17 @@ impl Table {
     }
 }
 
+/// 16 hexadecimal digits of the 64-bit FNV-1a hash of `text` (offset basis
+/// 0xcbf29ce484222325, prime 0x100000001b3).
+pub fn row_check(text: &str) -> String {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in text.bytes() {
+        h ^= u64::from(b);
+        h = h.wrapping_mul(0x0000_0100_0000_01b3);
+    }
+    format!("{h:016x}")
+}
+
 fn one_line(s: &str) -> String {
     s.replace(['\n', '\r'], " ")
 }
@@ -719,6 +765,78 @@ pub(crate) mod tests {
             .problem
             .to_string()
             .contains("not a kzero table"));
+    }
+
+    /// The row checksum is FNV-1a 64: check values of the published
+    /// algorithm (the empty string gives the offset basis; "a" gives
+    /// af63dc4c8601ec8c, FNV reference test vectors, from memory).
+    #[test]
+    fn row_check_is_fnv1a_64() {
+        assert_eq!(row_check(""), "cbf29ce484222325");
+        assert_eq!(row_check("a"), "af63dc4c8601ec8c");
+        assert_eq!(row_check("foobar"), "85944171f73967e8");
+    }
+
+    fn problem(text: &str) -> String {
+        parse_table(text).unwrap_err().problem.to_string()
+    }
+
+    #[test]
+    fn changed_rows_are_refused() {
+        let t = table();
+        let csv = t.to_csv();
+        let json = t.to_json();
+        assert!(parse_table(&csv).is_ok() && parse_table(&json).is_ok());
+        // A changed digit of the value, of the error, of the time.
+        for (from, to) in [
+            ("-0.030016708630", "-0.030016708631"),
+            ("1.0e-12", "1.1e-12"),
+            ("0.010", "0.011"),
+        ] {
+            for text in [&csv, &json] {
+                if text.contains(from) {
+                    let p = problem(&text.replace(from, to));
+                    assert!(p.contains("was changed after it was written"), "{p}");
+                }
+            }
+        }
+        // A row without its checksum, or with another row's.
+        let no_check = csv.replace(&format!(",{}\n", t.rows[0].check()), "\n");
+        assert!(problem(&no_check).contains("expected 9 fields"));
+    }
+
+    #[test]
+    fn impossible_errors_are_refused_even_with_a_matching_checksum() {
+        for (err, want) in [
+            ("-5", "is negative"),
+            ("-0.0", "is negative"),
+            ("1e5", "above the goal of 10 digits"),
+            ("1.2e-10", "above the goal of 10 digits"),
+            ("NaN", "not a number"),
+            ("inf", "not a number"),
+        ] {
+            let mut t = table();
+            t.rows[0].abs_err = err.into();
+            for text in [t.to_csv(), t.to_json()] {
+                let p = problem(&text);
+                assert!(p.contains(want), "{err}: {p}");
+            }
+        }
+        // At the bound (the goal plus the rounding of the printed error) a
+        // row is accepted.
+        let mut t = table();
+        t.rows[0].abs_err = "1.1e-10".into();
+        assert!(parse_table(&t.to_csv()).is_ok());
+    }
+
+    #[test]
+    fn format_1_is_refused_as_an_older_build() {
+        let csv = table().to_csv().replace(MAGIC, "# kzero-table: 1");
+        assert!(problem(&csv).contains("older kzero (table format 1"));
+        let json = table()
+            .to_json()
+            .replace("\"format_version\": 2", "\"format_version\": 1");
+        assert!(problem(&json).contains("older kzero (table format 1"));
     }
 
     #[test]

@@ -1,10 +1,12 @@
 //! Reading and validating table files (CSV or JSON, told apart by content).
 
 use super::{
-    FormatProblem, Place, Row, Table, TableError, TableSettings, JSON_FORMAT, MAGIC, PROV_KEYS,
+    FormatProblem, Place, Row, Table, TableError, TableSettings, CHECK_COLUMN, FORMAT_VERSION,
+    JSON_FORMAT, MAGIC, PROV_KEYS,
 };
 use crate::method::MethodChoice;
 use crate::shard::Shard;
+use kzero_bethe::Goal;
 use serde_json::Value;
 use std::fs;
 use std::path::Path;
@@ -75,7 +77,22 @@ fn is_number(s: &str) -> bool {
     !s.is_empty() && s.parse::<f64>().is_ok_and(f64::is_finite)
 }
 
-fn parse_csv_row(line: &str, settings: &TableSettings) -> Result<Row, FormatProblem> {
+/// A row as read, with the checksum found beside it.
+struct ReadRow {
+    row: Row,
+    check: String,
+}
+
+impl Row {
+    fn with_check(self, check: &str) -> ReadRow {
+        ReadRow {
+            row: self,
+            check: check.to_string(),
+        }
+    }
+}
+
+fn parse_csv_row(line: &str, settings: &TableSettings) -> Result<ReadRow, FormatProblem> {
     let f: Vec<&str> = line.split(',').collect();
     let want = settings.columns().len();
     if f.len() != want {
@@ -106,15 +123,16 @@ fn parse_csv_row(line: &str, settings: &TableSettings) -> Result<Row, FormatProb
         digits: int(5)?,
         bits: int(6)?,
         seconds: decimal(7)?,
-        both: if want > 8 {
+        both: if want > 9 {
             Some((decimal(8)?, decimal(9)?, int(10)?))
         } else {
             None
         },
-    })
+    }
+    .with_check(f[want - 1]))
 }
 
-fn json_row(v: &Value, settings: &TableSettings) -> Result<Row, FormatProblem> {
+fn json_row(v: &Value, settings: &TableSettings) -> Result<ReadRow, FormatProblem> {
     let o = v.as_object().ok_or(FormatProblem::RowNotObject)?;
     let int = |k: &'static str| -> Result<u32, FormatProblem> {
         o.get(k)
@@ -156,15 +174,62 @@ fn json_row(v: &Value, settings: &TableSettings) -> Result<Row, FormatProblem> {
         } else {
             None
         },
-    })
+    }
+    .with_check(&text(CHECK_COLUMN)?))
 }
 
-fn check_row(r: &Row, settings: &TableSettings) -> Result<(), FormatProblem> {
+/// Checks a row read from a file: its checksum, its place in the table's
+/// settings, and its error estimates (not negative, not above the goal).
+fn check_row(read: &ReadRow, settings: &TableSettings) -> Result<(), FormatProblem> {
+    let r = &read.row;
+    if r.check() != read.check {
+        return Err(FormatProblem::RowChanged {
+            key: r.key(),
+            found: read.check.clone(),
+        });
+    }
     if !settings.l.admits(r.n, r.l) || r.n < settings.n_min || r.n > settings.n_max {
         return Err(FormatProblem::RowOutside(r.key()));
     }
     if r.digits != settings.digits || r.method != settings.method {
         return Err(FormatProblem::RowSettings(r.key()));
+    }
+    let mut errors = vec![("abs_err", r.abs_err.as_str(), r.ln_k0.as_str())];
+    if let Some((v, e, _)) = &r.both {
+        errors.push(("abs_err_spectral", e.as_str(), v.as_str()));
+    }
+    // The goal: |error| < 10^-digits (absolute) or <= 10^-digits |value|
+    // (significant). The printed error is rounded up to two digits and
+    // covers the rounding of the printed value, which can lift it to 1.1
+    // times the goal, not beyond.
+    let unit: f64 = format!("1.1e-{}", r.digits).parse().unwrap_or(0.0);
+    for (column, text, value_text) in errors {
+        let bound = match settings.goal {
+            Goal::Significant => unit * value_text.parse::<f64>().unwrap_or(0.0).abs(),
+            _ => unit,
+        };
+        let value = text.to_string();
+        let e: f64 = text
+            .parse()
+            .map_err(|_| FormatProblem::NotNumber(value.clone()))?;
+        if !e.is_finite() {
+            return Err(FormatProblem::NotNumber(value));
+        }
+        if e < 0.0 || text.starts_with('-') {
+            return Err(FormatProblem::RowErrorNegative {
+                key: r.key(),
+                column,
+                value,
+            });
+        }
+        if e > bound {
+            return Err(FormatProblem::RowErrorAboveGoal {
+                key: r.key(),
+                column,
+                value,
+                digits: r.digits,
+            });
+        }
     }
     Ok(())
 }
@@ -172,7 +237,7 @@ fn check_row(r: &Row, settings: &TableSettings) -> Result<(), FormatProblem> {
 /// A parsed row that also passes `check_row`; either error is placed at
 /// `place` (the line or row number in the file).
 fn checked_row(
-    parsed: Result<Row, FormatProblem>,
+    parsed: Result<ReadRow, FormatProblem>,
     settings: &TableSettings,
     place: Place,
 ) -> Result<Row, ParseError> {
@@ -182,7 +247,7 @@ fn checked_row(
     };
     let r = parsed.map_err(at)?;
     check_row(&r, settings).map_err(at)?;
-    Ok(r)
+    Ok(r.row)
 }
 
 /// The shard named by the `shard` provenance entry (an empty text when it
@@ -215,6 +280,7 @@ fn parse_csv(text: &str) -> Result<Table, ParseError> {
         .map(|(o, p)| (*o, p.trim_end_matches(['\n', '\r'])));
     match lines.next() {
         Some((_, l)) if l == MAGIC => {}
+        Some((_, "# kzero-table: 1")) => return Err(FormatProblem::OldFormat.into()),
         Some((_, l)) if l.starts_with("# kzero-table:") => {
             return Err(FormatProblem::UnsupportedVersionLine(l.to_string()).into())
         }
@@ -297,8 +363,10 @@ fn parse_json(text: &str) -> Result<Table, ParseError> {
     if meta.get("format").and_then(Value::as_str) != Some(JSON_FORMAT) {
         return Err(FormatProblem::ForeignFormat.into());
     }
-    if meta.get("format_version").and_then(Value::as_u64) != Some(1) {
-        return Err(FormatProblem::UnsupportedVersion.into());
+    match meta.get("format_version").and_then(Value::as_u64) {
+        Some(FORMAT_VERSION) => {}
+        Some(1) => return Err(FormatProblem::OldFormat.into()),
+        _ => return Err(FormatProblem::UnsupportedVersion.into()),
     }
     let set = meta
         .get("settings")
