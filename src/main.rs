@@ -12,6 +12,7 @@ mod app_error;
 mod args;
 mod basis_cmd;
 mod check;
+mod excitation_cmd;
 mod interrupt;
 mod merge;
 mod output;
@@ -61,6 +62,8 @@ enum Command {
     Shift(shift_cmd::ShiftArgs),
     /// Logarithmic dipole sums S(k), L(k), ln I(k) and mean excitation energies of a state.
     Sums(sums_cmd::SumsArgs),
+    /// Mean excitation energy I(k) against n for a few l (listing and SVG plot).
+    Excitation(excitation_cmd::ExcitationArgs),
 }
 
 /// Runs `f`, turning a panic inside it into an error (exit 1) instead of a
@@ -113,6 +116,7 @@ fn run(cli: Cli) -> Result<(), AppError> {
         Command::Oscillator(a) => basis_cmd::run_oscillator(a),
         Command::Shift(a) => shift_cmd::run(a),
         Command::Sums(a) => sums_cmd::run(a),
+        Command::Excitation(a) => excitation_cmd::run(a),
     }
 }
 

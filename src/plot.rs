@@ -19,7 +19,44 @@ fn range_with_margin(lo: f64, hi: f64) -> (f64, f64) {
     (lo - 0.05 * span, hi + 0.05 * span)
 }
 
-type Curves = BTreeMap<u32, Vec<(f64, f64)>>;
+/// One curve per l: (n, value) points.
+pub type Curves = BTreeMap<u32, Vec<(f64, f64)>>;
+
+const LN_K0_AXIS: &str = "ln k0 (energies in Z^2 Ry)";
+
+/// Plots one curve per l against n in one panel (title and axis label
+/// given) and writes the SVG to `path` (atomically).
+///
+/// # Errors
+/// Drawing or I/O failures (exit 1).
+pub fn curves_plot(
+    title: &str,
+    y_desc: &str,
+    curves: &Curves,
+    path: &Path,
+) -> Result<(), AppError> {
+    let xs = curves.values().flatten().map(|p| p.0);
+    let (xmin, xmax) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+        (a.min(x), b.max(x))
+    });
+    let xr = range_with_margin(xmin, xmax);
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (900, 600)).into_drawing_area();
+        root.fill(&WHITE).map_err(plot_err)?;
+        draw_curves(
+            &root,
+            title,
+            curves,
+            xr,
+            0,
+            SeriesLabelPosition::LowerRight,
+            y_desc,
+        )?;
+        root.present().map_err(plot_err)?;
+    }
+    Ok(write_atomic(path, svg.as_bytes())?)
+}
 
 fn draw_curves<DB: DrawingBackend>(
     area: &DrawingArea<DB, plotters::coord::Shift>,
@@ -28,6 +65,7 @@ fn draw_curves<DB: DrawingBackend>(
     xr: (f64, f64),
     first_color: usize,
     legend: SeriesLabelPosition,
+    y_desc: &str,
 ) -> Result<(), AppError> {
     let ys = curves.values().flatten().map(|p| p.1);
     let (ymin, ymax) = ys.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), y| {
@@ -44,7 +82,7 @@ fn draw_curves<DB: DrawingBackend>(
     chart
         .configure_mesh()
         .x_desc("n")
-        .y_desc("ln k0 (energies in Z^2 Ry)")
+        .y_desc(y_desc)
         .draw()
         .map_err(plot_err)?;
     let show_legend = curves.len() <= 12;
@@ -109,6 +147,7 @@ pub fn table_plot(rows: &[Row], path: &Path) -> Result<(), AppError> {
                 xr,
                 0,
                 SeriesLabelPosition::UpperRight,
+                LN_K0_AXIS,
             )?;
             draw_curves(
                 &bottom,
@@ -117,6 +156,7 @@ pub fn table_plot(rows: &[Row], path: &Path) -> Result<(), AppError> {
                 xr,
                 1,
                 SeriesLabelPosition::LowerLeft,
+                LN_K0_AXIS,
             )?;
         } else if !s_curve.is_empty() {
             draw_curves(
@@ -126,6 +166,7 @@ pub fn table_plot(rows: &[Row], path: &Path) -> Result<(), AppError> {
                 xr,
                 0,
                 SeriesLabelPosition::UpperRight,
+                LN_K0_AXIS,
             )?;
         } else {
             draw_curves(
@@ -135,6 +176,7 @@ pub fn table_plot(rows: &[Row], path: &Path) -> Result<(), AppError> {
                 xr,
                 1,
                 SeriesLabelPosition::LowerLeft,
+                LN_K0_AXIS,
             )?;
         }
         root.present().map_err(plot_err)?;

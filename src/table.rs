@@ -138,15 +138,19 @@ Sharding:
   cost (deterministic: the same K/M always gives the same states). Run every
   K = 1..M (for example as a job array), then `kzero merge` the parts.
 
-Cluster recipe (Slurm job array; the same pattern works with any scheduler):
+Cluster recipe (Slurm job array; the README's cluster section has the whole
+recipe as tested on a real Slurm, with the resubmit step):
   #SBATCH --array=1-16
   #SBATCH --cpus-per-task=4
+  #SBATCH --open-mode=append
   OUT=part-${SLURM_ARRAY_TASK_ID}.csv
   kzero table --n-max 200 --digits 20 --threads 4 --quiet \\
       --shard ${SLURM_ARRAY_TASK_ID}/16 --out $OUT $([ -e $OUT ] && echo --resume)
   # after the array (for example with --dependency=afterok:<array job>):
   kzero merge part-*.csv --out table.csv
-  A requeued task that finds its part file continues it with --resume.
+  A requeued task that finds its part file continues it with --resume. A
+  cancelled task breaks an afterok dependency for good: resubmit it and
+  update the merge job's dependency (see the README).
 
 Cost before the run:
   --estimate prints the estimated core-seconds of the states of this command

@@ -1188,3 +1188,38 @@ fn sums_command_json_values_and_bad_powers() {
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     assert!(stdout(&o).contains("ln I(k)"), "{}", stdout(&o));
 }
+
+/// `kzero excitation`: one line per state, I(0) of 1s about 14.98 eV with
+/// the proton's reduced mass (14.99 eV infinite-mass value of Inokuti, Rev.
+/// Mod. Phys. 43, 297 (1971), from memory, times m_r/m_e), and an SVG plot.
+#[test]
+fn excitation_lists_states_and_draws_the_plot() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let svg = p(dir.path(), "i0.svg");
+    let o = kzero(&[
+        "excitation",
+        "--k",
+        "0",
+        "--l",
+        "0,1",
+        "--n-max",
+        "3",
+        "--plot",
+        &svg,
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let out = stdout(&o);
+    let lines: Vec<&str> = out
+        .lines()
+        .filter(|l| l.contains(',') && !l.starts_with('n'))
+        .collect();
+    assert_eq!(lines.len(), 5, "{out}");
+    let one_s: Vec<&str> = lines[0].split(',').collect();
+    assert_eq!(&one_s[..2], &["1", "0"]);
+    let ev: f64 = one_s[4].parse().expect("I_eV");
+    assert!((ev - 14.99 / (1.0 + 1.0 / 1836.15)).abs() < 0.01, "{ev}");
+    let text = std::fs::read_to_string(&svg).expect("svg");
+    assert!(text.contains("<svg") && text.contains("l = 1"));
+    let o = kzero(&["excitation", "--k", "5"]);
+    assert_bad_input(&o, "power k");
+}
