@@ -15,15 +15,13 @@ use kzero_bethe::value::format_err;
 use kzero_bethe::{BetheValue, Settings};
 use kzero_engine::build_info::command_line;
 use kzero_engine::shift::{
-    constants_json, fmt_const, fmt_mhz, fmt_unc_mhz, mass_text, radius_text, shift_level,
-    ShiftTable, DEFAULT_DIGITS, TRUNCATION_NOTE,
+    self, fmt_mhz, fmt_unc_mhz, mass_text, radius_text, shift_level, ShiftTable, DEFAULT_DIGITS,
+    TRUNCATION_NOTE,
 };
 use kzero_engine::{EngineError, TableFormat};
 use kzero_qed::{
-    constants, nucleus, shift::UNCERTAINTY_RULE, CutoffEstimate, Level, LevelShift, Nucleus,
-    QedError,
+    constants, shift::UNCERTAINTY_RULE, CutoffEstimate, Level, LevelShift, Nucleus, QedError,
 };
-use serde_json::{json, Value};
 use std::fmt::Write as _;
 
 /// Arguments of `kzero shift`.
@@ -109,66 +107,22 @@ fn parse_int(text: &str, what: &str) -> Result<i64, AppError> {
         .map_err(|_| AppError::BadInput(format!("{what} must be an integer, got {text:?}")))
 }
 
-/// The nucleus from --nucleus / --mass / --z / --radius.
+/// The nucleus from --nucleus / --mass / --z / --radius (rules and
+/// messages in `kzero_engine::shift::nucleus`).
 fn nucleus_from_args(a: &ShiftArgs) -> Result<Nucleus, AppError> {
     nucleus_from_options(a.nucleus.as_deref(), a.mass.as_deref(), a.z, a.radius)
 }
 
 /// The nucleus from the options --nucleus NAME / --mass M / --z Z /
-/// --radius FM shared by the commands that need one (default: H).
+/// --radius FM shared by the commands that need one (default: H; rules and
+/// messages in `kzero_engine::shift::nucleus`).
 pub(crate) fn nucleus_from_options(
     nucleus_name: Option<&str>,
     mass: Option<&str>,
     z: Option<i64>,
     radius: Option<f64>,
 ) -> Result<Nucleus, AppError> {
-    if let Some(r) = radius {
-        if !r.is_finite() {
-            return Err(AppError::BadInput(format!(
-                "--radius {r} is not a finite number of fm"
-            )));
-        }
-    }
-    let nuc = match (nucleus_name, mass) {
-        (Some(_), Some(_)) => {
-            return Err(AppError::BadInput(
-                "give either --nucleus or --mass, not both".to_string(),
-            ))
-        }
-        (None, Some(m)) => {
-            let mass = match m.trim().to_ascii_lowercase().as_str() {
-                "inf" | "infinity" | "infinite" => f64::INFINITY,
-                t => t.parse::<f64>().map_err(|_| {
-                    AppError::BadInput(format!(
-                        "--mass must be a number of electron masses or inf, got {m:?}"
-                    ))
-                })?,
-            };
-            Nucleus::custom(z.unwrap_or(1), mass, radius).map_err(bad)?
-        }
-        (preset, None) => {
-            let name = preset.unwrap_or("H");
-            let nuc = Nucleus::preset(name).map_err(bad)?;
-            if let Some(z) = z {
-                nucleus::check_z(z).map_err(bad)?;
-                if z != i64::from(nuc.z) {
-                    return Err(AppError::BadInput(if preset.is_some() {
-                        format!("--z {z} contradicts --nucleus {name} (Z = {})", nuc.z)
-                    } else {
-                        format!(
-                            "--z {z} needs --mass M (nuclear mass in electron masses, or inf) \
-                             or a --nucleus preset with that charge"
-                        )
-                    }));
-                }
-            }
-            match radius {
-                Some(r) => nuc.with_radius(r).map_err(bad)?,
-                None => nuc,
-            }
-        }
-    };
-    Ok(nuc)
+    Ok(shift::nucleus(nucleus_name, z, mass, radius)?)
 }
 
 /// Runs `kzero shift`, printing to standard output.
@@ -234,17 +188,7 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
     let r = shift_level(&level, &nucleus, &settings, args.cutoff_estimate).map_err(qed_bad)?;
     let (shift, cutoff) = (&r.shift, r.cutoff.as_ref());
     let text = if args.json {
-        let mut v = level_json(shift, &r.ln_k0, cutoff);
-        if let Value::Object(m) = &mut v {
-            m.insert("note".into(), json!(TRUNCATION_NOTE));
-            m.insert("uncertainty_rule".into(), json!(UNCERTAINTY_RULE));
-            m.insert("nucleus".into(), nucleus_json(&nucleus));
-            m.insert("constants".into(), constants_json());
-            m.insert(
-                "settings".into(),
-                json!({ "digits": settings.digits, "goal": settings.goal.name(), "method": "green" }),
-            );
-        }
+        let v = shift::level_json(&r, &settings);
         let mut s = serde_json::to_string_pretty(&v)
             .map_err(|e| AppError::Other(format!("cannot format JSON: {e}")))?;
         s.push('\n');
@@ -253,17 +197,6 @@ fn render(args: &ShiftArgs) -> Result<String, AppError> {
         level_text(shift, &r.ln_k0, cutoff)
     };
     Ok(text)
-}
-
-/// An f64 as a decimal string for JSON: the shortest one that reads back as
-/// the same f64 (exponent form for very small or large magnitudes).
-fn dec(x: f64) -> Value {
-    json!(fmt_const(x))
-}
-
-/// An error estimate as a decimal string, rounded up (for JSON).
-fn err(x: f64) -> Value {
-    json!(format_err(x))
 }
 
 fn fmt_coef(x: f64) -> String {
@@ -391,79 +324,10 @@ fn level_text(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) 
     t
 }
 
-fn nucleus_json(nuc: &Nucleus) -> Value {
-    json!({
-        "name": nuc.name,
-        "z": nuc.z,
-        "mass_me": nuc.mass_me.map(dec),
-        "radius_fm": dec(nuc.radius_fm),
-        "source": nuc.source,
-    })
-}
-
-fn level_json(s: &LevelShift, lk: &BetheValue, cutoff: Option<&CutoffEstimate>) -> Value {
-    let terms: Vec<Value> = s
-        .terms
-        .iter()
-        .map(|t| {
-            json!({
-                "name": t.name,
-                "order": t.order,
-                "coefficient": dec(t.coefficient),
-                "multiplier": dec(t.multiplier),
-                "mass_factor": dec(t.mass_factor),
-                "mhz": dec(t.mhz),
-            })
-        })
-        .collect();
-    let omitted: Vec<Value> = s
-        .omitted
-        .iter()
-        .map(|o| json!({ "name": o.name, "estimate_mhz": err(o.mhz), "rule": o.rule }))
-        .collect();
-    let mut v = json!({
-        "level": {
-            "n": s.level.n(),
-            "l": s.level.l(),
-            "j": s.level.j_text(),
-            "kappa": s.level.kappa(),
-            "label": s.level.label(),
-        },
-        "ln_k0": {
-            "value": lk.value_string(),
-            "abs_err": lk.abs_err_string(),
-            "method": lk.method.name(),
-            "digits": lk.digits,
-        },
-        "z_alpha": dec(s.z_alpha),
-        "reduced_mass_ratio": dec(s.reduced_mass_ratio),
-        "log_l": dec(s.log_l),
-        "unit_mhz": dec(s.unit_mhz),
-        "terms": terms,
-        "self_energy_mhz": dec(s.self_energy_mhz),
-        "vacuum_polarization_mhz": dec(s.vacuum_polarization_mhz),
-        "total_mhz": dec(s.total_mhz),
-        "uncertainty_mhz": err(s.uncertainty_mhz),
-        "omitted": omitted,
-        "ln_k0_error_mhz": err(s.ln_k0_error_mhz),
-    });
-    if let (Some(c), Value::Object(m)) = (cutoff, &mut v) {
-        m.insert(
-            "cutoff_estimate".into(),
-            json!({
-                "coefficient": dec(c.coefficient),
-                "cutoff_log": dec(c.cutoff_log),
-                "mhz": dec(c.mhz),
-                "ln_k0_error_mhz": err(c.ln_k0_error_mhz),
-            }),
-        );
-    }
-    v
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
+    use serde_json::Value;
 
     #[derive(clap::Parser)]
     struct Cli {

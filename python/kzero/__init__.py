@@ -24,6 +24,8 @@ Errors are exceptions with the one-line messages of the command line:
 estimates.
 """
 
+import json as _json
+import math as _math
 from decimal import Decimal
 from fractions import Fraction
 from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
@@ -50,6 +52,7 @@ __all__ = [
     "ln_k0",
     "oscillator",
     "radial",
+    "shift",
     "sweep",
     "table",
     "to_rows",
@@ -278,3 +281,87 @@ def oscillator(n: int, l: int, n2: int, l2: int) -> Fraction:
     """
     num, den = _kzero.oscillator(n, l, n2, l2)
     return Fraction(int(num), int(den))
+
+
+_SHIFT_NUMBERS = (
+    "z_alpha", "reduced_mass_ratio", "log_l", "unit_mhz", "self_energy_mhz",
+    "vacuum_polarization_mhz", "total_mhz", "uncertainty_mhz", "ln_k0_error_mhz",
+)
+
+
+def _j_text(j: Union[str, int, float, Fraction]) -> str:
+    if isinstance(j, str):
+        return j
+    f = Fraction(j)
+    return f"{f.numerator}/{f.denominator}" if f.denominator != 1 else str(f.numerator)
+
+
+def _mass_text(mass: Union[None, str, int, float]) -> Optional[str]:
+    if mass is None or isinstance(mass, str):
+        return mass
+    if isinstance(mass, float) and _math.isinf(mass) and mass > 0:
+        return "inf"
+    return repr(float(mass))
+
+
+def shift(
+    n: int,
+    l: int,
+    j: Union[str, int, float, Fraction],
+    nucleus: Optional[str] = "H",
+    z: Optional[int] = None,
+    mass: Union[None, str, int, float] = None,
+    radius: Optional[float] = None,
+    digits: int = 15,
+) -> Dict[str, Any]:
+    """The leading one-loop QED shift of a hydrogenic level, term by term.
+
+    A truncated expansion in Z alpha (one-loop self-energy and vacuum
+    polarization: A41 L, A40 with ln k0 from the engine, A50, A62, A61, V40,
+    V50; CODATA 2018 constants), not a complete bound-state QED evaluation:
+    ``uncertainty_mhz`` estimates the size of what is left out (an
+    estimate, not a bound). Shifts are E/h in MHz; positive raises the level.
+
+    Args:
+        n, l: the level's quantum numbers.
+        j: total angular momentum, ``"1/2"``, ``Fraction(3, 2)`` or ``0.5``.
+        nucleus: preset ``"H"`` (default), ``"D"`` or ``"He4"``; ``None``
+            with ``mass`` for another nucleus.
+        z: nuclear charge (default: the preset's, or 1 with ``mass``).
+        mass: nuclear mass in electron masses (``float("inf")`` or
+            ``"inf"`` for an infinitely heavy nucleus); it replaces the
+            default preset, another preset with it is refused.
+        radius: rms nuclear charge radius in fm (for the estimate of the
+            omitted nuclear-size term; default the preset's).
+        digits: digits of ln k0 (default 15, far more than the shifts need).
+
+    Returns:
+        A dict with the keys of ``kzero shift --json``: ``level``,
+        ``ln_k0`` (``value``/``abs_err`` as ``Decimal``), ``terms`` (one
+        dict per term: ``name``, ``order``, ``coefficient``,
+        ``multiplier``, ``mass_factor``, ``mhz``, numbers as ``Decimal``),
+        ``self_energy_mhz``, ``vacuum_polarization_mhz``, ``total_mhz``,
+        ``uncertainty_mhz``, ``omitted`` (``name``, ``estimate_mhz``,
+        ``rule``), ``nucleus``, ``constants``, ``note`` and the other
+        parameters (numbers as ``Decimal``).
+
+    Raises:
+        InvalidInput: a bad level, nucleus, charge, mass or radius
+            (messages as ``kzero shift``, keyword names for its options).
+        NoConvergence: ln k0 missed its goal.
+    """
+    # "H" is the engine's default preset: passed as no preset, so that a mass
+    # replaces it and another z asks for a mass, as on the command line.
+    preset = None if nucleus == "H" else nucleus
+    text = _kzero.shift(n, l, _j_text(j), preset, z, _mass_text(mass), radius, digits)
+    d = _json.loads(text)
+    for key in _SHIFT_NUMBERS:
+        d[key] = Decimal(d[key])
+    for t in d["terms"]:
+        for key in ("coefficient", "multiplier", "mass_factor", "mhz"):
+            t[key] = Decimal(t[key])
+    for o in d["omitted"]:
+        o["estimate_mhz"] = Decimal(o["estimate_mhz"])
+    d["ln_k0"]["value"] = Decimal(d["ln_k0"]["value"])
+    d["ln_k0"]["abs_err"] = Decimal(d["ln_k0"]["abs_err"])
+    return d

@@ -26,3 +26,13 @@ def range_states(n_min: int, n_max: int, l: Optional[List[int]]) -> List[Tuple[i
 def sweep(n: int, l: int, digits: List[int], method: str, gauge: str) -> List[Dict[str, Any]]: ...
 def radial(n: int, l: int, n2: int, l2: int, power: int, digits: int) -> Dict[str, Any]: ...
 def oscillator(n: int, l: int, n2: int, l2: int) -> Tuple[str, str]: ...
+def shift(
+    n: int,
+    l: int,
+    j: str,
+    nucleus: Optional[str],
+    z: Optional[int],
+    mass: Optional[str],
+    radius: Optional[float],
+    digits: int,
+) -> str: ...

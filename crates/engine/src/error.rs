@@ -48,6 +48,9 @@ pub enum EngineError {
         /// Agreeing decimal digits.
         digits: u32,
     },
+    /// A nucleus request of a level shift that cannot be met.
+    #[error(transparent)]
+    Nucleus(#[from] crate::shift::NucleusError),
     /// A computed ln k0 that the QED assembly does not accept (not finite).
     #[error("the engine returned an unusable ln k0: {source}")]
     UnusableLnK0 {
@@ -116,6 +119,7 @@ impl EngineError {
             EngineError::Bethe(e) => bethe_class(e),
             EngineError::Basis(_)
             | EngineError::Qed(_)
+            | EngineError::Nucleus(_)
             | EngineError::SweepMethod
             | EngineError::EmptyLadder
             | EngineError::Check(_) => ErrorClass::BadInput,

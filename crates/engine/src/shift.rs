@@ -28,12 +28,14 @@ use crate::table::TableFormat;
 use kzero_bethe::{BetheValue, Gauge, Settings};
 use kzero_qed::shift::{Family, UNCERTAINTY_RULE};
 use kzero_qed::{
-    constants, cutoff_estimate, level_shift, BetheLog, CutoffEstimate, Level, LevelShift, Nucleus,
+    constants, cutoff_estimate, level_shift, nucleus::check_z, BetheLog, CutoffEstimate, Level,
+    LevelShift, Nucleus,
 };
 use rayon::prelude::*;
 use serde_json::{json, Value};
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
+use thiserror::Error;
 
 /// Default digits of ln k0 for level shifts (far more than the shifts need).
 pub const DEFAULT_DIGITS: u32 = 15;
@@ -393,6 +395,193 @@ impl ShiftTable {
             TableFormat::Json => self.to_json(),
         }
     }
+}
+
+/// Why a nucleus request of a level shift cannot be met (the messages name
+/// the options of `kzero shift`).
+#[derive(Debug, Clone, PartialEq, Error)]
+#[non_exhaustive]
+pub enum NucleusError {
+    /// A radius that is not a finite number.
+    #[error("--radius {0} is not a finite number of fm")]
+    RadiusNotFinite(f64),
+    /// Both a preset and a mass.
+    #[error("give either --nucleus or --mass, not both")]
+    PresetAndMass,
+    /// A mass that is neither a number nor `inf`.
+    #[error("--mass must be a number of electron masses or inf, got {0:?}")]
+    MassNotNumber(String),
+    /// A charge other than the named preset's.
+    #[error("--z {z} contradicts --nucleus {name} (Z = {preset_z})")]
+    ZContradicts {
+        /// Z as given.
+        z: i64,
+        /// The preset named.
+        name: String,
+        /// The preset's charge.
+        preset_z: u32,
+    },
+    /// A charge other than hydrogen's without a mass or preset.
+    #[error("--z {0} needs --mass M (nuclear mass in electron masses, or inf) or a --nucleus preset with that charge")]
+    ZNeedsMass(i64),
+}
+
+/// The nucleus of a level shift from a preset name (default `H`), or a
+/// charge `z` (default 1) with a `mass` in electron masses (text: a number
+/// or `inf`/`infinity`/`infinite` for an infinitely heavy nucleus), and an
+/// optional rms charge `radius` in fm (default: the preset's, or
+/// 1.2 fm A^(1/3) with a mass). `z` with a preset must be its charge.
+///
+/// # Errors
+/// [`NucleusError`] for contradicting or malformed choices;
+/// [`EngineError::Qed`] for a charge, mass or radius out of range or an
+/// unknown preset (all bad input).
+pub fn nucleus(
+    preset: Option<&str>,
+    z: Option<i64>,
+    mass: Option<&str>,
+    radius: Option<f64>,
+) -> Result<Nucleus, EngineError> {
+    if let Some(r) = radius {
+        if !r.is_finite() {
+            return Err(NucleusError::RadiusNotFinite(r).into());
+        }
+    }
+    match (preset, mass) {
+        (Some(_), Some(_)) => Err(NucleusError::PresetAndMass.into()),
+        (None, Some(m)) => {
+            let mass = match m.trim().to_ascii_lowercase().as_str() {
+                "inf" | "infinity" | "infinite" => f64::INFINITY,
+                t => t
+                    .parse::<f64>()
+                    .map_err(|_| NucleusError::MassNotNumber(m.to_string()))?,
+            };
+            Ok(Nucleus::custom(z.unwrap_or(1), mass, radius)?)
+        }
+        (preset, None) => {
+            let name = preset.unwrap_or("H");
+            let nuc = Nucleus::preset(name)?;
+            if let Some(z) = z {
+                check_z(z)?;
+                if z != i64::from(nuc.z) {
+                    return Err(if preset.is_some() {
+                        NucleusError::ZContradicts {
+                            z,
+                            name: name.to_string(),
+                            preset_z: nuc.z,
+                        }
+                    } else {
+                        NucleusError::ZNeedsMass(z)
+                    }
+                    .into());
+                }
+            }
+            Ok(match radius {
+                Some(r) => nuc.with_radius(r)?,
+                None => nuc,
+            })
+        }
+    }
+}
+
+/// An f64 as a decimal string for JSON: the shortest one that reads back as
+/// the same f64 (exponent form for very small or large magnitudes).
+fn dec(x: f64) -> Value {
+    json!(fmt_const(x))
+}
+
+/// An error estimate as a decimal string, rounded up (for JSON).
+fn err(x: f64) -> Value {
+    json!(kzero_bethe::value::format_err(x))
+}
+
+/// The nucleus as a JSON object (name, z, mass_me, radius_fm, source).
+pub fn nucleus_json(nuc: &Nucleus) -> Value {
+    json!({
+        "name": nuc.name,
+        "z": nuc.z,
+        "mass_me": nuc.mass_me.map(dec),
+        "radius_fm": dec(nuc.radius_fm),
+        "source": nuc.source,
+    })
+}
+
+/// One level's shift as the JSON object of `kzero shift --json`: the level,
+/// ln k0 (value and printed error), the parameters, the included terms, the
+/// sums, the uncertainty and the omitted classes (with the cutoff estimate
+/// when computed), the note, the uncertainty rule, the nucleus, the
+/// constants and the settings. Numbers are decimal strings (errors rounded
+/// up).
+pub fn level_json(r: &LevelResult, settings: &Settings) -> Value {
+    let s = &r.shift;
+    let lk = &r.ln_k0;
+    let terms: Vec<Value> = s
+        .terms
+        .iter()
+        .map(|t| {
+            json!({
+                "name": t.name,
+                "order": t.order,
+                "coefficient": dec(t.coefficient),
+                "multiplier": dec(t.multiplier),
+                "mass_factor": dec(t.mass_factor),
+                "mhz": dec(t.mhz),
+            })
+        })
+        .collect();
+    let omitted: Vec<Value> = s
+        .omitted
+        .iter()
+        .map(|o| json!({ "name": o.name, "estimate_mhz": err(o.mhz), "rule": o.rule }))
+        .collect();
+    let mut v = json!({
+        "level": {
+            "n": s.level.n(),
+            "l": s.level.l(),
+            "j": s.level.j_text(),
+            "kappa": s.level.kappa(),
+            "label": s.level.label(),
+        },
+        "ln_k0": {
+            "value": lk.value_string(),
+            "abs_err": lk.abs_err_string(),
+            "method": lk.method.name(),
+            "digits": lk.digits,
+        },
+        "z_alpha": dec(s.z_alpha),
+        "reduced_mass_ratio": dec(s.reduced_mass_ratio),
+        "log_l": dec(s.log_l),
+        "unit_mhz": dec(s.unit_mhz),
+        "terms": terms,
+        "self_energy_mhz": dec(s.self_energy_mhz),
+        "vacuum_polarization_mhz": dec(s.vacuum_polarization_mhz),
+        "total_mhz": dec(s.total_mhz),
+        "uncertainty_mhz": err(s.uncertainty_mhz),
+        "omitted": omitted,
+        "ln_k0_error_mhz": err(s.ln_k0_error_mhz),
+    });
+    if let Value::Object(m) = &mut v {
+        if let Some(c) = &r.cutoff {
+            m.insert(
+                "cutoff_estimate".into(),
+                json!({
+                    "coefficient": dec(c.coefficient),
+                    "cutoff_log": dec(c.cutoff_log),
+                    "mhz": dec(c.mhz),
+                    "ln_k0_error_mhz": err(c.ln_k0_error_mhz),
+                }),
+            );
+        }
+        m.insert("note".into(), json!(TRUNCATION_NOTE));
+        m.insert("uncertainty_rule".into(), json!(UNCERTAINTY_RULE));
+        m.insert("nucleus".into(), nucleus_json(&s.nucleus));
+        m.insert("constants".into(), constants_json());
+        m.insert(
+            "settings".into(),
+            json!({ "digits": settings.digits, "goal": settings.goal.name(), "method": "green" }),
+        );
+    }
+    v
 }
 
 #[cfg(test)]

@@ -420,6 +420,49 @@ fn oscillator(py: Python<'_>, n: i64, l: i64, n2: i64, l2: i64) -> PyResult<(Str
     Ok(ratio(&f.value))
 }
 
+/// The truncated one-loop QED shift of the level (n, l, j = j2/2), as the
+/// JSON text of `kzero shift --json`; see `kzero.shift`.
+#[pyfunction]
+#[pyo3(signature = (n, l, j, nucleus, z, mass, radius, digits))]
+#[allow(clippy::too_many_arguments)]
+fn shift(
+    py: Python<'_>,
+    n: i64,
+    l: i64,
+    j: &str,
+    nucleus: Option<&str>,
+    z: Option<i64>,
+    mass: Option<&str>,
+    radius: Option<f64>,
+    digits: i64,
+) -> PyResult<String> {
+    let digits = parse_digits(digits)?;
+    let settings = Settings::with_digits(digits);
+    let nuc = kzero_engine::shift::nucleus(nucleus, z, mass, radius).map_err(keyword_names)?;
+    let j2 = kzero_qed::level::parse_j(j).map_err(|e| to_py(e.into()))?;
+    let level = kzero_qed::Level::new(n, l, i64::from(j2)).map_err(|e| to_py(e.into()))?;
+    let r = released(py, || {
+        kzero_engine::shift::shift_level(&level, &nuc, &settings, false)
+    })?;
+    Ok(kzero_engine::shift::level_json(&r, &settings).to_string())
+}
+
+/// A nucleus error with the keyword names of `kzero.shift` in place of the
+/// command line's options.
+fn keyword_names(e: EngineError) -> PyErr {
+    if e.class() != ErrorClass::BadInput {
+        return to_py(e);
+    }
+    let msg = e
+        .to_string()
+        .replace("--nucleus", "nucleus")
+        .replace("--mass M", "mass")
+        .replace("--mass", "mass")
+        .replace("--radius", "radius")
+        .replace("--z", "z");
+    InvalidInput::new_err(msg)
+}
+
 /// Versions and git revision of this build, with the provenance keys of a
 /// table header (`command` is this process's command line, `started_utc`
 /// the time of the call).
@@ -449,5 +492,6 @@ fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(sweep, m)?)?;
     m.add_function(wrap_pyfunction!(radial, m)?)?;
     m.add_function(wrap_pyfunction!(oscillator, m)?)?;
+    m.add_function(wrap_pyfunction!(shift, m)?)?;
     Ok(())
 }
