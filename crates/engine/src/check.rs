@@ -492,6 +492,67 @@ fn run_data_file(name: &str, text: &str, ctx: &mut Checker) -> Vec<CheckLine> {
                         ))
                     }
                 }
+                "dipole_sum_s" | "dipole_sum_l" | "mean_excitation_ry" => {
+                    let k = int("k").map_err(|e| (quantity.clone(), e))?;
+                    let label = format!("{quantity}({n},{l},k={k})");
+                    let digits = ctx.digits;
+                    let c = catch_panic(|| {
+                        crate::sums::compute_sums(
+                            n,
+                            l,
+                            &[k],
+                            MethodChoice::Green,
+                            Gauge::Length,
+                            &Settings::with_digits(digits),
+                        )
+                    })
+                    .map_err(|e| (label.clone(), e.to_string()))?;
+                    let p = c.primary();
+                    let row = &p.rows[0];
+                    let goal = EstimateGoal {
+                        err: row.s_err.max(row.log_err),
+                        goal: 10f64.powi(-(digits as i32)),
+                    };
+                    let decimals = digits as usize + 2;
+                    match quantity.as_str() {
+                        "dipole_sum_s" => Ok(compare(
+                            base(&label),
+                            &expected,
+                            &tolerance,
+                            &row.s,
+                            row.s_err,
+                            decimals,
+                            goal,
+                        )),
+                        "dipole_sum_l" => Ok(compare(
+                            base(&label),
+                            &expected,
+                            &tolerance,
+                            &row.log_sum,
+                            row.log_err,
+                            decimals,
+                            goal,
+                        )),
+                        _ => {
+                            let (ln_i, e) = row.ln_i().ok_or_else(|| {
+                                (label.clone(), "S(k) is zero within its error".to_string())
+                            })?;
+                            let i = Float::with_val(ln_i.prec(), ln_i.exp_ref());
+                            let err = i.to_f64().abs() * e.exp_m1() * 1.000_001;
+                            let mut line = base(&label);
+                            line.parameters.push(("unit".into(), "Ry".into()));
+                            Ok(compare(
+                                line,
+                                &expected,
+                                &tolerance,
+                                &i,
+                                err,
+                                decimals_of(&expected) + 3,
+                                goal,
+                            ))
+                        }
+                    }
+                }
                 "radial" | "oscillator" => {
                     let n2 = int("n2").map_err(|e| (quantity.clone(), e))?;
                     let l2 = int("l2").map_err(|e| (quantity.clone(), e))?;
