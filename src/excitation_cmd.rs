@@ -18,7 +18,7 @@ function, absolute goal 10^-D on S(k) and L(k)). States whose S(k) vanishes are 
 with a note.
 
 Example:
-  kzero excitation --k 0 --l 0,1,2 --n-max 12 --plot docs/mean_excitation.svg")]
+  kzero excitation --k 0 --l 0,1,2 --n-max 12 --plot docs/mean_excitation.svg --force")]
 pub struct ExcitationArgs {
     /// The power k (-4..=2).
     #[arg(
@@ -51,6 +51,9 @@ pub struct ExcitationArgs {
     /// Also draw I(k) (in Z^2 Ry) against n, one curve per l, to this SVG file.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
+    /// Replace an existing --plot file instead of refusing.
+    #[arg(long, requires = "plot")]
+    pub force: bool,
 }
 
 /// Runs `kzero excitation`.
@@ -58,6 +61,18 @@ pub fn run(a: &ExcitationArgs) -> Result<(), AppError> {
     let nucleus = nucleus_from_options(a.nucleus.as_deref(), a.mass.as_deref(), None, None)?;
     let unit = EnergyUnit::of(&nucleus);
     kzero_bethe::sums::validate_powers(&[a.k]).map_err(|e| AppError::BadInput(e.to_string()))?;
+    if let Some(p) = &a.plot {
+        use kzero_engine::table::files::{check_outputs, OutputKind, PlannedOutput};
+        check_outputs(
+            &[PlannedOutput {
+                option: "--plot",
+                path: p,
+                kind: OutputKind::Plot,
+                refuse_existing: (!a.force).then_some("use --force to replace it"),
+            }],
+            &[],
+        )?;
+    }
     let max_n = kzero_bethe::settings::MAX_N;
     if a.n_max < 1 || a.n_max > max_n {
         return Err(AppError::BadInput(format!(

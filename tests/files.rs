@@ -154,6 +154,16 @@ fn outputs_are_checked_before_any_work() {
         ],
     );
     ok(&o, "sweep --force");
+    // excitation: the same rules for its plot.
+    let o = kzero(d, &["excitation", "--n-max", "2", "--plot", "T.CSV"]);
+    refused(&o, ".svg", "excitation plot named .csv");
+    let o = kzero(d, &["excitation", "--n-max", "2", "--plot", "P.Svg"]);
+    refused(&o, "--force", "excitation over an existing plot");
+    let o = kzero(
+        d,
+        &["excitation", "--n-max", "2", "--plot", "P.Svg", "--force"],
+    );
+    ok(&o, "excitation --force");
 }
 
 #[test]
