@@ -76,16 +76,13 @@ pub fn gauge_or_all_parser() -> impl TypedValueParser<Value = GaugeArg> {
 }
 
 /// Refuses `--gauge` with a method that has no dipole form (`green`): an
-/// option that a method would ignore is bad input (exit 2).
+/// option that a method would ignore is bad input (exit 2). The rule and its
+/// message are the library's ([`MethodChoice::gauge`]).
 ///
 /// # Errors
 /// [`AppError::BadInput`] for `--gauge` with `--method green`.
 pub fn refuse_unused_gauge<T>(method: MethodChoice, gauge: Option<T>) -> Result<(), AppError> {
-    if gauge.is_some() && method == MethodChoice::Green {
-        return Err(AppError::BadInput(
-            "--gauge selects the dipole form of the spectral method; the green method has none (use --method spectral or both)".into(),
-        ));
-    }
+    method.gauge(gauge.map(|_| kzero_bethe::Gauge::default()))?;
     Ok(())
 }
 

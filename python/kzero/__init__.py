@@ -72,7 +72,7 @@ def ln_k0(
     l: int,
     digits: int = 20,
     method: str = "green",
-    gauge: str = "velocity",
+    gauge: Optional[str] = None,
 ) -> Value:
     """The Bethe logarithm ln k0(n, l) with its estimated absolute error.
 
@@ -91,8 +91,10 @@ def ln_k0(
             cross-checked: ``value`` is the Green's-function value,
             ``spectral`` the spectral one, ``agreement`` the agreeing
             decimal digits).
-        gauge: dipole form of the spectral method: ``"velocity"``
-            (default), ``"length"`` or ``"acceleration"``.
+        gauge: dipole form of the spectral method: ``"velocity"`` (used
+            when none is given), ``"length"`` or ``"acceleration"``. Given
+            with ``method="green"``, which has no dipole form, it is refused
+            with ``InvalidInput`` (as ``--gauge`` on the command line).
 
     Returns:
         A :class:`Value`; ``value`` and ``abs_err`` are ``decimal.Decimal``.
@@ -133,7 +135,7 @@ def table(
     digits: int = 20,
     method: str = "green",
     threads: Optional[int] = None,
-    gauge: str = "velocity",
+    gauge: Optional[str] = None,
 ) -> List[Value]:
     """ln k0 for many states, computed in parallel with the GIL released.
 
@@ -204,7 +206,7 @@ def sweep(
     l: int,
     digits: Sequence[int] = (10, 15, 20, 30),
     method: str = "green",
-    gauge: str = "velocity",
+    gauge: Optional[str] = None,
 ) -> List[Dict[str, Any]]:
     """One state computed from scratch at a ladder of ``digits`` (as ``kzero sweep``).
 
@@ -229,7 +231,7 @@ def sweep(
     rows = _kzero.sweep(n, l, [int(d) for d in digits], method, gauge)
     out = []
     for r in rows:
-        v = Value._from_native(r["value"], gauge=None if method == "green" else gauge)
+        v = Value._from_native(r["value"], gauge=None if method == "green" else (gauge or "velocity"))
         out.append({
             "digits": r["digits"],
             "ln_k0": Decimal(r["ln_k0"]),

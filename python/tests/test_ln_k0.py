@@ -136,6 +136,19 @@ def test_unknown_gauge(kzero_bin):
         assert str(e.value) == expected
 
 
+def test_gauge_with_the_green_method_is_refused(kzero_bin):
+    # The command line refuses an option the method would ignore; so does
+    # the package, with the same message in keyword names.
+    msg = cli_error(kzero_bin, ["state", "2", "0", "--gauge", "length"])
+    expected = msg.replace("--gauge", "gauge").replace("--method", "method")
+    for call in [lambda: kzero.ln_k0(2, 0, gauge="length"),
+                 lambda: kzero.table(n_max=2, gauge="length"),
+                 lambda: kzero.sweep(2, 0, digits=(10, 15), gauge="length")]:
+        with pytest.raises(kzero.InvalidInput) as e:
+            call()
+        assert str(e.value) == expected
+
+
 def test_both_methods_match_the_binary(kzero_bin):
     cli = json.loads(subprocess.run(
         [kzero_bin, "state", "3", "1", "--digits", "22", "--method", "both", "--json"],

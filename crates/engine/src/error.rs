@@ -74,6 +74,10 @@ pub enum EngineError {
         /// The spectral value and error (decimal strings).
         spectral: String,
     },
+    /// A dipole form was chosen for a method that has none (the Green's
+    /// function method): an option the method would ignore is refused.
+    #[error("--gauge selects the dipole form of the spectral method; the green method has none (use --method spectral or both)")]
+    UnusedGauge,
     /// A precision sweep needs one method.
     #[error("sweep takes --method green or --method spectral (run it once for each)")]
     SweepMethod,
@@ -121,6 +125,7 @@ impl EngineError {
             | EngineError::Qed(_)
             | EngineError::Nucleus(_)
             | EngineError::SweepMethod
+            | EngineError::UnusedGauge
             | EngineError::EmptyLadder
             | EngineError::Check(_) => ErrorClass::BadInput,
             EngineError::Table(t) => {

@@ -2,7 +2,7 @@
 //! cross-check. Names are spelled once, in [`MethodChoice::NAMES`] (and in
 //! [`kzero_bethe::Method::NAMES`] / [`kzero_bethe::Gauge::NAMES`]).
 
-use kzero_bethe::{Method, UnknownName};
+use kzero_bethe::{Gauge, Method, UnknownName};
 use std::str::FromStr;
 
 /// Which method(s) compute ln k0.
@@ -52,6 +52,20 @@ impl MethodChoice {
         }
     }
 
+    /// The dipole form to run with: `given` (a front end's explicit choice)
+    /// or the velocity form when none was given. A form given for the Green's
+    /// function method alone, which has none, is refused: an option a method
+    /// would ignore is bad input, in every front end.
+    ///
+    /// # Errors
+    /// [`crate::EngineError::UnusedGauge`] for `Some(_)` with [`MethodChoice::Green`].
+    pub fn gauge(self, given: Option<Gauge>) -> Result<Gauge, crate::EngineError> {
+        match (self, given) {
+            (MethodChoice::Green, Some(_)) => Err(crate::EngineError::UnusedGauge),
+            (_, g) => Ok(g.unwrap_or_default()),
+        }
+    }
+
     /// The method whose value is reported first (`ln_k0` in tables): Green's
     /// function when it runs, otherwise the spectral sum.
     pub fn primary(self) -> Method {
@@ -93,6 +107,17 @@ impl FromStr for MethodChoice {
 mod tests {
     use super::*;
     use kzero_bethe::Gauge;
+
+    #[test]
+    fn a_gauge_is_refused_where_the_method_has_none() {
+        assert!(MethodChoice::Green.gauge(Some(Gauge::Length)).is_err());
+        assert_eq!(MethodChoice::Green.gauge(None).unwrap(), Gauge::Velocity);
+        assert_eq!(
+            MethodChoice::Spectral.gauge(Some(Gauge::Length)).unwrap(),
+            Gauge::Length
+        );
+        assert_eq!(MethodChoice::Both.gauge(None).unwrap(), Gauge::Velocity);
+    }
 
     #[test]
     fn names_round_trip() {

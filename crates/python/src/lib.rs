@@ -121,10 +121,24 @@ fn parse_digits(digits: i64) -> PyResult<u32> {
     }
 }
 
+/// The dipole form of a call: the library's rule ([`MethodChoice::gauge`])
+/// decides, so a form given with the Green's function method alone is
+/// refused as on the command line (keyword names in place of options).
+fn choose_gauge(method: MethodChoice, gauge: Option<&str>) -> PyResult<Gauge> {
+    let given = gauge.map(parse_gauge).transpose()?;
+    method.gauge(given).map_err(|e| {
+        InvalidInput::new_err(
+            e.to_string()
+                .replace("--gauge", "gauge")
+                .replace("--method", "method"),
+        )
+    })
+}
+
 /// The request of one call: method, gauge and the absolute goal 10^-digits.
-fn request(digits: i64, method: &str, gauge: &str) -> PyResult<Request> {
+fn request(digits: i64, method: &str, gauge: Option<&str>) -> PyResult<Request> {
     let method = parse_method(method)?;
-    let gauge = parse_gauge(gauge)?;
+    let gauge = choose_gauge(method, gauge)?;
     let digits = parse_digits(digits)?;
     Ok(Request {
         method,
@@ -189,7 +203,7 @@ fn ln_k0<'py>(
     l: i64,
     digits: i64,
     method: &str,
-    gauge: &str,
+    gauge: Option<&str>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let req = request(digits, method, gauge)?;
     let (n, l) = kzero_engine::validate_state(n, l, req.method).map_err(to_py)?;
@@ -219,7 +233,7 @@ fn table<'py>(
     states: Vec<(i64, i64)>,
     digits: i64,
     method: &str,
-    gauge: &str,
+    gauge: Option<&str>,
     threads: Option<i64>,
 ) -> PyResult<Bound<'py, PyList>> {
     let req = request(digits, method, gauge)?;
@@ -343,10 +357,10 @@ fn sweep<'py>(
     l: i64,
     digits: Vec<i64>,
     method: &str,
-    gauge: &str,
+    gauge: Option<&str>,
 ) -> PyResult<Bound<'py, PyList>> {
     let method = parse_method(method)?;
-    let gauge = parse_gauge(gauge)?;
+    let gauge = choose_gauge(method, gauge)?;
     let mut ladder = Vec::with_capacity(digits.len());
     for d in digits {
         ladder.push(parse_digits(d)?);
