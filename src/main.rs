@@ -71,16 +71,9 @@ enum Command {
 pub fn catch<T>(f: impl FnOnce() -> Result<T, AppError>) -> Result<T, AppError> {
     match panic::catch_unwind(AssertUnwindSafe(f)) {
         Ok(r) => r,
-        Err(payload) => {
-            let msg = payload
-                .downcast_ref::<&str>()
-                .map(|s| s.to_string())
-                .or_else(|| payload.downcast_ref::<String>().cloned())
-                .unwrap_or_else(|| "unknown cause".into());
-            Err(AppError::from(kzero_engine::EngineError::Internal {
-                message: msg.lines().next().unwrap_or("").to_string(),
-            }))
-        }
+        Err(payload) => Err(AppError::from(kzero_engine::EngineError::Internal {
+            message: kzero_engine::batch::panic_message(payload.as_ref()),
+        })),
     }
 }
 

@@ -81,17 +81,21 @@ pub fn default_threads() -> usize {
 pub fn catch_panic<T>(f: impl FnOnce() -> Result<T, EngineError>) -> Result<T, EngineError> {
     match panic::catch_unwind(AssertUnwindSafe(f)) {
         Ok(r) => r,
-        Err(payload) => {
-            let msg = payload
-                .downcast_ref::<&str>()
-                .map(|s| s.to_string())
-                .or_else(|| payload.downcast_ref::<String>().cloned())
-                .unwrap_or_else(|| "unknown cause".into());
-            Err(EngineError::Internal {
-                message: msg.lines().next().unwrap_or("").to_string(),
-            })
-        }
+        Err(payload) => Err(EngineError::Internal {
+            message: panic_message(payload.as_ref()),
+        }),
     }
+}
+
+/// The first line of a caught panic's message (`"unknown cause"` when the
+/// payload is not a string), for [`EngineError::Internal`].
+pub fn panic_message(payload: &(dyn std::any::Any + Send)) -> String {
+    let msg = payload
+        .downcast_ref::<&str>()
+        .map(|s| s.to_string())
+        .or_else(|| payload.downcast_ref::<String>().cloned())
+        .unwrap_or_else(|| "unknown cause".into());
+    msg.lines().next().unwrap_or("").to_string()
 }
 
 /// Computes `states` in the given order on `threads` worker threads and
