@@ -305,11 +305,12 @@ say "array, resubmission and merge done in $(($(date +%s) - T2)) s"
 
 # --- what must hold ------------------------------------------------------------
 [ -f table.csv ] || fail "the merge wrote no table.csv"
-# Rows without the wall-time column (seconds), column line included.
+# Rows without the wall-time column (seconds) and the row checksum (check),
+# which covers the seconds, column line included.
 values() {
     awk -F, '/^#/ { next }
-        !s { for (i = 1; i <= NF; i++) if ($i == "seconds") s = i }
-        { out = ""; for (i = 1; i <= NF; i++) if (i != s) out = out (out == "" ? "" : ",") $i; print out }' "$1"
+        !s { for (i = 1; i <= NF; i++) { if ($i == "seconds") s = i; if ($i == "check") c = i } }
+        { out = ""; for (i = 1; i <= NF; i++) if (i != s && i != c) out = out (out == "" ? "" : ",") $i; print out }' "$1"
 }
 diff <(values "$WORK/single.csv") <(values table.csv) >/dev/null \
     || fail "the merged table differs from the single run: $(diff <(values "$WORK/single.csv") <(values table.csv) | head -n 3 | tr '\n' ' ')"
