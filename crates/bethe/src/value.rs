@@ -19,6 +19,28 @@ pub struct UnknownName {
     pub expected: &'static [&'static str],
 }
 
+impl UnknownName {
+    /// The choice among `all` whose `name` is `given` (exact, lower case):
+    /// the one parser behind the `FromStr` of every named choice.
+    ///
+    /// # Errors
+    /// [`UnknownName`] listing `expected` when no choice has that name.
+    pub fn find<T: Copy>(
+        given: &str,
+        all: &[T],
+        name: impl Fn(T) -> &'static str,
+        expected: &'static [&'static str],
+    ) -> Result<T, UnknownName> {
+        all.iter()
+            .copied()
+            .find(|&c| name(c) == given)
+            .ok_or_else(|| UnknownName {
+                given: given.to_string(),
+                expected,
+            })
+    }
+}
+
 /// Which method produced a value.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum Method {
@@ -51,13 +73,7 @@ impl FromStr for Method {
 
     /// Parses a name written by [`Method::name`] (exact, lower case).
     fn from_str(s: &str) -> Result<Self, UnknownName> {
-        Self::ALL
-            .into_iter()
-            .find(|m| m.name() == s)
-            .ok_or_else(|| UnknownName {
-                given: s.to_string(),
-                expected: Self::NAMES,
-            })
+        UnknownName::find(s, &Self::ALL, Self::name, Self::NAMES)
     }
 }
 
@@ -106,13 +122,7 @@ impl FromStr for Gauge {
 
     /// Parses a name written by [`Gauge::name`] (exact, lower case).
     fn from_str(s: &str) -> Result<Self, UnknownName> {
-        Self::ALL
-            .into_iter()
-            .find(|g| g.name() == s)
-            .ok_or_else(|| UnknownName {
-                given: s.to_string(),
-                expected: Self::NAMES,
-            })
+        UnknownName::find(s, &Self::ALL, Self::name, Self::NAMES)
     }
 }
 

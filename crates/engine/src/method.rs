@@ -93,13 +93,7 @@ impl FromStr for MethodChoice {
 
     /// Parses a name written by [`MethodChoice::name`] (exact, lower case).
     fn from_str(s: &str) -> Result<Self, UnknownName> {
-        Self::ALL
-            .into_iter()
-            .find(|m| m.name() == s)
-            .ok_or_else(|| UnknownName {
-                given: s.to_string(),
-                expected: Self::NAMES,
-            })
+        UnknownName::find(s, &Self::ALL, Self::name, Self::NAMES)
     }
 }
 

@@ -145,13 +145,7 @@ impl FromStr for TableFormat {
     type Err = UnknownName;
 
     fn from_str(s: &str) -> Result<Self, UnknownName> {
-        Self::ALL
-            .into_iter()
-            .find(|m| m.name() == s)
-            .ok_or_else(|| UnknownName {
-                given: s.to_string(),
-                expected: Self::NAMES,
-            })
+        UnknownName::find(s, &Self::ALL, Self::name, Self::NAMES)
     }
 }
 
