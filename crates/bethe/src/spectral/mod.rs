@@ -363,27 +363,21 @@ impl SpectralSumSetup {
         }
         let mut closed_terms = 0;
         if self.closed_form_bound {
-            let n = self.state.n();
-            let en = self.state.energy();
+            let weight = self.weight;
             let shift = self.shift();
-            for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
-                for np in kern.big_l() + 1..=p.n1 {
-                    if np == n {
-                        continue;
-                    }
-                    let i = kern.bound_bound_hinted(np, b, hint)?;
-                    let m =
-                        BoundState::new(i64::from(np), i64::from(kern.big_l()), Rational::from(1))?;
-                    let d = Float::with_val(b, &Rational::from(&m.energy() - &en));
-                    let mut v = Float::with_val(b, i.value.square_ref()) * wl;
-                    v /= Float::with_val(b, np).pow(3u32);
-                    v *= pow_float(&d, shift, b);
-                    v *= weight_f(self.weight, &d, b);
+            closed_terms = closed_form_bound_terms(
+                &self.kernels,
+                &mut self.loss_hints,
+                &self.state,
+                shift,
+                p.n1,
+                b,
+                |mut v, d| {
+                    v *= weight_f(weight, d, b);
                     abs_sum += v.to_f64().abs();
                     bound += v;
-                    closed_terms += 1;
-                }
-            }
+                },
+            )?;
         }
         // tail
         let a = p.n1 + 1;
@@ -483,6 +477,44 @@ impl SpectralSumSetup {
             terms: exact.len() + closed_terms + tail_terms,
         })
     }
+}
+
+/// The bound terms n' = L + 1 ..= `n1` (n' != n) of every channel from the
+/// closed-form bound-bound integrals: calls `visit(v, D)` with
+/// v = |I(n')|^2 w_L / n'^3 D^`shift` and D = E_n' - E_n (units of Z^2 Ry
+/// at Z = 1), both at `bits`, and returns the number of terms. Shared by the
+/// ln k0 sum and the dipole-sum family, which apply their own weights.
+///
+/// # Errors
+/// A basis error of a kernel evaluation.
+pub(crate) fn closed_form_bound_terms(
+    kernels: &[(BoundFreeKernel, Rational)],
+    hints: &mut [LossHint],
+    state: &BoundState,
+    shift: i32,
+    n1: u32,
+    bits: u32,
+    mut visit: impl FnMut(Float, &Float),
+) -> Result<usize, BetheError> {
+    let n = state.n();
+    let en = state.energy();
+    let mut count = 0;
+    for ((kern, wl), hint) in kernels.iter().zip(hints) {
+        for np in kern.big_l() + 1..=n1 {
+            if np == n {
+                continue;
+            }
+            let i = kern.bound_bound_hinted(np, bits, hint)?;
+            let m = BoundState::new(i64::from(np), i64::from(kern.big_l()), Rational::from(1))?;
+            let d = Float::with_val(bits, &Rational::from(&m.energy() - &en));
+            let mut v = Float::with_val(bits, i.value.square_ref()) * wl;
+            v /= Float::with_val(bits, np).pow(3u32);
+            v *= pow_float(&d, shift, bits);
+            visit(v, &d);
+            count += 1;
+        }
+    }
+    Ok(count)
 }
 
 pub(crate) fn pow_float(d: &Float, k: i32, prec: u32) -> Float {

@@ -11,14 +11,13 @@
 
 use crate::error::BetheError;
 use crate::spectral::{
-    cheb_order, exact_terms, form_of, pow_float, pow_rat, quadrature, split_point, tail, ExactTerm,
-    EXACT_MAX_N,
+    cheb_order, closed_form_bound_terms, exact_terms, form_of, pow_float, pow_rat, quadrature,
+    split_point, tail, ExactTerm, EXACT_MAX_N,
 };
 use crate::value::Gauge;
 use kzero_basis::continuum::{BoundFreeKernel, DipoleForm, LossHint};
 use kzero_basis::gradient::Channel;
 use kzero_basis::BoundState;
-use rug::ops::Pow;
 use rug::{Float, Rational};
 
 const METHOD: &str = "spectral";
@@ -171,25 +170,17 @@ impl Problem<'_> {
         }
         let mut closed_terms = 0;
         if self.closed {
-            let n = self.state.n();
-            let en = self.state.energy();
+            let comps = self.comps;
             let shift = self.shift();
-            for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.hints) {
-                for np in kern.big_l() + 1..=p.n1 {
-                    if np == n {
-                        continue;
-                    }
-                    let i = kern.bound_bound_hinted(np, b, hint)?;
-                    let m =
-                        BoundState::new(i64::from(np), i64::from(kern.big_l()), Rational::from(1))?;
-                    let d = Float::with_val(b, &Rational::from(&m.energy() - &en));
-                    let mut v = Float::with_val(b, i.value.square_ref()) * wl;
-                    v /= Float::with_val(b, np).pow(3u32);
-                    v *= pow_float(&d, shift, b);
-                    add_into(&mut bound, &mut abs_sum, &v, &weights(self.comps, &d, b));
-                    closed_terms += 1;
-                }
-            }
+            closed_terms = closed_form_bound_terms(
+                &self.kernels,
+                &mut self.hints,
+                &self.state,
+                shift,
+                p.n1,
+                b,
+                |v, d| add_into(&mut bound, &mut abs_sum, &v, &weights(comps, d, b)),
+            )?;
         }
         // tail: the densities at the Chebyshev points serve every component
         let a = p.n1 + 1;
