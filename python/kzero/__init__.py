@@ -1,5 +1,9 @@
 """kzero: hydrogenic Bethe logarithms ln k0(n, l) at any requested precision.
 
+Also the family of logarithmic dipole sums S(k), L(k) and the mean
+excitation energies ln I(k) of every state (:func:`sums`), with the same
+kind of precision contract (an absolute goal on every S(k) and L(k)).
+
 Every value comes with an error estimate. The precision contract is the same
 as the command line's ``--digits D``:
 

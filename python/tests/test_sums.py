@@ -312,3 +312,24 @@ def test_a_disagreement_raises_methods_disagree_with_the_sums(monkeypatch):
     assert str(e.value) == message
     assert isinstance(e.value, RuntimeError)
     assert isinstance(e.value.value, kzero.Sums) and e.value.value.rows_spectral is not None
+
+
+def test_the_readme_session_replays():
+    # The README's session of kzero.sums is real output: replayed here as a
+    # doctest, so it cannot drift from what the package prints.
+    import doctest
+
+    from conftest import ROOT
+
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    marker = "digits as `kzero sums --json`"
+    assert marker in readme
+    after = readme[readme.index(marker):]
+    block = after[after.index("```\n") + 4:]
+    block = block[: block.index("```")]
+    assert block.count(">>> ") >= 8, block
+    test = doctest.DocTestParser().get_doctest(block, {"kzero": kzero}, "README", "README.md", 0)
+    runner = doctest.DocTestRunner(optionflags=doctest.ELLIPSIS)
+    runner.run(test)
+    result = runner.summarize(verbose=False)
+    assert result.attempted >= 8 and result.failed == 0, result
