@@ -333,3 +333,28 @@ def test_the_readme_session_replays():
     runner.run(test)
     result = runner.summarize(verbose=False)
     assert result.attempted >= 8 and result.failed == 0, result
+
+
+BIG = 10 ** 30
+
+
+@pytest.mark.parametrize(
+    "kwargs,args,option,keyword",
+    [
+        (dict(n=BIG, l=0), [str(BIG), "0"], "'<N>'", "'n'"),
+        (dict(n=2, l=-BIG), ["2", "--", str(-BIG)], "'<L>'", "'l'"),
+        (dict(n=2, l=0, digits=BIG), ["2", "0", f"--digits={BIG}"], "'--digits <D>'", "'digits'"),
+        (dict(n=2, l=0, z=BIG), ["2", "0", f"--z={BIG}"], "'--z <Z>'", "'z'"),
+    ],
+)
+def test_integers_beyond_64_bits(kzero_bin, kwargs, args, option, keyword):
+    expected = keyword_message(cli_error(kzero_bin, args), option, keyword)
+    with pytest.raises(kzero.InvalidInput) as e:
+        kzero.sums(**kwargs)
+    assert str(e.value) == expected
+
+
+def test_non_integers_are_type_errors():
+    for kwargs in [dict(n=2.0, l=0), dict(n=2, l=0, k=[0.5]), dict(n=2, l=0, digits=20.0)]:
+        with pytest.raises(TypeError):
+            kzero.sums(**kwargs)

@@ -462,29 +462,30 @@ fn shift(
     Ok(kzero_engine::shift::level_json(&r, &settings).to_string())
 }
 
-/// The powers k as given in Python: `None` for every supported power, else
-/// each an integer. An integer beyond 64 bits is refused with the command
-/// line's message for `--k`; the library checks the range.
-fn parse_powers(k: Option<Vec<Bound<'_, PyAny>>>) -> PyResult<Option<Vec<i64>>> {
-    let Some(items) = k else {
-        return Ok(None);
-    };
-    let mut out = Vec::with_capacity(items.len());
-    for x in items {
-        match x.extract::<i64>() {
-            Ok(v) => out.push(v),
-            Err(_) if x.is_instance_of::<pyo3::types::PyInt>() => {
-                let detail = if x.lt(0)? {
-                    ": number too small to fit in target type"
-                } else {
-                    ": number too large to fit in target type"
-                };
-                return Err(invalid_value("k", &x.str()?.to_string(), detail));
-            }
-            Err(e) => return Err(e),
+/// An integer argument as `i64`. An integer beyond 64 bits is refused with
+/// the command line's message for a number that does not fit (keyword name
+/// in place of the option); a value that is not an integer is a
+/// `TypeError`.
+fn int_arg(name: &str, x: &Bound<'_, PyAny>) -> PyResult<i64> {
+    match x.extract::<i64>() {
+        Ok(v) => Ok(v),
+        Err(_) if x.is_instance_of::<pyo3::types::PyInt>() => {
+            let detail = if x.lt(0)? {
+                ": number too small to fit in target type"
+            } else {
+                ": number too large to fit in target type"
+            };
+            Err(invalid_value(name, &x.str()?.to_string(), detail))
         }
+        Err(e) => Err(e),
     }
-    Ok(Some(out))
+}
+
+/// The powers k as given in Python: `None` for every supported power, else
+/// each an integer ([`int_arg`]); the library checks the range.
+fn parse_powers(k: Option<Vec<Bound<'_, PyAny>>>) -> PyResult<Option<Vec<i64>>> {
+    k.map(|items| items.iter().map(|x| int_arg("k", x)).collect())
+        .transpose()
 }
 
 /// The dipole sums of one state as the JSON text of `kzero sums --json`,
@@ -498,18 +499,20 @@ fn parse_powers(k: Option<Vec<Bound<'_, PyAny>>>) -> PyResult<Option<Vec<i64>>> 
 #[allow(clippy::too_many_arguments)]
 fn sums(
     py: Python<'_>,
-    n: i64,
-    l: i64,
+    n: Bound<'_, PyAny>,
+    l: Bound<'_, PyAny>,
     k: Option<Vec<Bound<'_, PyAny>>>,
-    digits: i64,
+    digits: Bound<'_, PyAny>,
     method: &str,
     gauge: Option<&str>,
     nucleus: Option<&str>,
-    z: Option<i64>,
+    z: Option<Bound<'_, PyAny>>,
     mass: Option<&str>,
 ) -> PyResult<(String, Option<String>)> {
+    let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
     let ks = parse_powers(k)?;
-    let digits = parse_digits(digits)?;
+    let digits = parse_digits(int_arg("digits", &digits)?)?;
+    let z = z.map(|z| int_arg("z", &z)).transpose()?;
     let method = parse_method(method)?;
     let given = gauge.map(parse_gauge).transpose()?;
     let gauge = kzero_engine::sums::sums_gauge(method, given).map_err(keyword_names)?;
