@@ -414,7 +414,8 @@ def sums(
     Precision contract: ``digits=D`` is an **absolute** goal, |error| <
     10^-D, on every S(k) and every L(k) (not significant digits; S(k) grows
     like n^(3(1-k)) for k < 1). The errors are estimates by refinement, not
-    bounds; ln I(k) carries the propagated error (|dL| + |ln I| |dS|)/|S|.
+    bounds; ln I(k) carries the propagated error (|dL| + |ln I| |dS|)/|S|
+    (times 1 + 2 |dS/S|).
     When an estimate misses the goal, ``NoConvergence`` is raised and no
     number is returned. The Green's-function method gives S(k) exactly.
 

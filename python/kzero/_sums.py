@@ -29,7 +29,8 @@ class SumRow:
         S, S_err: S(k) = sum_m f_m D_m^k with D + 2 decimals.
         L, L_err: L(k) = sum_m f_m D_m^k ln|D_m| with D + 2 decimals.
         ln_I, ln_I_err: ln I(k) = L(k)/S(k) with D + 2 decimals and the
-            first-order propagated error (|dL| + |ln I| |dS|)/|S|; ``None``
+            propagated error (|dL| + |ln I| |dS|)/|S| (times
+            1 + 2 |dS/S|); ``None``
             where S(k) is zero within its error (S(2) for l >= 1).
         I_eV, I_eV_err: I(k) = exp(ln I(k)) Z^2 Ry in eV (reduced-mass
             Rydberg energy of the nucleus, CODATA 2018), with decimals down
