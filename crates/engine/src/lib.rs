@@ -79,5 +79,5 @@ pub use estimate::{
 pub use kzero_bethe::{agreement, Agreement, BetheValue, Gauge, Method, Settings};
 pub use method::MethodChoice;
 pub use shard::{part_costs, plan, Key, Shard, ShardError};
-pub use sums::{compute_sums, row_text, sums_cost, ComputedSums, EnergyUnit, RowText};
+pub use sums::{compute_sums, row_text, sums_cost, sums_json, ComputedSums, EnergyUnit, RowText};
 pub use table::{Row, Table, TableError, TableFormat, TableSettings};

@@ -58,7 +58,8 @@ pyo3::create_exception!(
     "The Green's-function and the spectral values differ by more than their \
      combined error estimates (method=\"both\"; the command line exits 3). \
      The computed result is attached as the attribute `value` (a \
-     kzero.Value) or `values` (a list, for a table)."
+     kzero.Value, or kzero.Sums for the dipole sums) or `values` (a list, \
+     for a table)."
 );
 
 /// An engine error as the package's exception.
@@ -461,8 +462,73 @@ fn shift(
     Ok(kzero_engine::shift::level_json(&r, &settings).to_string())
 }
 
-/// A nucleus error with the keyword names of `kzero.shift` in place of the
-/// command line's options.
+/// An integer argument as `i64`. An integer beyond 64 bits is refused with
+/// the command line's message for a number that does not fit (keyword name
+/// in place of the option); a value that is not an integer is a
+/// `TypeError`.
+fn int_arg(name: &str, x: &Bound<'_, PyAny>) -> PyResult<i64> {
+    match x.extract::<i64>() {
+        Ok(v) => Ok(v),
+        Err(_) if x.is_instance_of::<pyo3::types::PyInt>() => {
+            let detail = if x.lt(0)? {
+                ": number too small to fit in target type"
+            } else {
+                ": number too large to fit in target type"
+            };
+            Err(invalid_value(name, &x.str()?.to_string(), detail))
+        }
+        Err(e) => Err(e),
+    }
+}
+
+/// The powers k as given in Python: `None` for every supported power, else
+/// each an integer ([`int_arg`]); the library checks the range.
+fn parse_powers(k: Option<Vec<Bound<'_, PyAny>>>) -> PyResult<Option<Vec<i64>>> {
+    k.map(|items| items.iter().map(|x| int_arg("k", x)).collect())
+        .transpose()
+}
+
+/// The dipole sums of one state as the JSON text of `kzero sums --json`,
+/// with the command line's disagreement message when the two methods
+/// differ (else `None`); see `kzero.sums`.
+///
+/// A disagreement is not raised here: the Python layer raises
+/// `MethodsDisagree` with the result attached.
+#[pyfunction]
+#[pyo3(signature = (n, l, k, digits, method, gauge, nucleus, z, mass))]
+#[allow(clippy::too_many_arguments)]
+fn sums(
+    py: Python<'_>,
+    n: Bound<'_, PyAny>,
+    l: Bound<'_, PyAny>,
+    k: Option<Vec<Bound<'_, PyAny>>>,
+    digits: Bound<'_, PyAny>,
+    method: &str,
+    gauge: Option<&str>,
+    nucleus: Option<&str>,
+    z: Option<Bound<'_, PyAny>>,
+    mass: Option<&str>,
+) -> PyResult<(String, Option<String>)> {
+    let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
+    let ks = parse_powers(k)?;
+    let digits = parse_digits(int_arg("digits", &digits)?)?;
+    let z = z.map(|z| int_arg("z", &z)).transpose()?;
+    let method = parse_method(method)?;
+    let given = gauge.map(parse_gauge).transpose()?;
+    let gauge = kzero_engine::sums::sums_gauge(method, given).map_err(keyword_names)?;
+    let nuc = kzero_engine::shift::nucleus(nucleus, z, mass, None).map_err(keyword_names)?;
+    let ks = kzero_engine::sums::requested_powers(ks.as_deref());
+    let settings = Settings::with_digits(digits);
+    let c = released(py, || {
+        kzero_engine::compute_sums(n, l, &ks, method, gauge, &settings)
+    })?;
+    let text = kzero_engine::sums_json(&c, &nuc).to_string();
+    Ok((text, c.check_agreement().err().map(|e| e.to_string())))
+}
+
+/// A bad-input error with the keyword names of the package in place of the
+/// command line's options (`--nucleus`, `--mass`, `--radius`, `--z`,
+/// `--gauge`, `--method`).
 fn keyword_names(e: EngineError) -> PyErr {
     if e.class() != ErrorClass::BadInput {
         return to_py(e);
@@ -473,7 +539,9 @@ fn keyword_names(e: EngineError) -> PyErr {
         .replace("--mass M", "mass")
         .replace("--mass", "mass")
         .replace("--radius", "radius")
-        .replace("--z", "z");
+        .replace("--z", "z")
+        .replace("--gauge", "gauge")
+        .replace("--method", "method");
     InvalidInput::new_err(msg)
 }
 
@@ -496,6 +564,10 @@ fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     let py = m.py();
     m.add("__version__", build_info::VERSION)?;
     m.add("MAX_N", kzero_bethe::settings::MAX_N)?;
+    m.add(
+        "SUM_POWERS",
+        pyo3::types::PyTuple::new(py, kzero_bethe::sums::all_powers())?,
+    )?;
     m.add("InvalidInput", py.get_type::<InvalidInput>())?;
     m.add("NoConvergence", py.get_type::<NoConvergence>())?;
     m.add("MethodsDisagree", py.get_type::<MethodsDisagree>())?;
@@ -507,5 +579,6 @@ fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(radial, m)?)?;
     m.add_function(wrap_pyfunction!(oscillator, m)?)?;
     m.add_function(wrap_pyfunction!(shift, m)?)?;
+    m.add_function(wrap_pyfunction!(sums, m)?)?;
     Ok(())
 }
