@@ -12,8 +12,9 @@
 
 use super::files::{check_not_busy, journal_path, lock_exclusive, looks_like_json};
 use super::{
-    read_table, Differences, Row, SettingDifference, Table, TableError, TableFormat, TableSettings,
-    BASE_COLUMNS, BOTH_COLUMNS, CHECK_COLUMN, MAGIC,
+    read_table, Differences, Quantity, Row, SettingDifference, Table, TableError, TableFormat,
+    TableSettings, BASE_COLUMNS, BOTH_COLUMNS, CHECK_COLUMN, MAGIC, SUMS_BOTH_COLUMNS,
+    SUMS_COLUMNS,
 };
 use crate::shard::{Key, Shard};
 use std::collections::BTreeSet;
@@ -241,6 +242,10 @@ pub fn unstarted_journal(bytes: &[u8]) -> Option<Vec<(String, String)>> {
         [&BASE_COLUMNS[..], &BOTH_COLUMNS[..], &[CHECK_COLUMN]]
             .concat()
             .join(","),
+        [&SUMS_COLUMNS[..], &[CHECK_COLUMN]].concat().join(","),
+        [&SUMS_COLUMNS[..], &SUMS_BOTH_COLUMNS[..], &[CHECK_COLUMN]]
+            .concat()
+            .join(","),
     ];
     (cut.starts_with('#') || column_lines.iter().any(|c| c.starts_with(cut))).then_some(pairs)
 }
@@ -257,8 +262,19 @@ fn unstarted(jpath: &Path, settings: &TableSettings, shard: Shard) -> Result<boo
     let Some(pairs) = unstarted_journal(&bytes) else {
         return Ok(false);
     };
-    let mine = settings.pairs();
+    let mut mine = settings.pairs();
     let mut diffs = Vec::new();
+    // A dipole-sum header names its quantity before any other setting: a
+    // header with settings but no quantity line is an ln k0 header.
+    let has_settings = pairs.iter().any(|(k, _)| k.starts_with("setting."));
+    let has_quantity = pairs.iter().any(|(k, _)| k == "setting.quantity");
+    if settings.quantity == Quantity::LnK0 {
+        mine.push(("quantity", Quantity::LN_K0.to_string()));
+    }
+    let mut pairs = pairs;
+    if has_settings && !has_quantity {
+        pairs.insert(0, ("setting.quantity".into(), Quantity::LN_K0.to_string()));
+    }
     for (k, v) in &pairs {
         if let Some(sk) = k.strip_prefix("setting.") {
             if let Some((key, want)) = mine.iter().find(|(m, _)| *m == sk) {
