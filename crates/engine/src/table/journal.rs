@@ -431,4 +431,57 @@ mod tests {
         assert_eq!(unstarted_journal(b"# kzero-table: 3\n"), None);
         assert_eq!(unstarted_journal(&[0xff, 0xfe]), None);
     }
+
+    fn sums_table() -> Table {
+        let mut t = crate::table::tests::table();
+        t.rows.clear();
+        t.settings = t.settings.with_sums(&[-1, 0]).unwrap();
+        t
+    }
+
+    #[test]
+    fn a_sums_header_cut_before_its_column_line_is_an_unstarted_journal() {
+        let s = sums_table().to_csv();
+        let col_end = s.rfind('\n').unwrap();
+        for end in 0..col_end {
+            assert!(
+                unstarted_journal(&s.as_bytes()[..end]).is_some(),
+                "cut at {end}: {:?}",
+                &s[..end]
+            );
+        }
+        assert_eq!(unstarted_journal(s.as_bytes()), None);
+    }
+
+    /// A cut header names its quantity: resuming it as the other quantity
+    /// (or with another k list) is refused; the same settings start the
+    /// work on it.
+    #[test]
+    fn an_unstarted_journal_of_another_quantity_is_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("t.csv");
+        let ln_k0 = crate::table::tests::table();
+        let sums = sums_table();
+        let cut = |t: &Table| {
+            let s = t.to_csv();
+            let end = s.find("# setting.l:").unwrap();
+            s[..end].to_string()
+        };
+        let shard = Shard::WHOLE;
+        let other_k = sums.settings.clone().with_sums(&[0]).unwrap();
+        for (header, settings, ok) in [
+            (cut(&ln_k0), &ln_k0.settings, true),
+            (cut(&ln_k0), &sums.settings, false),
+            (cut(&sums), &sums.settings, true),
+            (cut(&sums), &ln_k0.settings, false),
+            (cut(&sums), &other_k, false),
+        ] {
+            std::fs::write(&path, &header).unwrap();
+            let r = unstarted(&path, settings, shard);
+            assert_eq!(r.is_ok(), ok, "{header}\n{r:?}");
+            if let Err(e) = r {
+                assert!(e.to_string().contains("started with other settings"), "{e}");
+            }
+        }
+    }
 }

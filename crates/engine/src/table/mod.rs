@@ -55,6 +55,20 @@
 //! Format 2 (this one) added the `check` column. Files of format 1 are
 //! refused with a message saying so: they come from an older build, whose
 //! rows are never mixed with this build's anyway.
+//!
+//! ## Tables of the dipole sums
+//! A table made with [`TableSettings::with_sums`] holds S(k), L(k) and
+//! ln I(k) instead of ln k0 ([`Quantity::DipoleSums`]): its header records
+//! `setting.quantity: dipole_sums` and `setting.k` (first among the
+//! settings), and it has one row per (n, l, k); see [`sums`] for the
+//! columns. The rows of a state are computed together ([`StateValues`]),
+//! appended to the journal in one write ([`Table::add`]) and read back as
+//! one [`SumsEntry`]: a state whose rows are cut short at the end of a
+//! journal is dropped like a torn last line ([`Table::torn_at`] is the
+//! start of its first row), so `--resume` computes it again whole; anywhere
+//! else a state without every k is refused. Resume and merge compare the
+//! quantity and the k list like any other setting. ln k0 tables write no
+//! quantity, so their files are the same as before the sums existed.
 
 mod error;
 pub mod files;
@@ -800,7 +814,8 @@ pub struct Table {
     /// until sorted); empty in an ln k0 table.
     pub sums: Vec<SumsEntry>,
     /// For a CSV file cut short by a crash: byte offset where the torn last
-    /// line starts (the file is valid up to there).
+    /// line starts, or in a dipole-sum table the first row of a last state
+    /// cut short (the file is valid up to there).
     pub torn_at: Option<u64>,
 }
 
