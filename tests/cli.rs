@@ -1187,6 +1187,15 @@ fn sums_command_json_values_and_bad_powers() {
     let o = kzero(&["sums", "2", "1", "--k", "0", "--digits", "12"]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     assert!(stdout(&o).contains("ln I(k)"), "{}", stdout(&o));
+    // A dipole form with the green method alone would be ignored: refused.
+    let o = kzero(&["sums", "2", "1", "--gauge", "velocity"]);
+    assert_bad_input(&o, "--gauge");
+    let o = kzero(&[
+        "sums", "2", "1", "--k", "0", "--method", "spectral", "--json",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("json");
+    assert_eq!(v["gauge"], "length", "the default form of the sums");
 }
 
 /// `kzero excitation`: one line per state, I(0) of 1s about 14.98 eV with

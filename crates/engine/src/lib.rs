@@ -80,7 +80,7 @@ pub use estimate::{
 pub use kzero_bethe::{agreement, Agreement, BetheValue, Gauge, Method, Settings};
 pub use method::MethodChoice;
 pub use shard::{part_costs, part_costs_by, plan, plan_by, Key, Shard, ShardError};
-pub use sums::{compute_sums, row_text, sums_cost, ComputedSums, EnergyUnit, RowText};
+pub use sums::{compute_sums, row_text, sums_cost, sums_json, ComputedSums, EnergyUnit, RowText};
 pub use table::{
     run_table, Quantity, Row, StateValues, SumsEntry, Table, TableError, TableFormat, TableSettings,
 };

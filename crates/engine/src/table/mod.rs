@@ -265,7 +265,7 @@ impl Quantity {
     pub fn default_gauge(&self) -> Gauge {
         match self {
             Quantity::LnK0 => Gauge::Velocity,
-            Quantity::DipoleSums(_) => Gauge::Length,
+            Quantity::DipoleSums(_) => crate::sums::SUMS_DEFAULT_GAUGE,
         }
     }
 }
