@@ -220,14 +220,57 @@ fn ln_k0<'py>(
 /// How often a running table looks for a pending signal (Ctrl-C).
 const SIGNAL_POLL: Duration = Duration::from_millis(100);
 
-/// Many states in parallel; see `kzero.table`.
-///
-/// The states run on a separate thread while this one waits with the
+/// Runs `work(stop)` on a separate thread while this one waits with the
 /// interpreter released, waking every [`SIGNAL_POLL`] to run the Python
 /// signal handlers. A `KeyboardInterrupt` (or any exception a handler
-/// raises) sets the batch's cancellation flag, so no further state starts,
-/// and is raised at once; the states already running finish in the
-/// background and are dropped.
+/// raises) makes `stop()` true, so `work` starts nothing further, and is
+/// raised at once; what is already running finishes in the background and
+/// is dropped. A panic in `work` becomes an internal error.
+fn interruptible<T: Send + 'static>(
+    py: Python<'_>,
+    work: impl FnOnce(&(dyn Fn() -> bool + Sync)) -> Result<T, EngineError> + Send + 'static,
+) -> PyResult<T> {
+    let cancel = Arc::new(AtomicBool::new(false));
+    let (tx, rx) = mpsc::channel();
+    {
+        let cancel = Arc::clone(&cancel);
+        std::thread::Builder::new()
+            .name("kzero-batch".into())
+            .spawn(move || {
+                let stop = || cancel.load(Ordering::Relaxed);
+                let r = catch_panic(|| work(&stop));
+                // The receiver is gone after an interrupt; nothing to report then.
+                let _ = tx.send(r);
+            })
+            .map_err(|e| PyRuntimeError::new_err(format!("cannot start a thread: {e}")))?;
+    }
+    let mut rx = rx;
+    loop {
+        // The receiver moves into the released section and back (it is not Sync).
+        let (back, got) = py.detach(move || {
+            let got = rx.recv_timeout(SIGNAL_POLL);
+            (rx, got)
+        });
+        rx = back;
+        match got {
+            Ok(r) => return r.map_err(to_py),
+            Err(mpsc::RecvTimeoutError::Timeout) => {
+                if let Err(e) = py.check_signals() {
+                    cancel.store(true, Ordering::Relaxed);
+                    return Err(e);
+                }
+            }
+            Err(mpsc::RecvTimeoutError::Disconnected) => {
+                return Err(PyRuntimeError::new_err(
+                    "internal error: the batch thread ended without a result",
+                ))
+            }
+        }
+    }
+}
+
+/// Many states in parallel; see `kzero.table`. Ctrl-C works as described
+/// in [`interruptible`]: no further state starts.
 ///
 /// Returns the computed states as dicts, sorted by (n, l). Failed states
 /// raise: the first failure (by (n, l)) with the command line's wording
@@ -260,43 +303,10 @@ fn table<'py>(
         let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
         keys.push(kzero_engine::validate_state(n, l, req.method).map_err(to_py)?);
     }
-    let cancel = Arc::new(AtomicBool::new(false));
-    let (tx, rx) = mpsc::channel();
-    {
-        let (req, cancel) = (req.clone(), Arc::clone(&cancel));
-        std::thread::Builder::new()
-            .name("kzero-table".into())
-            .spawn(move || {
-                let stop = || cancel.load(Ordering::Relaxed);
-                let r = catch_panic(|| compute_states(&keys, &req, threads, &stop));
-                // The receiver is gone after an interrupt; nothing to report then.
-                let _ = tx.send(r);
-            })
-            .map_err(|e| PyRuntimeError::new_err(format!("cannot start a thread: {e}")))?;
-    }
-    let mut rx = rx;
-    let batch = loop {
-        // The receiver moves into the released section and back (it is not Sync).
-        let (back, got) = py.detach(move || {
-            let got = rx.recv_timeout(SIGNAL_POLL);
-            (rx, got)
-        });
-        rx = back;
-        match got {
-            Ok(r) => break r.map_err(to_py)?,
-            Err(mpsc::RecvTimeoutError::Timeout) => {
-                if let Err(e) = py.check_signals() {
-                    cancel.store(true, Ordering::Relaxed);
-                    return Err(e);
-                }
-            }
-            Err(mpsc::RecvTimeoutError::Disconnected) => {
-                return Err(PyRuntimeError::new_err(
-                    "internal error: the table thread ended without a result",
-                ))
-            }
-        }
-    };
+    let req_for_thread = req.clone();
+    let batch = interruptible(py, move |stop| {
+        compute_states(&keys, &req_for_thread, threads, stop)
+    })?;
     let out = PyList::empty(py);
     let mut failures = Vec::new();
     for r in batch.results {
