@@ -86,6 +86,30 @@ pub fn refuse_unused_gauge<T>(method: MethodChoice, gauge: Option<T>) -> Result<
     Ok(())
 }
 
+/// The powers k of `--sums LIST`: the integers of the list, or every
+/// supported power for `all` (range checks are the library's).
+///
+/// # Errors
+/// [`AppError::BadInput`] for an item that is not an integer, or `all`
+/// with other items.
+pub fn powers(list: &[String]) -> Result<Vec<i64>, AppError> {
+    if list.len() == 1 && list[0].trim() == "all" {
+        return Ok(kzero_bethe::sums::all_powers()
+            .into_iter()
+            .map(i64::from)
+            .collect());
+    }
+    list.iter()
+        .map(|x| {
+            x.trim().parse::<i64>().map_err(|_| {
+                AppError::BadInput(format!(
+                    "--sums: '{x}' is not an integer power k (give a list such as -2,0,2, or all)"
+                ))
+            })
+        })
+        .collect()
+}
+
 /// The `--format` parser of tabular outputs: the names of [`TableFormat`].
 pub fn format_parser() -> impl TypedValueParser<Value = TableFormat> {
     PossibleValuesParser::new(

@@ -4,9 +4,9 @@
 use crate::app_error::AppError;
 use crate::output;
 use crate::shift_cmd::nucleus_from_options;
-use kzero_bethe::sums::{all_powers, K_MAX, K_MIN};
-use kzero_engine::{compute_sums, row_text, EnergyUnit, Gauge, MethodChoice, RowText, Settings};
-use serde_json::{json, Map, Value};
+use kzero_bethe::sums::{K_MAX, K_MIN};
+use kzero_engine::sums::{requested_powers, rows_text, sums_gauge, sums_json};
+use kzero_engine::{compute_sums, EnergyUnit, Gauge, MethodChoice, RowText, Settings};
 
 /// Arguments of `kzero sums`.
 #[derive(Debug, clap::Args)]
@@ -45,9 +45,10 @@ pub struct SumsArgs {
     /// beyond the combined error estimates).
     #[arg(long, default_value_t = MethodChoice::Green, value_parser = crate::args::method_parser())]
     pub method: MethodChoice,
-    /// Dipole form of the spectral method.
-    #[arg(long, default_value_t = Gauge::Length, value_parser = crate::args::gauge_parser())]
-    pub gauge: Gauge,
+    /// Dipole form of the spectral method (default: length; refused with
+    /// `--method green`, which has none).
+    #[arg(long, value_parser = crate::args::gauge_parser())]
+    pub gauge: Option<Gauge>,
     /// Nucleus preset for I(k) in eV: H (proton), D (deuteron), He4 (alpha particle). Default H.
     #[arg(long, value_name = "NAME", conflicts_with = "mass")]
     pub nucleus: Option<String>,
@@ -60,28 +61,6 @@ pub struct SumsArgs {
     /// One JSON object instead of the text report.
     #[arg(long)]
     pub json: bool,
-}
-
-fn row_json(r: &RowText) -> Value {
-    let mut m = Map::new();
-    m.insert("k".into(), json!(r.k));
-    m.insert("S".into(), json!(r.s));
-    m.insert("S_err".into(), json!(r.s_err));
-    m.insert("L".into(), json!(r.l));
-    m.insert("L_err".into(), json!(r.l_err));
-    let (li, lie) = match &r.ln_i {
-        Some((v, e)) => (json!(v), json!(e)),
-        None => (Value::Null, Value::Null),
-    };
-    m.insert("ln_I".into(), li);
-    m.insert("ln_I_err".into(), lie);
-    let (iv, ie) = match &r.i_ev {
-        Some((v, e)) => (json!(v), json!(e)),
-        None => (Value::Null, Value::Null),
-    };
-    m.insert("I_eV".into(), iv);
-    m.insert("I_eV_err".into(), ie);
-    Value::Object(m)
 }
 
 fn row_lines(r: &RowText) -> String {
@@ -102,90 +81,57 @@ fn row_lines(r: &RowText) -> String {
 
 /// Runs `kzero sums`.
 pub fn run(a: &SumsArgs) -> Result<(), AppError> {
+    let gauge = sums_gauge(a.method, a.gauge)?;
     let nucleus = nucleus_from_options(a.nucleus.as_deref(), a.mass.as_deref(), a.z, None)?;
     let unit = EnergyUnit::of(&nucleus);
-    let ks: Vec<i64> = if a.k.is_empty() {
-        all_powers().into_iter().map(i64::from).collect()
-    } else {
-        a.k.clone()
-    };
+    let ks = requested_powers((!a.k.is_empty()).then_some(a.k.as_slice()));
     let settings = Settings::with_digits(a.digits);
-    let c = compute_sums(a.n, a.l, &ks, a.method, a.gauge, &settings)?;
-    let p = c.primary();
-    let rows: Vec<RowText> = p.rows.iter().map(|r| row_text(p, r, Some(unit))).collect();
-    let disagreements = c.disagreements();
+    let c = compute_sums(a.n, a.l, &ks, a.method, gauge, &settings)?;
     if a.json {
-        let mut m = Map::new();
-        m.insert("n".into(), json!(p.n));
-        m.insert("l".into(), json!(p.l));
-        m.insert("digits".into(), json!(a.digits));
-        m.insert("method".into(), json!(a.method.name()));
-        if a.method != MethodChoice::Green {
-            m.insert("gauge".into(), json!(a.gauge.name()));
-        }
-        m.insert("nucleus".into(), json!(nucleus.name));
-        m.insert("z".into(), json!(nucleus.z));
-        m.insert("energy_unit_eV".into(), json!(format!("{:.12}", unit.ev)));
-        m.insert(
-            "rows".into(),
-            Value::Array(rows.iter().map(row_json).collect()),
-        );
-        if let Some(s) = c.spectral() {
-            if a.method == MethodChoice::Both {
-                let srows: Vec<Value> = s
-                    .rows
-                    .iter()
-                    .map(|r| row_json(&row_text(s, r, Some(unit))))
-                    .collect();
-                m.insert("rows_spectral".into(), Value::Array(srows));
-                m.insert("consistent".into(), json!(disagreements.is_empty()));
-            }
-        }
-        m.insert("bits".into(), json!(p.bits));
-        m.insert("nodes".into(), json!(p.nodes));
-        m.insert("seconds".into(), json!(c.seconds()));
-        let mut s = serde_json::to_string_pretty(&Value::Object(m)).unwrap_or_default();
+        let mut s = serde_json::to_string_pretty(&sums_json(&c, &nucleus)).unwrap_or_default();
         s.push('\n');
         output::print(&s)?;
-    } else {
-        let mut s = format!(
-            "Dipole sums of ({},{}) in units of Z^2 Ry, k in {K_MIN}..={K_MAX}; goal 1e-{} on every S(k), L(k)\n",
-            p.n, p.l, a.digits
-        );
+        return Ok(c.check_agreement()?);
+    }
+    let p = c.primary();
+    let rows: Vec<RowText> = rows_text(p, &nucleus);
+    let disagreements = c.disagreements();
+    let mut s = format!(
+        "Dipole sums of ({},{}) in units of Z^2 Ry, k in {K_MIN}..={K_MAX}; goal 1e-{} on every S(k), L(k)\n",
+        p.n, p.l, a.digits
+    );
+    let (unit_ev, unit_err) = unit.printed();
+    s.push_str(&format!(
+        "I(k) in eV for {} (Z = {}): Z^2 Ry = {unit_ev} eV +- {unit_err} (reduced mass, CODATA 2018)\n",
+        nucleus.name, nucleus.z
+    ));
+    for r in &rows {
+        s.push_str(&row_lines(r));
+    }
+    for d in [c.green(), c.spectral()].into_iter().flatten() {
         s.push_str(&format!(
-            "I(k) in eV for {} (Z = {}): Z^2 Ry = {:.12} eV (reduced mass, CODATA 2018)\n",
-            nucleus.name, nucleus.z, unit.ev
+            "  {:<8} {} bits, {} nodes, {} terms, {:.3} s{}\n",
+            d.method.name(),
+            d.bits,
+            d.nodes,
+            d.terms,
+            d.seconds,
+            d.gauge
+                .map(|g| format!(" ({} form)", g.name()))
+                .unwrap_or_default()
         ));
-        for r in &rows {
-            s.push_str(&row_lines(r));
-        }
-        for d in [c.green(), c.spectral()].into_iter().flatten() {
-            s.push_str(&format!(
-                "  {:<8} {} bits, {} nodes, {} terms, {:.3} s{}\n",
-                d.method.name(),
-                d.bits,
-                d.nodes,
-                d.terms,
-                d.seconds,
-                d.gauge
-                    .map(|g| format!(" ({} form)", g.name()))
-                    .unwrap_or_default()
-            ));
-        }
-        if a.method == MethodChoice::Both {
-            if disagreements.is_empty() {
-                s.push_str(
-                    "  agreement: every S(k) and L(k) within the combined error estimates\n",
-                );
-            } else {
-                for (k, q, g, sp) in &disagreements {
-                    s.push_str(&format!(
-                        "  NOT within the combined error estimates: {q}({k}) green {g} vs spectral {sp}\n"
-                    ));
-                }
+    }
+    if a.method == MethodChoice::Both {
+        if disagreements.is_empty() {
+            s.push_str("  agreement: every S(k) and L(k) within the combined error estimates\n");
+        } else {
+            for (k, q, g, sp) in &disagreements {
+                s.push_str(&format!(
+                    "  NOT within the combined error estimates: {q}({k}) green {g} vs spectral {sp}\n"
+                ));
             }
         }
-        output::print(&s)?;
     }
+    output::print(&s)?;
     Ok(c.check_agreement()?)
 }

@@ -1,5 +1,6 @@
-//! `kzero table`: a batch table of ln k0 over a range of states, parallel,
-//! crash-safe, resumable and shardable. The table format, the journal,
+//! `kzero table`: a batch table of ln k0 (or of the dipole sums, with
+//! `--sums`) over a range of states, parallel, crash-safe, resumable and
+//! shardable. The table format, the journal,
 //! resume and the shard plan are the library's (`kzero_engine::table`);
 //! this file parses the arguments, shows progress and prints.
 
@@ -14,7 +15,7 @@ use kzero_engine::table::files::{
 };
 use kzero_engine::table::journal::{check_resumable, load_for_resume, Journal, JournalLock};
 use kzero_engine::{
-    plan, run_batch, Flow, Gauge, Key, MethodChoice, Shard, Table, TableFormat, TableSettings,
+    run_table, Flow, Gauge, Key, MethodChoice, Shard, Table, TableFormat, TableSettings,
 };
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
@@ -47,18 +48,30 @@ pub struct TableArgs {
     /// Include every l <= K (and l < n).
     #[arg(long, value_name = "K", allow_negative_numbers = true)]
     pub l_max: Option<i64>,
-    /// Requested absolute accuracy: |error| < 10^-D (5..=200; default 20).
+    /// Requested absolute accuracy: |error| < 10^-D (5..=200; default 20),
+    /// on ln k0 or on every S(k) and L(k).
     #[arg(long, value_name = "D", value_parser = crate::args::digits_parser(), conflicts_with = "significant")]
     pub digits: Option<u32>,
     /// Requested relative accuracy instead: |error| <= 10^-D |ln k0|, D
-    /// significant digits per state (5..=200; recorded as setting.goal).
-    #[arg(long, value_name = "D", value_parser = crate::args::digits_parser())]
+    /// significant digits per state (5..=200; recorded as setting.goal; not
+    /// with --sums).
+    #[arg(long, value_name = "D", value_parser = crate::args::digits_parser(), conflicts_with = "sums")]
     pub significant: Option<u32>,
+    /// Tabulate the dipole sums S(k), L(k), ln I(k) for these powers k
+    /// instead of ln k0: a comma-separated list such as -2,-1,0,1,2 (each
+    /// in -4..=2), or `all`. One row per (n, l, k).
+    #[arg(
+        long,
+        value_name = "LIST",
+        value_delimiter = ',',
+        allow_hyphen_values = true
+    )]
+    pub sums: Option<Vec<String>>,
     /// Method.
     #[arg(long, default_value_t = MethodChoice::Green, value_parser = crate::args::method_parser())]
     pub method: MethodChoice,
-    /// Dipole form of the spectral method (default velocity; refused with
-    /// --method green).
+    /// Dipole form of the spectral method (default velocity for ln k0,
+    /// length with --sums; refused with --method green).
     #[arg(long, value_parser = crate::args::gauge_parser())]
     pub gauge: Option<Gauge>,
     /// Output format.
@@ -83,8 +96,9 @@ pub struct TableArgs {
     /// Compute only part K of M (1 <= K <= M), e.g. for a job array.
     #[arg(long, value_name = "K/M", value_parser = crate::args::shard_parser)]
     pub shard: Option<Shard>,
-    /// Also write an SVG plot of ln k0 against n, one curve per l.
-    #[arg(long, value_name = "FILE.svg")]
+    /// Also write an SVG plot of ln k0 against n, one curve per l (not with
+    /// --sums; `kzero excitation --plot` draws I(k) against n).
+    #[arg(long, value_name = "FILE.svg", conflicts_with = "sums")]
     pub plot: Option<PathBuf>,
     /// No progress bar.
     #[arg(long)]
@@ -160,8 +174,24 @@ Cost before the run:
   the reference machine of benches/README.md (within a factor of about 1.5);
   nothing is computed and no file is touched.
 
+Dipole sums (--sums LIST):
+  The table holds S(k), L(k) and ln I(k) = L(k)/S(k) (units of Z^2 Ry, the
+  definitions of `kzero sums`) for the powers k of LIST (or all of -4..=2),
+  one row per (n, l, k) with the columns n,l,k,S,S_err,L,L_err,ln_I,ln_I_err,
+  method,digits,bits,seconds,check (with --method both also S_spectral,
+  S_err_spectral,L_spectral,L_err_spectral before check). ln_I and ln_I_err
+  are empty where S(k) is zero within its error (S(2) for l >= 1). --digits D
+  is an absolute goal on every S(k) and L(k). The quantity and the k list are
+  recorded (setting.quantity, setting.k); --resume and merge refuse a file
+  with another quantity or k list. The rows of a state are computed and
+  written together: a state cut short by an interruption is recomputed
+  whole by --resume. --method both cross-checks every S(k) and L(k) (exit 3
+  when they differ beyond the combined error estimates). Shards and
+  --estimate use the cost of the sums.
+
 Determinism:
-  ln_k0 and abs_err do not depend on --threads, sharding or resuming.
+  ln_k0 and abs_err (S, L, ln_I and their errors) do not depend on
+  --threads, sharding or resuming.
 
 The seconds column:
   the wall time of that state, from its start to its end on its worker
@@ -174,17 +204,25 @@ The seconds column:
 pub fn settings_from_args(a: &TableArgs) -> Result<TableSettings, AppError> {
     crate::args::refuse_unused_gauge(a.method, a.gauge)?;
     let goal = crate::args::goal_settings(a.digits, a.significant);
-    Ok(TableSettings::new(
+    let s = TableSettings::new(
         a.n_min,
         a.n_max,
         a.l.as_deref(),
         a.l_max,
         goal.digits,
         a.method,
-        a.gauge.unwrap_or(Gauge::Velocity),
+        Gauge::default(),
     )
     .map_err(kzero_engine::TableError::from)?
-    .with_goal(goal.goal))
+    .with_goal(goal.goal);
+    let mut s = match &a.sums {
+        Some(list) => s
+            .with_sums(&crate::args::powers(list)?)
+            .map_err(kzero_engine::TableError::from)?,
+        None => s,
+    };
+    s.gauge = a.gauge.unwrap_or_else(|| s.quantity.default_gauge());
+    Ok(s)
 }
 
 /// Runs `kzero table`.
@@ -210,8 +248,7 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             "kzero: warning: --threads {threads} is more than the {cores} cores here; the states share the cores, so the table is not faster and each row's seconds (wall time) grows"
         );
     }
-    let requested = settings.states();
-    let planned = plan(&requested, settings.digits, settings.method, shard);
+    let planned = settings.plan(shard);
 
     // Prepare the output (all checks before any work, nothing touched on refusal).
     let mut table = Table::new(
@@ -233,6 +270,7 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
             check_resumable(&loaded, &from, &settings, shard, &planned)?;
             table.prov = loaded.prov.clone();
             table.rows = loaded.rows.clone();
+            table.sums = loaded.sums.clone();
             let mut j = Journal::reopen(out, format, &from, &loaded, lock)?;
             let when = provenance::utc_now();
             let cmd = provenance::command_line();
@@ -252,7 +290,7 @@ pub fn run(a: &TableArgs) -> Result<(), AppError> {
         }
     }
 
-    let done: std::collections::BTreeSet<Key> = table.rows.iter().map(|r| r.key()).collect();
+    let (done, _) = table.keys();
     let todo: Vec<(Key, f64)> = planned
         .iter()
         .filter(|(k, _)| !done.contains(k))
@@ -334,13 +372,16 @@ fn print_estimate(
     threads: usize,
 ) -> Result<(), AppError> {
     use kzero_engine::human_duration as dur;
-    let states: Vec<Key> = plan(&settings.states(), settings.digits, settings.method, shard)
-        .into_iter()
-        .map(|(k, _)| k)
-        .collect();
-    let e = kzero_engine::estimate(&states, settings.digits, settings.method, threads);
+    let e = settings.estimate(shard, threads);
+    let what = match &settings.quantity {
+        kzero_engine::Quantity::LnK0 => String::new(),
+        q => format!(
+            ", dipole sums k = {}",
+            kzero_engine::table::render_powers(q.powers())
+        ),
+    };
     let mut text = format!(
-        "estimate for {} states (n = {}..{}, {} digits, method {}), shard {}/{}:\n",
+        "estimate for {} states (n = {}..{}, {} digits, method {}{what}), shard {}/{}:\n",
         e.states,
         settings.n_min,
         settings.n_max,
@@ -364,13 +405,7 @@ fn print_estimate(
         text += &format!("  costliest   ({n},{l}): {c:.2} core-seconds\n");
     }
     if let Some(target) = a.target_wall {
-        let g = kzero_engine::suggest_shards(
-            &states,
-            settings.digits,
-            settings.method,
-            threads,
-            target,
-        );
+        let g = settings.suggest_shards(shard, threads, target);
         let verdict = if g.meets_target {
             "slowest part"
         } else {
@@ -435,54 +470,38 @@ fn compute_all(
     let mut fatal: Option<AppError> = None;
     let mut done_cost = 0.0;
     let mut done = 0usize;
-    run_batch(
-        &states,
-        &settings.request(),
-        threads,
-        &|| false,
-        &mut |i, r| {
-            let ((n, l), c) = todo[i];
-            done += 1;
-            done_cost += c;
-            let mut flow = Flow::Continue;
-            match r {
-                Ok(comp) => {
-                    if let Err(kzero_engine::EngineError::MethodsDisagree {
-                        green,
-                        green_err,
-                        spectral,
-                        spectral_err,
-                        digits,
-                        ..
-                    }) = comp.check_agreement()
-                    {
-                        outcome.disagreements.push(format!(
-                        "(n={n}, l={l}): green {green} +- {green_err} and spectral {spectral} +- {spectral_err} differ beyond their error estimates ({digits} agreeing digits)"
-                    ));
-                    }
-                    let row = kzero_engine::Row::from_computed(&comp, settings.method);
-                    if let Some(j) = journal.as_mut() {
-                        if let Err(e) = j.append_row(&row) {
-                            flow = Flow::Stop;
-                            if fatal.is_none() {
-                                fatal = Some(e.into());
-                            }
+    run_table(&states, settings, threads, &|| false, &mut |i, r| {
+        let ((n, l), c) = todo[i];
+        done += 1;
+        done_cost += c;
+        let mut flow = Flow::Continue;
+        match r {
+            Ok(values) => {
+                if let Some(d) = values.disagreement() {
+                    outcome.disagreements.push(d);
+                }
+                // the rows of the state, appended in one write
+                let lines = table.add(&values);
+                if let Some(j) = journal.as_mut() {
+                    if let Err(e) = j.append(&lines) {
+                        flow = Flow::Stop;
+                        if fatal.is_none() {
+                            fatal = Some(e.into());
                         }
                     }
-                    table.rows.push(row);
                 }
-                Err(e) => outcome.failures.push(((n, l), AppError::from(e))),
             }
-            let secs = start.elapsed().as_secs_f64().max(1e-9);
-            bar.set_position((done_cost / total_cost * 1e6) as u64);
-            bar.set_message(format!(
-                "{done}/{} states, {:.1} states/min",
-                todo.len(),
-                done as f64 / secs * 60.0
-            ));
-            flow
-        },
-    )?;
+            Err(e) => outcome.failures.push(((n, l), AppError::from(e))),
+        }
+        let secs = start.elapsed().as_secs_f64().max(1e-9);
+        bar.set_position((done_cost / total_cost * 1e6) as u64);
+        bar.set_message(format!(
+            "{done}/{} states, {:.1} states/min",
+            todo.len(),
+            done as f64 / secs * 60.0
+        ));
+        flow
+    })?;
     bar.finish_and_clear();
     match fatal {
         Some(e) => Err(e),

@@ -1187,6 +1187,15 @@ fn sums_command_json_values_and_bad_powers() {
     let o = kzero(&["sums", "2", "1", "--k", "0", "--digits", "12"]);
     assert_eq!(code(&o), 0, "{}", stderr(&o));
     assert!(stdout(&o).contains("ln I(k)"), "{}", stdout(&o));
+    // A dipole form with the green method alone would be ignored: refused.
+    let o = kzero(&["sums", "2", "1", "--gauge", "velocity"]);
+    assert_bad_input(&o, "--gauge");
+    let o = kzero(&[
+        "sums", "2", "1", "--k", "0", "--method", "spectral", "--json",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("json");
+    assert_eq!(v["gauge"], "length", "the default form of the sums");
 }
 
 /// `kzero excitation`: one line per state, I(0) of 1s about 14.98 eV with
@@ -1222,4 +1231,212 @@ fn excitation_lists_states_and_draws_the_plot() {
     assert!(text.contains("<svg") && text.contains("l = 1"));
     let o = kzero(&["excitation", "--k", "5"]);
     assert_bad_input(&o, "power k");
+}
+
+/// Data lines of a dipole-sum table without the wall-time column (index
+/// 12) and the row checksum.
+fn sums_value_columns(text: &str) -> Vec<String> {
+    data_lines(text)
+        .iter()
+        .map(|l| {
+            let mut f: Vec<&str> = l.split(',').collect();
+            f.pop();
+            f.remove(12);
+            f.join(",")
+        })
+        .collect()
+}
+
+/// `kzero table --sums`: one row per (n, l, k) with the quantity and the k
+/// list recorded; the same rows for 1 and 2 threads and for merged shards;
+/// S(0) = 1 (Thomas-Reiche-Kuhn, exact) and L(2) = 16 ln k0/(3 n^3)
+/// against an ln k0 table of the same states; other quantities or k lists
+/// refused by --resume and merge.
+#[test]
+fn sums_tables_are_deterministic_sharded_and_tied_to_ln_k0() {
+    let dir = tempfile::tempdir().unwrap();
+    let base = [
+        "table", "--n-max", "4", "--digits", "12", "--sums", "all", "--quiet",
+    ];
+    let a = p(dir.path(), "a.csv");
+    let b = p(dir.path(), "b.csv");
+    let o = kzero(&[&base[..], &["--threads", "2", "--out", &a]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let o = kzero(&[&base[..], &["--threads", "1", "--out", &b]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let (ta, tb) = (
+        fs::read_to_string(&a).unwrap(),
+        fs::read_to_string(&b).unwrap(),
+    );
+    assert!(ta.contains("# setting.quantity: dipole_sums\n# setting.k: -4,-3,-2,-1,0,1,2\n"));
+    assert!(ta.contains("\nn,l,k,S,S_err,L,L_err,ln_I,ln_I_err,method,digits,bits,seconds,check\n"));
+    let rows = sums_value_columns(&ta);
+    assert_eq!(rows.len(), 10 * 7, "ten states, seven powers");
+    assert_eq!(rows, sums_value_columns(&tb), "1 vs 2 threads");
+
+    // ln k0 of the same states, for L(2) = 16 ln k0 / (3 n^3).
+    let lk = p(dir.path(), "lnk0.csv");
+    let o = kzero(&[
+        "table", "--n-max", "4", "--digits", "12", "--quiet", "--out", &lk,
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let ln_k0: Vec<(f64, f64)> = data_lines(&fs::read_to_string(&lk).unwrap())
+        .iter()
+        .map(|l| {
+            let f: Vec<&str> = l.split(',').collect();
+            (f[2].parse().unwrap(), f[3].parse().unwrap())
+        })
+        .collect();
+    let mut state = 0;
+    for r in &rows {
+        let f: Vec<&str> = r.split(',').collect();
+        let (n, l, k): (f64, u32, i32) = (
+            f[0].parse().unwrap(),
+            f[1].parse().unwrap(),
+            f[2].parse().unwrap(),
+        );
+        let num = |i: usize| -> f64 { f[i].parse().unwrap() };
+        match k {
+            0 => assert!((num(3) - 1.0).abs() <= num(4) + 1e-15, "S(0) {r}"),
+            2 => {
+                let (v, e) = ln_k0[state];
+                let want = 16.0 * v / (3.0 * n * n * n);
+                let tol = num(6) + 16.0 * e / (3.0 * n * n * n) + 1e-15;
+                assert!((num(5) - want).abs() <= tol, "L(2) {r} vs ln k0 {v}");
+                // ln I(2) is empty exactly where S(2) = 0 (l >= 1)
+                assert_eq!(f[7].is_empty(), l >= 1, "{r}");
+                state += 1;
+            }
+            _ => assert!(!f[7].is_empty() && !f[8].is_empty(), "{r}"),
+        }
+        // every S and L error within the goal (1.1 x 10^-12, rounding up)
+        assert!(num(4) <= 1.1e-12 && num(6) <= 1.1e-12, "{r}");
+    }
+    assert_eq!(state, 10);
+
+    // Shards merged equal the single run.
+    let mut parts = Vec::new();
+    for k in 1..=2 {
+        let s = p(dir.path(), &format!("s{k}.csv"));
+        let o = kzero(&[&base[..], &["--shard", &format!("{k}/2"), "--out", &s]].concat());
+        assert_eq!(code(&o), 0, "{}", stderr(&o));
+        parts.push(s);
+    }
+    let merged = p(dir.path(), "merged.csv");
+    let o = kzero(&["merge", &parts[1], &parts[0], "--out", &merged]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let tm = fs::read_to_string(&merged).unwrap();
+    assert_eq!(sums_value_columns(&tm), rows, "merged shards");
+    assert!(tm.contains("# setting.k: -4,-3,-2,-1,0,1,2\n"));
+
+    // Other quantity or k list: refused by merge and --resume.
+    let bad = p(dir.path(), "bad.csv");
+    let o = kzero(&["merge", &parts[0], &lk, "--out", &bad]);
+    assert_bad_input(&o, "merge of a sums part and an ln k0 table");
+    assert!(stderr(&o).contains("quantity (dipole_sums vs ln_k0)"));
+    let o = kzero(&[
+        "table", "--n-max", "4", "--digits", "12", "--sums", "0,2", "--out", &a, "--resume",
+    ]);
+    assert_bad_input(&o, "resume with another k list");
+    assert!(stderr(&o).contains("k (-4,-3,-2,-1,0,1,2 vs 0,2)"));
+    let o = kzero(&[
+        "table", "--n-max", "4", "--digits", "12", "--out", &a, "--resume",
+    ]);
+    assert_bad_input(&o, "resume of a sums table as ln k0");
+    let o = kzero(&[
+        "table", "--n-max", "4", "--digits", "12", "--sums", "0", "--out", &lk, "--resume",
+    ]);
+    assert_bad_input(&o, "resume of an ln k0 table as sums");
+    assert_eq!(sums_value_columns(&fs::read_to_string(&a).unwrap()), rows);
+    // Bad lists and options the sums do not take.
+    for (args, what) in [
+        (&["--sums", "3"][..], "k = 3 is outside"),
+        (&["--sums", "0,x"][..], "'x' is not an integer"),
+        (&["--sums", "0", "--significant", "10"][..], "--significant"),
+        (&["--sums", "0", "--plot", "x.svg"][..], "--plot"),
+    ] {
+        let o = kzero(&[&["table", "--n-max", "2"][..], args].concat());
+        assert_bad_input(&o, what);
+        assert!(stderr(&o).contains(what), "{}", stderr(&o));
+    }
+    // --estimate names the sums and computes nothing.
+    let o = kzero(&[&base[..], &["--estimate"]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert!(stdout(&o).contains("dipole sums k = -4,-3,-2,-1,0,1,2"));
+}
+
+/// --method both: the spectral values beside the Green's-function ones,
+/// every S(k) and L(k) within the combined error estimates; JSON rows with
+/// `ln_I` null where S(k) = 0.
+#[test]
+fn sums_table_with_both_methods_and_json() {
+    let o = kzero(&[
+        "table", "--n-max", "2", "--digits", "10", "--sums", "-1,2", "--method", "both", "--json",
+        "--quiet",
+    ]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).expect("json");
+    assert_eq!(v["meta"]["settings"]["k"], serde_json::json!([-1, 2]));
+    assert_eq!(v["meta"]["settings"]["gauge"], "length");
+    let rows = v["rows"].as_array().unwrap();
+    assert_eq!(rows.len(), 6);
+    for r in rows {
+        for (x, e, y, f) in [
+            ("S", "S_err", "S_spectral", "S_err_spectral"),
+            ("L", "L_err", "L_spectral", "L_err_spectral"),
+        ] {
+            let d = (number(&r[x]) - number(&r[y])).abs();
+            assert!(d <= number(&r[e]) + number(&r[f]), "{r}");
+        }
+        let zero_s = r["l"] == 1 && r["k"] == 2;
+        assert_eq!(r["ln_I"].is_null(), zero_s, "{r}");
+    }
+}
+
+/// A sums table killed (kill -9) in the middle: the rows of the last state
+/// cut short as well (a write torn inside a state), --resume recomputes
+/// that state whole and the result equals an uninterrupted run.
+#[test]
+fn sums_table_resumes_a_state_cut_short() {
+    let dir = tempfile::tempdir().unwrap();
+    let full = p(dir.path(), "full.csv");
+    // 19 states of similar cost: the run lasts long after its first rows.
+    let args = [
+        "table",
+        "--n-min",
+        "9",
+        "--n-max",
+        "10",
+        "--digits",
+        "20",
+        "--sums",
+        "all",
+        "--threads",
+        "2",
+        "--quiet",
+    ];
+    let o = kzero(&[&args[..], &["--out", &full]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let full_text = fs::read_to_string(&full).unwrap();
+    let total = data_lines(&full_text).len();
+    assert_eq!(total, 19 * 7);
+
+    let part = p(dir.path(), "part.csv");
+    let (text, finished) = interrupted_run(&args, &part, "-KILL", total);
+    // The rows of a state are written together.
+    assert_eq!(finished.len() % 7, 0, "{} rows", finished.len());
+    // Keep the first two rows of the last finished state and a torn third.
+    let last = finished.len() - 7;
+    let cut_at = text.find(&finished[last + 2]).unwrap();
+    let torn = format!("{}{}", &text[..cut_at], &finished[last + 2][..20]);
+    fs::write(&part, &torn).unwrap();
+    let o = kzero(&[&args[..], &["--out", &part, "--resume"]].concat());
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let resumed = fs::read_to_string(&part).unwrap();
+    assert_eq!(sums_value_columns(&resumed), sums_value_columns(&full_text));
+    // Whole states before the cut were kept byte for byte, time included.
+    let rows = data_lines(&resumed);
+    for f in &finished[..last] {
+        assert!(rows.contains(f), "row {f} was recomputed or lost");
+    }
 }

@@ -1,5 +1,9 @@
 """kzero: hydrogenic Bethe logarithms ln k0(n, l) at any requested precision.
 
+Also the family of logarithmic dipole sums S(k), L(k) and the mean
+excitation energies ln I(k) of every state (:func:`sums`), with the same
+kind of precision contract (an absolute goal on every S(k) and L(k)).
+
 Every value comes with an error estimate. The precision contract is the same
 as the command line's ``--digits D``:
 
@@ -32,6 +36,7 @@ from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
 
 from . import _kzero
 from ._kzero import InvalidInput, MethodsDisagree, NoConvergence
+from ._sums import SumRow, Sums
 from ._value import Exact, Value, to_rows
 
 __version__: str = _kzero.__version__
@@ -39,20 +44,26 @@ __version__: str = _kzero.__version__
 # Show the public classes as members of `kzero` (help(), repr, pickling).
 Value.__module__ = __name__
 Exact.__module__ = __name__
+Sums.__module__ = __name__
+SumRow.__module__ = __name__
 
 __all__ = [
     "__version__",
     "Exact",
     "InvalidInput",
     "MAX_N",
+    "SUM_POWERS",
     "MethodsDisagree",
     "NoConvergence",
+    "SumRow",
+    "Sums",
     "Value",
     "build_info",
     "ln_k0",
     "oscillator",
     "radial",
     "shift",
+    "sums",
     "sweep",
     "table",
     "to_rows",
@@ -367,3 +378,89 @@ def shift(
     d["ln_k0"]["value"] = Decimal(d["ln_k0"]["value"])
     d["ln_k0"]["abs_err"] = Decimal(d["ln_k0"]["abs_err"])
     return d
+
+
+#: The powers k that :func:`sums` accepts (for every state), in increasing
+#: k: the library's supported range, the same as the command line's.
+SUM_POWERS: Tuple[int, ...] = tuple(_kzero.SUM_POWERS)
+
+
+def sums(
+    n: int,
+    l: int,
+    k: Union[None, int, Sequence[int]] = None,
+    digits: int = 20,
+    method: str = "green",
+    gauge: Optional[str] = None,
+    nucleus: Optional[str] = "H",
+    z: Optional[int] = None,
+    mass: Union[None, str, int, float] = None,
+) -> Sums:
+    """The logarithmic dipole sums S(k), L(k), ln I(k) of the state (n, l).
+
+    For every dipole-connected state m (bound and continuum, same-n states
+    left out), D_m = (E_m - E_n)/(Z^2 Ry) and f_m is the absorption
+    oscillator strength (negative for lower states)::
+
+        S(k) = sum_m f_m D_m^k,   L(k) = sum_m f_m D_m^k ln|D_m|,
+        ln I(k) = L(k)/S(k),      I(k) = exp(ln I(k)) Z^2 Ry  (in eV)
+
+    S(0) = 1 (Thomas-Reiche-Kuhn), 4 S(-2) is the static dipole
+    polarizability in bohr^3/Z^4 (same-n states left out), I(0) is the mean
+    excitation energy of the stopping formula, and L(2) = 16 ln k0/(3 n^3).
+    The same computation and the same printed digits as ``kzero sums
+    --json``.
+
+    Precision contract: ``digits=D`` is an **absolute** goal, |error| <
+    10^-D, on every S(k) and every L(k) (not significant digits; S(k) grows
+    like n^(3(1-k)) for k < 1). The errors are estimates by refinement, not
+    bounds; ln I(k) carries the propagated error (|dL| + |ln I| |dS|)/|S|
+    (times 1 + 2 |dS/S|).
+    When an estimate misses the goal, ``NoConvergence`` is raised and no
+    number is returned. The Green's-function method gives S(k) exactly.
+
+    Args:
+        n: principal quantum number, 1 <= n <= ``kzero.MAX_N``.
+        l: orbital angular momentum, 0 <= l < n.
+        k: a power or a list of powers, each in -4..=2 (``kzero.SUM_POWERS``;
+            default: all of them). Rows come in increasing k.
+        digits: the absolute goal D (5..=200).
+        method: ``"green"`` (default), ``"spectral"`` or ``"both"`` (both,
+            cross-checked on every S(k) and L(k)).
+        gauge: dipole form of the spectral method: ``"length"`` (used when
+            none is given), ``"velocity"`` or ``"acceleration"``; refused
+            with ``method="green"``.
+        nucleus, z, mass: the nucleus of I(k) in eV, as in :func:`shift`:
+            preset ``"H"`` (default), ``"D"`` or ``"He4"``; ``mass`` in
+            electron masses (``float("inf")`` or ``"inf"`` for an infinitely
+            heavy nucleus) replaces the default preset; ``z`` the charge
+            (1..=10). The sums themselves do not depend on the nucleus.
+
+    Returns:
+        A :class:`Sums`: ``rows`` of :class:`SumRow` with ``S``, ``S_err``,
+        ``L``, ``L_err``, ``ln_I``, ``ln_I_err``, ``I_eV``, ``I_eV_err`` as
+        ``decimal.Decimal`` (``None`` where S(k) is zero within its error).
+
+    Raises:
+        InvalidInput: a bad state, power, digits, method, gauge or nucleus
+            (messages as ``kzero sums``, keyword names for its options).
+        NoConvergence: an estimate stayed above 10^-D.
+        MethodsDisagree: with ``method="both"``, some S(k) or L(k) of the
+            two methods differ beyond their combined estimates (where
+            ``kzero sums`` exits 3); the result is attached as ``.value``.
+    """
+    if k is None:
+        powers = None
+    elif isinstance(k, int):
+        powers = [k]
+    else:
+        powers = list(k)
+    preset = None if nucleus == "H" else nucleus
+    text, message = _kzero.sums(n, l, powers, digits, method, gauge, preset, z,
+                                _mass_text(mass))
+    result = Sums(_json.loads(text))
+    if message is not None:
+        e = MethodsDisagree(message)
+        e.value = result
+        raise e
+    return result

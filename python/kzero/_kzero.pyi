@@ -8,6 +8,7 @@ from typing import Any, Dict, List, Optional, Tuple
 
 __version__: str
 MAX_N: int
+SUM_POWERS: Tuple[int, ...]
 
 class InvalidInput(ValueError): ...
 class NoConvergence(RuntimeError): ...
@@ -36,3 +37,14 @@ def shift(
     radius: Optional[float],
     digits: int,
 ) -> str: ...
+def sums(
+    n: int,
+    l: int,
+    k: Optional[List[int]],
+    digits: int,
+    method: str,
+    gauge: Optional[str],
+    nucleus: Optional[str],
+    z: Optional[int],
+    mass: Optional[str],
+) -> Tuple[str, Optional[str]]: ...

@@ -1,7 +1,10 @@
 """The result type of kzero: a Bethe logarithm with its error estimate."""
 
 from decimal import Decimal
-from typing import Any, Dict, Iterable, List, Optional
+from typing import TYPE_CHECKING, Any, Dict, Iterable, List, Optional, Union
+
+if TYPE_CHECKING:
+    from ._sums import SumRow
 
 __all__ = ["Exact", "Value", "to_rows"]
 
@@ -168,7 +171,7 @@ class Value:
         return f"ln k0({self.n},{self.l}) = {self.value} +- {err}"
 
 
-def to_rows(values: Iterable[Value]) -> List[Dict[str, Any]]:
+def to_rows(values: "Iterable[Union[Value, SumRow]]") -> List[Dict[str, Any]]:
     """Plain dicts, one per value, for ``pandas.DataFrame(kzero.to_rows(vs))``.
 
     The keys are those of the command line's ``--json`` output: ``n``,
@@ -177,6 +180,12 @@ def to_rows(values: Iterable[Value]) -> List[Dict[str, Any]]:
     the spectral method took part; and with ``method="both"`` also
     ``ln_k0_spectral``, ``abs_err_spectral``, ``agreement_digits`` and
     ``consistent``. pandas is not needed by kzero.
+
+    Given the dipole sums (a ``kzero.Sums``, which iterates over its rows,
+    or any iterable of ``kzero.SumRow``), one dict per k with ``n``, ``l``
+    and the keys of a row of ``kzero sums --json``: ``k``, ``S``,
+    ``S_err``, ``L``, ``L_err``, ``ln_I``, ``ln_I_err``, ``I_eV``,
+    ``I_eV_err``.
     """
     return [v.as_dict() for v in values]
 

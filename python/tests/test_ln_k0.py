@@ -197,3 +197,40 @@ def test_build_info_has_the_table_header_keys(kzero_bin):
                 if line.startswith("# ") and ": " in line)
     for key in ["version", "git_revision", "mpfr", "gmp"]:
         assert info[key] == prov[key], key
+
+
+BIG = 10 ** 30
+
+
+@pytest.mark.parametrize(
+    "call,args,option,keyword",
+    [
+        (lambda: kzero.ln_k0(BIG, 0), ["state", str(BIG), "0"], "'<N>'", "'n'"),
+        (lambda: kzero.ln_k0(2, 0, digits=BIG), ["state", "2", "0", f"--digits={BIG}"],
+         "'--digits <D>'", "'digits'"),
+        (lambda: kzero.table(n_max=BIG), ["table", f"--n-max={BIG}"], "'--n-max <N>'", "'n_max'"),
+        (lambda: kzero.table(n_min=BIG, n_max=3), ["table", f"--n-min={BIG}", "--n-max=3"],
+         "'--n-min <M>'", "'n_min'"),
+        (lambda: kzero.table(n_max=2, l=[0, BIG]), ["table", "--n-max=2", f"--l=0,{BIG}"],
+         "'--l <LIST>'", "'l'"),
+        (lambda: kzero.table(n_max=2, threads=BIG), ["table", "--n-max=2", f"--threads={BIG}"],
+         "'--threads <T>'", "'threads'"),
+        (lambda: kzero.sweep(2, 0, digits=(10, BIG)), ["sweep", "2", "0", f"--digits=10,{BIG}"],
+         "'--digits <LIST>'", "'digits'"),
+        (lambda: kzero.radial(1, 0, BIG, 0), ["radial", "1", "0", str(BIG), "0"], "'<N2>'", "'n2'"),
+        (lambda: kzero.radial(1, 0, 1, 0, power=-BIG), ["radial", "1", "0", "1", "0", f"--power={-BIG}"],
+         "'--power <K>'", "'power'"),
+        (lambda: kzero.radial(1, 0, 1, 0, power=2 ** 31), ["radial", "1", "0", "1", "0", f"--power={2 ** 31}"],
+         "'--power <K>'", "'power'"),
+        (lambda: kzero.oscillator(1, 0, BIG, 1), ["oscillator", "1", "0", str(BIG), "1"], "'<N2>'", "'n2'"),
+    ],
+)
+def test_integers_beyond_their_type(kzero_bin, call, args, option, keyword):
+    # An integer too large for the command line's parser gets its message,
+    # not an OverflowError.
+    msg = cli_error(kzero_bin, args)
+    assert option in msg, msg
+    expected = msg.replace(option, keyword).removesuffix(" (see kzero --help)")
+    with pytest.raises(kzero.InvalidInput) as e:
+        call()
+    assert str(e.value) == expected

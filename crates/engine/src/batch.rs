@@ -117,6 +117,29 @@ pub fn run_batch(
     cancel: &(dyn Fn() -> bool + Sync),
     on_result: &mut dyn FnMut(usize, Result<Computed, EngineError>) -> Flow,
 ) -> Result<BatchEnd, EngineError> {
+    run_jobs(
+        states,
+        threads,
+        cancel,
+        &|n, l| request.compute(n, l),
+        on_result,
+    )
+}
+
+/// [`run_batch`] for any computation of one state: `job(n, l)` runs on the
+/// worker threads, its results go to `on_result` on the calling thread, in
+/// completion order, with the same cancellation, stop and panic rules
+/// (a table of the dipole sums runs its states through this).
+///
+/// # Errors
+/// [`EngineError::Threads`] if the worker threads cannot be started.
+pub fn run_jobs<T: Send>(
+    states: &[Key],
+    threads: usize,
+    cancel: &(dyn Fn() -> bool + Sync),
+    job: &(dyn Fn(u32, u32) -> Result<T, EngineError> + Sync),
+    on_result: &mut dyn FnMut(usize, Result<T, EngineError>) -> Flow,
+) -> Result<BatchEnd, EngineError> {
     if states.is_empty() {
         return Ok(BatchEnd::Finished);
     }
@@ -131,7 +154,7 @@ pub fn run_batch(
     let next = AtomicUsize::new(0);
     let stop = AtomicBool::new(false);
     let cancelled = AtomicBool::new(false);
-    let (tx, rx) = mpsc::channel::<(usize, Result<Computed, EngineError>)>();
+    let (tx, rx) = mpsc::channel::<(usize, Result<T, EngineError>)>();
     let mut stopped = false;
     std::thread::scope(|s| {
         let (next, stop, cancelled, pool) = (&next, &stop, &cancelled, &pool);
@@ -151,7 +174,7 @@ pub fn run_batch(
                         let Some(&(n, l)) = states.get(i) else {
                             break;
                         };
-                        let r = catch_panic(|| request.compute(n, l));
+                        let r = catch_panic(|| job(n, l));
                         if tx.send((i, r)).is_err() {
                             break;
                         }

@@ -16,7 +16,7 @@
 
 use crate::compute::cost;
 use crate::method::MethodChoice;
-use crate::shard::{part_costs, Key};
+use crate::shard::{part_costs_by, Key};
 
 /// The estimated cost of computing a list of states.
 #[derive(Debug, Clone, PartialEq)]
@@ -58,14 +58,21 @@ impl Estimate {
 /// The estimated cost of `states` at `digits` with `method` on `threads`
 /// threads (0 is taken as 1).
 pub fn estimate(states: &[Key], digits: u32, method: MethodChoice, threads: usize) -> Estimate {
+    estimate_by(states, &|(n, l)| cost(n, l, digits, method), threads)
+}
+
+/// [`estimate`] with the cost of each state given by `cost_of` (for
+/// example [`crate::TableSettings::cost`], which also covers the dipole
+/// sums).
+pub fn estimate_by(states: &[Key], cost_of: &dyn Fn(Key) -> f64, threads: usize) -> Estimate {
     let mut core_seconds = 0.0;
     let mut largest: Option<(Key, f64)> = None;
-    for &(n, l) in states {
-        let c = cost(n, l, digits, method);
+    for &key in states {
+        let c = cost_of(key);
         core_seconds += c;
         match largest {
             Some((_, m)) if m >= c => {}
-            _ => largest = Some(((n, l), c)),
+            _ => largest = Some((key, c)),
         }
     }
     Estimate {
@@ -80,7 +87,7 @@ pub fn estimate(states: &[Key], digits: u32, method: MethodChoice, threads: usiz
 /// estimated to finish within `target_seconds` of wall time (at most one
 /// shard per state). The parts are those of [`crate::shard::plan`], so the suggestion
 /// holds for the `--shard K/M` split that will actually be run
-/// ([`part_costs`]).
+/// ([`crate::shard::part_costs`]).
 pub fn suggest_shards(
     states: &[Key],
     digits: u32,
@@ -88,10 +95,26 @@ pub fn suggest_shards(
     threads: usize,
     target_seconds: f64,
 ) -> ShardSuggestion {
+    suggest_shards_by(
+        states,
+        &|(n, l)| cost(n, l, digits, method),
+        threads,
+        target_seconds,
+    )
+}
+
+/// [`suggest_shards`] with the cost of each state given by `cost_of` (the
+/// parts of [`crate::shard::plan_by`]).
+pub fn suggest_shards_by(
+    states: &[Key],
+    cost_of: &dyn Fn(Key) -> f64,
+    threads: usize,
+    target_seconds: f64,
+) -> ShardSuggestion {
     let threads = threads.max(1) as f64;
-    let total = estimate(states, digits, method, 1).core_seconds;
+    let total = estimate_by(states, cost_of, 1).core_seconds;
     let wall_of = |m: u32| -> f64 {
-        part_costs(states, digits, method, m)
+        part_costs_by(states, cost_of, m)
             .into_iter()
             .fold(0.0, f64::max)
             / threads

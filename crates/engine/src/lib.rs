@@ -67,17 +67,20 @@ pub mod sweep;
 pub mod table;
 
 pub use batch::{
-    catch_panic, compute_states, default_threads, run_batch, Batch, BatchEnd, Flow, Request,
-    StateResult,
+    catch_panic, compute_states, default_threads, run_batch, run_jobs, Batch, BatchEnd, Flow,
+    Request, StateResult,
 };
 pub use build_info::Provenance;
 pub use compute::{compute, cost, validate_state, Computed};
 pub use error::{EngineError, ErrorClass};
 pub use estimate::{
-    estimate, human_duration, parse_duration, suggest_shards, Estimate, ShardSuggestion,
+    estimate, estimate_by, human_duration, parse_duration, suggest_shards, suggest_shards_by,
+    Estimate, ShardSuggestion,
 };
 pub use kzero_bethe::{agreement, Agreement, BetheValue, Gauge, Method, Settings};
 pub use method::MethodChoice;
-pub use shard::{part_costs, plan, Key, Shard, ShardError};
-pub use sums::{compute_sums, row_text, sums_cost, ComputedSums, EnergyUnit, RowText};
-pub use table::{Row, Table, TableError, TableFormat, TableSettings};
+pub use shard::{part_costs, part_costs_by, plan, plan_by, Key, Shard, ShardError};
+pub use sums::{compute_sums, row_text, sums_cost, sums_json, ComputedSums, EnergyUnit, RowText};
+pub use table::{
+    run_table, Quantity, Row, StateValues, SumsEntry, Table, TableError, TableFormat, TableSettings,
+};

@@ -104,8 +104,14 @@ impl std::fmt::Display for Shard {
 /// same inputs always give the same parts, on any machine and thread count;
 /// parts differ in total cost by at most the largest single cost.
 pub fn plan(states: &[Key], digits: u32, method: MethodChoice, shard: Shard) -> Vec<(Key, f64)> {
+    plan_by(states, &|(n, l)| cost(n, l, digits, method), shard)
+}
+
+/// [`plan`] with the cost of each state given by `cost_of` (for example
+/// [`crate::TableSettings::cost`], which also covers the dipole sums).
+pub fn plan_by(states: &[Key], cost_of: &dyn Fn(Key) -> f64, shard: Shard) -> Vec<(Key, f64)> {
     let mut mine = Vec::new();
-    assign(states, digits, method, shard.m, |part, key, c| {
+    assign(states, cost_of, shard.m, |part, key, c| {
         if part + 1 == shard.k as usize {
             mine.push((key, c));
         }
@@ -116,25 +122,27 @@ pub fn plan(states: &[Key], digits: u32, method: MethodChoice, shard: Shard) -> 
 /// The total [`cost`] of each of the `m` parts of [`plan`] (part K at index
 /// K - 1), from the same assignment.
 pub fn part_costs(states: &[Key], digits: u32, method: MethodChoice, m: u32) -> Vec<f64> {
+    part_costs_by(states, &|(n, l)| cost(n, l, digits, method), m)
+}
+
+/// [`part_costs`] with the cost of each state given by `cost_of` (the parts
+/// of [`plan_by`]).
+pub fn part_costs_by(states: &[Key], cost_of: &dyn Fn(Key) -> f64, m: u32) -> Vec<f64> {
     let mut load = vec![0.0f64; m.max(1) as usize];
-    assign(states, digits, method, m, |part, _, c| load[part] += c);
+    assign(states, cost_of, m, |part, _, c| load[part] += c);
     load
 }
 
-/// The greedy longest-processing-time assignment behind [`plan`]: calls
+/// The greedy longest-processing-time assignment behind [`plan_by`]: calls
 /// `place(part, state, cost)` (part 0-based) for every state, in decreasing
 /// cost (ties by (n, l)).
 fn assign(
     states: &[Key],
-    digits: u32,
-    method: MethodChoice,
+    cost_of: &dyn Fn(Key) -> f64,
     m: u32,
     mut place: impl FnMut(usize, Key, f64),
 ) {
-    let mut costed: Vec<(Key, f64)> = states
-        .iter()
-        .map(|&(n, l)| ((n, l), cost(n, l, digits, method)))
-        .collect();
+    let mut costed: Vec<(Key, f64)> = states.iter().map(|&k| (k, cost_of(k))).collect();
     costed.sort_by(|a, b| b.1.total_cmp(&a.1).then(a.0.cmp(&b.0)));
     let m = m.max(1) as usize;
     let mut load = vec![0.0f64; m];

@@ -14,6 +14,7 @@ use kzero_bethe::{Gauge, Method, Settings};
 use kzero_qed::constants::{RYDBERG_ENERGY_EV, RYDBERG_ENERGY_EV_UNCERTAINTY};
 use kzero_qed::Nucleus;
 use rug::Float;
+use serde_json::{json, Map, Value};
 
 /// The sums of one state by the requested method(s).
 #[derive(Debug, Clone)]
@@ -92,6 +93,16 @@ impl ComputedSums {
         }
     }
 
+    /// The method setting that produced this result: `both` when both
+    /// methods ran, else the one that did.
+    pub fn method(&self) -> MethodChoice {
+        match (&self.green, &self.spectral) {
+            (Some(_), Some(_)) => MethodChoice::Both,
+            (Some(_), None) => MethodChoice::Green,
+            _ => MethodChoice::Spectral,
+        }
+    }
+
     /// Total wall time (seconds).
     pub fn seconds(&self) -> f64 {
         self.green.as_ref().map_or(0.0, |v| v.seconds)
@@ -163,6 +174,21 @@ pub struct EnergyUnit {
 }
 
 impl EnergyUnit {
+    /// Decimals of the printed unit (CODATA 2018 gives R_inf h c to 12).
+    pub const DECIMALS: usize = 12;
+
+    /// The unit in eV as printed, with its error (the uncertainty of
+    /// R_inf h c plus the rounding of the decimal, rounded up): the
+    /// printed-value rule of [`kzero_bethe::value::printed`].
+    pub fn printed(&self) -> (String, String) {
+        let p = printed(
+            &Float::with_val(64, self.ev),
+            self.ev * self.rel_err,
+            Self::DECIMALS,
+        );
+        (p.value, p.abs_err)
+    }
+
     /// The unit of `nucleus`.
     pub fn of(nucleus: &Nucleus) -> Self {
         let z2 = f64::from(nucleus.z * nucleus.z);
@@ -231,5 +257,179 @@ pub fn row_text(sums: &DipoleSums, row: &SumRow, unit: Option<EnergyUnit>) -> Ro
         l_err: pl.abs_err,
         ln_i,
         i_ev,
+    }
+}
+
+/// The dipole form of the spectral method for the sums when none is given.
+pub const SUMS_DEFAULT_GAUGE: Gauge = Gauge::Length;
+
+/// The dipole form of a request for the sums: `given`, or
+/// [`SUMS_DEFAULT_GAUGE`] when none is given. A form given with the Green's
+/// function method alone is refused, as for ln k0 ([`MethodChoice::gauge`]).
+///
+/// # Errors
+/// [`EngineError::UnusedGauge`] for a form given with `green`.
+pub fn sums_gauge(method: MethodChoice, given: Option<Gauge>) -> Result<Gauge, EngineError> {
+    let form = method.gauge(given)?;
+    Ok(if given.is_some() {
+        form
+    } else {
+        SUMS_DEFAULT_GAUGE
+    })
+}
+
+/// The powers of a request: `ks` as given, or every supported power
+/// ([`kzero_bethe::sums::all_powers`], in increasing k) when `None`.
+pub fn requested_powers(ks: Option<&[i64]>) -> Vec<i64> {
+    match ks {
+        Some(ks) => ks.to_vec(),
+        None => sums::all_powers().into_iter().map(i64::from).collect(),
+    }
+}
+
+/// One printed row as a JSON object: `k` (integer), `S`, `S_err`, `L`,
+/// `L_err`, `ln_I`, `ln_I_err`, `I_eV`, `I_eV_err` (decimal strings; `null`
+/// where [`RowText::ln_i`] or [`RowText::i_ev`] is `None`).
+pub fn row_json(r: &RowText) -> Value {
+    let mut m = Map::new();
+    m.insert("k".into(), json!(r.k));
+    m.insert("S".into(), json!(r.s));
+    m.insert("S_err".into(), json!(r.s_err));
+    m.insert("L".into(), json!(r.l));
+    m.insert("L_err".into(), json!(r.l_err));
+    let pair = |p: &Option<(String, String)>| match p {
+        Some((v, e)) => (json!(v), json!(e)),
+        None => (Value::Null, Value::Null),
+    };
+    let (li, lie) = pair(&r.ln_i);
+    m.insert("ln_I".into(), li);
+    m.insert("ln_I_err".into(), lie);
+    let (iv, ie) = pair(&r.i_ev);
+    m.insert("I_eV".into(), iv);
+    m.insert("I_eV_err".into(), ie);
+    Value::Object(m)
+}
+
+/// The printed rows of one method's result, I(k) in the energy unit of
+/// `nucleus`.
+pub fn rows_text(sums: &DipoleSums, nucleus: &Nucleus) -> Vec<RowText> {
+    let unit = EnergyUnit::of(nucleus);
+    sums.rows
+        .iter()
+        .map(|r| row_text(sums, r, Some(unit)))
+        .collect()
+}
+
+/// The whole JSON object of `kzero sums --json` for a computed result and
+/// the nucleus of I(k) in eV: `n`, `l`, `digits`, `method`, `gauge` (only
+/// when the spectral method ran), `nucleus`, `z`, `energy_unit_eV` and
+/// `energy_unit_eV_err` (Z^2 Ry of the nucleus in eV, [`EnergyUnit::printed`]), `rows` (one [`row_json`] per k, of
+/// the primary result), with both methods `rows_spectral` and `consistent`
+/// (no disagreement, see [`ComputedSums::disagreements`]), `bits` and
+/// `nodes` (of the primary result) and `seconds` (all methods).
+///
+/// Every front end prints the sums through this function, so the same
+/// request gives the same strings everywhere.
+pub fn sums_json(c: &ComputedSums, nucleus: &Nucleus) -> Value {
+    let p = c.primary();
+    let method = c.method();
+    let mut m = Map::new();
+    m.insert("n".into(), json!(p.n));
+    m.insert("l".into(), json!(p.l));
+    m.insert("digits".into(), json!(p.digits));
+    m.insert("method".into(), json!(method.name()));
+    if let Some(g) = c.spectral().and_then(|s| s.gauge) {
+        m.insert("gauge".into(), json!(g.name()));
+    }
+    m.insert("nucleus".into(), json!(nucleus.name));
+    m.insert("z".into(), json!(nucleus.z));
+    let (unit, unit_err) = EnergyUnit::of(nucleus).printed();
+    m.insert("energy_unit_eV".into(), json!(unit));
+    m.insert("energy_unit_eV_err".into(), json!(unit_err));
+    let rows = |s: &DipoleSums| Value::Array(rows_text(s, nucleus).iter().map(row_json).collect());
+    m.insert("rows".into(), rows(p));
+    if method == MethodChoice::Both {
+        if let Some(s) = c.spectral() {
+            m.insert("rows_spectral".into(), rows(s));
+            m.insert("consistent".into(), json!(c.disagreements().is_empty()));
+        }
+    }
+    m.insert("bits".into(), json!(p.bits));
+    m.insert("nodes".into(), json!(p.nodes));
+    m.insert("seconds".into(), json!(c.seconds()));
+    Value::Object(m)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_form_is_refused_with_green_and_defaults_to_length() {
+        assert!(matches!(
+            sums_gauge(MethodChoice::Green, Some(Gauge::Length)),
+            Err(EngineError::UnusedGauge)
+        ));
+        assert_eq!(
+            sums_gauge(MethodChoice::Green, None).ok(),
+            Some(SUMS_DEFAULT_GAUGE)
+        );
+        assert_eq!(
+            sums_gauge(MethodChoice::Spectral, None).ok(),
+            Some(Gauge::Length)
+        );
+        assert_eq!(
+            sums_gauge(MethodChoice::Both, Some(Gauge::Velocity)).ok(),
+            Some(Gauge::Velocity)
+        );
+        assert_eq!(requested_powers(None), vec![-4, -3, -2, -1, 0, 1, 2]);
+        assert_eq!(requested_powers(Some(&[2, 0])), vec![2, 0]);
+    }
+
+    /// The JSON object: the fixed names, S(0) = 1 printed within its error
+    /// (Thomas-Reiche-Kuhn, common practice), and with both methods the
+    /// spectral rows, the gauge and `consistent`.
+    #[test]
+    fn the_json_object_has_the_fixed_names() {
+        let settings = Settings::with_digits(10);
+        let nucleus = crate::shift::nucleus(None, None, Some("inf"), None).expect("nucleus");
+        let c = compute_sums(2, 1, &[0, 2], MethodChoice::Both, Gauge::Length, &settings)
+            .expect("sums");
+        assert_eq!(c.method(), MethodChoice::Both);
+        let v = sums_json(&c, &nucleus);
+        for key in [
+            "n",
+            "l",
+            "digits",
+            "method",
+            "gauge",
+            "nucleus",
+            "z",
+            "rows",
+            "consistent",
+        ] {
+            assert!(v.get(key).is_some(), "missing {key}");
+        }
+        assert_eq!(v["method"], "both");
+        assert_eq!(v["gauge"], "length");
+        assert_eq!(v["consistent"], true);
+        let rows = v["rows"].as_array().expect("rows");
+        assert_eq!(rows.len(), 2);
+        assert_eq!(rows[0]["k"], 0);
+        let s: f64 = rows[0]["S"].as_str().expect("S").parse().expect("number");
+        let e: f64 = rows[0]["S_err"]
+            .as_str()
+            .expect("S_err")
+            .parse()
+            .expect("number");
+        assert!((s - 1.0).abs() <= e, "S(0) = {s} +- {e}");
+        // S(2) = 0 for l >= 1: no ln I(2), no I(2).
+        assert!(rows[1]["ln_I"].is_null() && rows[1]["I_eV"].is_null());
+        assert_eq!(v["rows_spectral"].as_array().map(Vec::len), Some(2));
+        let g =
+            compute_sums(2, 1, &[0], MethodChoice::Green, Gauge::Length, &settings).expect("sums");
+        let v = sums_json(&g, &nucleus);
+        assert!(v.get("gauge").is_none() && v.get("rows_spectral").is_none());
+        assert!(v.get("consistent").is_none());
     }
 }

@@ -19,6 +19,10 @@
 //!   ([`kzero_engine::ErrorClass`]): bad input to `InvalidInput` (a
 //!   `ValueError`), non-convergence to `NoConvergence` (a `RuntimeError`), a
 //!   failed cross-check to `MethodsDisagree` (a `RuntimeError`).
+//! * Integer arguments are taken at any size: one that does not fit the
+//!   command line's integer type is `InvalidInput` with the command line's
+//!   message (never an `OverflowError`); a value that is not an integer is
+//!   a `TypeError`.
 //! * Argument names that the command line spells as options (`--digits`,
 //!   `--method`, `--gauge`) appear in messages as the keyword names
 //!   (`'digits'`, `'method'`, `'gauge'`); the rest of each message is the
@@ -58,7 +62,8 @@ pyo3::create_exception!(
     "The Green's-function and the spectral values differ by more than their \
      combined error estimates (method=\"both\"; the command line exits 3). \
      The computed result is attached as the attribute `value` (a \
-     kzero.Value) or `values` (a list, for a table)."
+     kzero.Value, or kzero.Sums for the dipole sums) or `values` (a list, \
+     for a table)."
 );
 
 /// An engine error as the package's exception.
@@ -199,13 +204,14 @@ fn computed_dict<'py>(
 #[pyo3(signature = (n, l, digits, method, gauge))]
 fn ln_k0<'py>(
     py: Python<'py>,
-    n: i64,
-    l: i64,
-    digits: i64,
+    n: Int<'_>,
+    l: Int<'_>,
+    digits: Int<'_>,
     method: &str,
     gauge: Option<&str>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let req = request(digits, method, gauge)?;
+    let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
+    let req = request(int_arg("digits", &digits)?, method, gauge)?;
     let (n, l) = kzero_engine::validate_state(n, l, req.method).map_err(to_py)?;
     let c = released(py, || req.compute(n, l))?;
     computed_dict(py, &c, &req)
@@ -214,14 +220,57 @@ fn ln_k0<'py>(
 /// How often a running table looks for a pending signal (Ctrl-C).
 const SIGNAL_POLL: Duration = Duration::from_millis(100);
 
-/// Many states in parallel; see `kzero.table`.
-///
-/// The states run on a separate thread while this one waits with the
+/// Runs `work(stop)` on a separate thread while this one waits with the
 /// interpreter released, waking every [`SIGNAL_POLL`] to run the Python
 /// signal handlers. A `KeyboardInterrupt` (or any exception a handler
-/// raises) sets the batch's cancellation flag, so no further state starts,
-/// and is raised at once; the states already running finish in the
-/// background and are dropped.
+/// raises) makes `stop()` true, so `work` starts nothing further, and is
+/// raised at once; what is already running finishes in the background and
+/// is dropped. A panic in `work` becomes an internal error.
+fn interruptible<T: Send + 'static>(
+    py: Python<'_>,
+    work: impl FnOnce(&(dyn Fn() -> bool + Sync)) -> Result<T, EngineError> + Send + 'static,
+) -> PyResult<T> {
+    let cancel = Arc::new(AtomicBool::new(false));
+    let (tx, rx) = mpsc::channel();
+    {
+        let cancel = Arc::clone(&cancel);
+        std::thread::Builder::new()
+            .name("kzero-batch".into())
+            .spawn(move || {
+                let stop = || cancel.load(Ordering::Relaxed);
+                let r = catch_panic(|| work(&stop));
+                // The receiver is gone after an interrupt; nothing to report then.
+                let _ = tx.send(r);
+            })
+            .map_err(|e| PyRuntimeError::new_err(format!("cannot start a thread: {e}")))?;
+    }
+    let mut rx = rx;
+    loop {
+        // The receiver moves into the released section and back (it is not Sync).
+        let (back, got) = py.detach(move || {
+            let got = rx.recv_timeout(SIGNAL_POLL);
+            (rx, got)
+        });
+        rx = back;
+        match got {
+            Ok(r) => return r.map_err(to_py),
+            Err(mpsc::RecvTimeoutError::Timeout) => {
+                if let Err(e) = py.check_signals() {
+                    cancel.store(true, Ordering::Relaxed);
+                    return Err(e);
+                }
+            }
+            Err(mpsc::RecvTimeoutError::Disconnected) => {
+                return Err(PyRuntimeError::new_err(
+                    "internal error: the batch thread ended without a result",
+                ))
+            }
+        }
+    }
+}
+
+/// Many states in parallel; see `kzero.table`. Ctrl-C works as described
+/// in [`interruptible`]: no further state starts.
 ///
 /// Returns the computed states as dicts, sorted by (n, l). Failed states
 /// raise: the first failure (by (n, l)) with the command line's wording
@@ -230,13 +279,14 @@ const SIGNAL_POLL: Duration = Duration::from_millis(100);
 #[pyo3(signature = (states, digits, method, gauge, threads))]
 fn table<'py>(
     py: Python<'py>,
-    states: Vec<(i64, i64)>,
-    digits: i64,
+    states: Vec<(Int<'_>, Int<'_>)>,
+    digits: Int<'_>,
     method: &str,
     gauge: Option<&str>,
-    threads: Option<i64>,
+    threads: Option<Int<'_>>,
 ) -> PyResult<Bound<'py, PyList>> {
-    let req = request(digits, method, gauge)?;
+    let req = request(int_arg("digits", &digits)?, method, gauge)?;
+    let threads = threads.map(|t| int_arg("threads", &t)).transpose()?;
     let threads = match threads {
         None => None,
         Some(t) if (1..=4096).contains(&t) => Some(t as usize),
@@ -250,45 +300,13 @@ fn table<'py>(
     };
     let mut keys = Vec::with_capacity(states.len());
     for (n, l) in states {
+        let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
         keys.push(kzero_engine::validate_state(n, l, req.method).map_err(to_py)?);
     }
-    let cancel = Arc::new(AtomicBool::new(false));
-    let (tx, rx) = mpsc::channel();
-    {
-        let (req, cancel) = (req.clone(), Arc::clone(&cancel));
-        std::thread::Builder::new()
-            .name("kzero-table".into())
-            .spawn(move || {
-                let stop = || cancel.load(Ordering::Relaxed);
-                let r = catch_panic(|| compute_states(&keys, &req, threads, &stop));
-                // The receiver is gone after an interrupt; nothing to report then.
-                let _ = tx.send(r);
-            })
-            .map_err(|e| PyRuntimeError::new_err(format!("cannot start a thread: {e}")))?;
-    }
-    let mut rx = rx;
-    let batch = loop {
-        // The receiver moves into the released section and back (it is not Sync).
-        let (back, got) = py.detach(move || {
-            let got = rx.recv_timeout(SIGNAL_POLL);
-            (rx, got)
-        });
-        rx = back;
-        match got {
-            Ok(r) => break r.map_err(to_py)?,
-            Err(mpsc::RecvTimeoutError::Timeout) => {
-                if let Err(e) = py.check_signals() {
-                    cancel.store(true, Ordering::Relaxed);
-                    return Err(e);
-                }
-            }
-            Err(mpsc::RecvTimeoutError::Disconnected) => {
-                return Err(PyRuntimeError::new_err(
-                    "internal error: the table thread ended without a result",
-                ))
-            }
-        }
-    };
+    let req_for_thread = req.clone();
+    let batch = interruptible(py, move |stop| {
+        compute_states(&keys, &req_for_thread, threads, stop)
+    })?;
     let out = PyList::empty(py);
     let mut failures = Vec::new();
     for r in batch.results {
@@ -324,7 +342,19 @@ fn table<'py>(
 /// options.
 #[pyfunction]
 #[pyo3(signature = (n_min, n_max, l))]
-fn range_states(n_min: i64, n_max: i64, l: Option<Vec<i64>>) -> PyResult<Vec<(u32, u32)>> {
+fn range_states(
+    n_min: Int<'_>,
+    n_max: Int<'_>,
+    l: Option<Vec<Int<'_>>>,
+) -> PyResult<Vec<(u32, u32)>> {
+    let (n_min, n_max) = (int_arg("n_min", &n_min)?, int_arg("n_max", &n_max)?);
+    let l = l
+        .map(|ls| {
+            ls.iter()
+                .map(|x| int_arg("l", x))
+                .collect::<PyResult<Vec<_>>>()
+        })
+        .transpose()?;
     let s = TableSettings::new(
         n_min,
         n_max,
@@ -353,17 +383,18 @@ fn range_states(n_min: i64, n_max: i64, l: Option<Vec<i64>>) -> PyResult<Vec<(u3
 #[pyo3(signature = (n, l, digits, method, gauge))]
 fn sweep<'py>(
     py: Python<'py>,
-    n: i64,
-    l: i64,
-    digits: Vec<i64>,
+    n: Int<'_>,
+    l: Int<'_>,
+    digits: Vec<Int<'_>>,
     method: &str,
     gauge: Option<&str>,
 ) -> PyResult<Bound<'py, PyList>> {
+    let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
     let method = parse_method(method)?;
     let gauge = choose_gauge(method, gauge)?;
     let mut ladder = Vec::with_capacity(digits.len());
-    for d in digits {
-        ladder.push(parse_digits(d)?);
+    for d in &digits {
+        ladder.push(parse_digits(int_arg("digits", d)?)?);
     }
     let s = released(py, || {
         kzero_engine::sweep::sweep(n, l, method, gauge, &ladder, Goal::Absolute)
@@ -396,19 +427,22 @@ fn ratio(q: &rug::Rational) -> (String, String) {
 #[pyo3(signature = (n, l, n2, l2, power, digits))]
 fn radial<'py>(
     py: Python<'py>,
-    n: i64,
-    l: i64,
-    n2: i64,
-    l2: i64,
-    power: i64,
-    digits: i64,
+    n: Int<'_>,
+    l: Int<'_>,
+    n2: Int<'_>,
+    l2: Int<'_>,
+    power: Int<'_>,
+    digits: Int<'_>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let digits = parse_digits(digits)?;
+    let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
+    let (n2, l2) = (int_arg("n2", &n2)?, int_arg("l2", &l2)?);
+    let power = int_arg("power", &power)?;
+    let digits = parse_digits(int_arg("digits", &digits)?)?;
     let power = i32::try_from(power).map_err(|_| {
         invalid_value(
             "power",
             &power.to_string(),
-            ": number too large to fit in target type",
+            &format!(": {power} is not in {}..={}", i32::MIN, i32::MAX),
         )
     })?;
     let r = released(py, || {
@@ -428,7 +462,15 @@ fn radial<'py>(
 /// `kzero.oscillator`.
 #[pyfunction]
 #[pyo3(signature = (n, l, n2, l2))]
-fn oscillator(py: Python<'_>, n: i64, l: i64, n2: i64, l2: i64) -> PyResult<(String, String)> {
+fn oscillator(
+    py: Python<'_>,
+    n: Int<'_>,
+    l: Int<'_>,
+    n2: Int<'_>,
+    l2: Int<'_>,
+) -> PyResult<(String, String)> {
+    let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
+    let (n2, l2) = (int_arg("n2", &n2)?, int_arg("l2", &l2)?);
     let digits = Settings::default().digits;
     let f = released(py, || kzero_engine::exact::oscillator(n, l, n2, l2, digits))?;
     Ok(ratio(&f.value))
@@ -461,8 +503,82 @@ fn shift(
     Ok(kzero_engine::shift::level_json(&r, &settings).to_string())
 }
 
-/// A nucleus error with the keyword names of `kzero.shift` in place of the
-/// command line's options.
+/// An integer argument as Python gives it (any size; see [`int_arg`]).
+type Int<'py> = Bound<'py, PyAny>;
+
+/// An integer argument as `i64`. An integer beyond 64 bits is refused with
+/// the command line's message for a number that does not fit (keyword name
+/// in place of the option); a value that is not an integer is a
+/// `TypeError`.
+fn int_arg(name: &str, x: &Int<'_>) -> PyResult<i64> {
+    match x.extract::<i64>() {
+        Ok(v) => Ok(v),
+        Err(_) if x.is_instance_of::<pyo3::types::PyInt>() => Err(invalid_value(
+            name,
+            &x.str()?.to_string(),
+            fit_detail(x.lt(0)?),
+        )),
+        Err(e) => Err(e),
+    }
+}
+
+/// The command line's detail for an integer that does not fit its type.
+fn fit_detail(negative: bool) -> &'static str {
+    if negative {
+        ": number too small to fit in target type"
+    } else {
+        ": number too large to fit in target type"
+    }
+}
+
+/// The powers k as given in Python: `None` for every supported power, else
+/// each an integer ([`int_arg`]); the library checks the range.
+fn parse_powers(k: Option<Vec<Int<'_>>>) -> PyResult<Option<Vec<i64>>> {
+    k.map(|items| items.iter().map(|x| int_arg("k", x)).collect())
+        .transpose()
+}
+
+/// The dipole sums of one state as the JSON text of `kzero sums --json`,
+/// with the command line's disagreement message when the two methods
+/// differ (else `None`); see `kzero.sums`.
+///
+/// A disagreement is not raised here: the Python layer raises
+/// `MethodsDisagree` with the result attached.
+#[pyfunction]
+#[pyo3(signature = (n, l, k, digits, method, gauge, nucleus, z, mass))]
+#[allow(clippy::too_many_arguments)]
+fn sums(
+    py: Python<'_>,
+    n: Int<'_>,
+    l: Int<'_>,
+    k: Option<Vec<Int<'_>>>,
+    digits: Int<'_>,
+    method: &str,
+    gauge: Option<&str>,
+    nucleus: Option<&str>,
+    z: Option<Int<'_>>,
+    mass: Option<&str>,
+) -> PyResult<(String, Option<String>)> {
+    let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
+    let ks = parse_powers(k)?;
+    let digits = parse_digits(int_arg("digits", &digits)?)?;
+    let z = z.map(|z| int_arg("z", &z)).transpose()?;
+    let method = parse_method(method)?;
+    let given = gauge.map(parse_gauge).transpose()?;
+    let gauge = kzero_engine::sums::sums_gauge(method, given).map_err(keyword_names)?;
+    let nuc = kzero_engine::shift::nucleus(nucleus, z, mass, None).map_err(keyword_names)?;
+    let ks = kzero_engine::sums::requested_powers(ks.as_deref());
+    let settings = Settings::with_digits(digits);
+    let c = released(py, || {
+        kzero_engine::compute_sums(n, l, &ks, method, gauge, &settings)
+    })?;
+    let text = kzero_engine::sums_json(&c, &nuc).to_string();
+    Ok((text, c.check_agreement().err().map(|e| e.to_string())))
+}
+
+/// A bad-input error with the keyword names of the package in place of the
+/// command line's options (`--nucleus`, `--mass`, `--radius`, `--z`,
+/// `--gauge`, `--method`).
 fn keyword_names(e: EngineError) -> PyErr {
     if e.class() != ErrorClass::BadInput {
         return to_py(e);
@@ -473,7 +589,9 @@ fn keyword_names(e: EngineError) -> PyErr {
         .replace("--mass M", "mass")
         .replace("--mass", "mass")
         .replace("--radius", "radius")
-        .replace("--z", "z");
+        .replace("--z", "z")
+        .replace("--gauge", "gauge")
+        .replace("--method", "method");
     InvalidInput::new_err(msg)
 }
 
@@ -496,6 +614,10 @@ fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     let py = m.py();
     m.add("__version__", build_info::VERSION)?;
     m.add("MAX_N", kzero_bethe::settings::MAX_N)?;
+    m.add(
+        "SUM_POWERS",
+        pyo3::types::PyTuple::new(py, kzero_bethe::sums::all_powers())?,
+    )?;
     m.add("InvalidInput", py.get_type::<InvalidInput>())?;
     m.add("NoConvergence", py.get_type::<NoConvergence>())?;
     m.add("MethodsDisagree", py.get_type::<MethodsDisagree>())?;
@@ -507,5 +629,6 @@ fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(radial, m)?)?;
     m.add_function(wrap_pyfunction!(oscillator, m)?)?;
     m.add_function(wrap_pyfunction!(shift, m)?)?;
+    m.add_function(wrap_pyfunction!(sums, m)?)?;
     Ok(())
 }

@@ -75,12 +75,27 @@ struct Comp {
     m1: Rational,
 }
 
-/// A lower state of one channel: n', c = w |p|^2 and d (exact).
+/// A lower state of one channel: n', d (exact) and its amplitude A (see
+/// [`amplitude`]) for every component.
 #[derive(Debug, Clone)]
 struct Lower {
     nprime: u32,
-    c: Rational,
     d: Rational,
+    amps: Vec<Rational>,
+}
+
+/// The amplitude A of a lower state (c = w |p|^2, d < 0) in component
+/// `comp`: with c' = c d^(-2a), A = c' d for e = 1 and A = c' for e = 0.
+/// All lower states of one component give amplitudes of one sign.
+fn amplitude(c: &Rational, d: &Rational, comp: &Comp) -> Rational {
+    let mut cp = c.clone();
+    for _ in 0..comp.a {
+        cp /= Rational::from(d * d);
+    }
+    if comp.e == 1 {
+        cp *= d;
+    }
+    cp
 }
 
 /// Exact, precision-independent data.
@@ -143,7 +158,12 @@ impl Exact {
                 let r = radial_dipole(&low, &st)?;
                 let d = low.energy() - st.energy();
                 let c = Rational::from(&d * &d) * r.square() * &ch.weight;
-                lower.push(Lower { nprime: np, c, d });
+                let amps = comps.iter().map(|comp| amplitude(&c, &d, comp)).collect();
+                lower.push(Lower {
+                    nprime: np,
+                    d,
+                    amps,
+                });
             }
         }
         Ok(Exact {
@@ -154,20 +174,6 @@ impl Exact {
         })
     }
 
-    /// c' = c d^(-2a) of a lower state for component `c`, and its amplitude A.
-    fn amplitude(&self, low: &Lower, comp: &Comp) -> (Rational, Rational) {
-        let mut cp = low.c.clone();
-        for _ in 0..comp.a {
-            cp /= Rational::from(&low.d * &low.d);
-        }
-        let amp = if comp.e == 1 {
-            Rational::from(&cp * &low.d)
-        } else {
-            cp.clone()
-        };
-        (cp, amp)
-    }
-
     fn first_lower(&self) -> Option<u32> {
         self.lower.iter().map(|p| p.nprime).min()
     }
@@ -175,34 +181,53 @@ impl Exact {
     /// Per component: the exact part (lower states, image terms, the
     /// ln w0 term) plus ln 2 times the power sum (units Z^2 Ry in the log).
     fn exact_parts(&self, prec: u32) -> Vec<Float> {
-        let nn = u64::from(self.n) * u64::from(self.n);
-        let ln_w0 = Float::with_val(prec, Rational::from((1u64, 2 * nn))).ln();
-        let ln2 = Float::with_val(prec, rug::float::Constant::Log2);
-        self.comps
-            .iter()
-            .map(|comp| {
-                let mut s = Float::with_val(prec, 0);
-                // the moment that multiplies ln w0, minus the lower states' share
-                let mut up = if comp.e == 1 {
-                    comp.m1.clone()
-                } else {
-                    comp.m0.clone()
-                };
-                for low in &self.lower {
-                    let (_, amp) = self.amplitude(low, comp);
-                    let ln_abs_d = Float::with_val(prec, -low.d.clone()).ln();
-                    let ln_ratio =
-                        Float::with_val(prec, Rational::from((self.n + low.nprime, low.nprime)))
-                            .ln();
-                    s += Float::with_val(prec, &amp) * (ln_abs_d - ln_ratio);
-                    up -= amp;
-                }
-                s += Float::with_val(prec, &up) * &ln_w0;
-                let total = if comp.e == 1 { &comp.m1 } else { &comp.m0 };
-                s += Float::with_val(prec, total) * &ln2;
-                s
-            })
+        (0..self.comps.len())
+            .map(|ci| self.exact_part(ci, prec))
             .collect()
+    }
+
+    /// The exact part of component `ci` at `prec` bits. The rational
+    /// amplitudes are rounded one by one: an exact sum over the lower states
+    /// would grow a common denominator (and cost gcds) with every state. They
+    /// share one sign, so their sum loses nothing; the moment that multiplies
+    /// ln w0, M minus that sum, may cancel, and the loss is measured and the
+    /// sum formed again with those bits on top, until 32 bits are left over.
+    fn exact_part(&self, ci: usize, prec: u32) -> Float {
+        let comp = &self.comps[ci];
+        let total = if comp.e == 1 { &comp.m1 } else { &comp.m0 };
+        let nn = u64::from(self.n) * u64::from(self.n);
+        let mut wp = prec + 32;
+        loop {
+            let mut s = Float::with_val(wp, 0);
+            let mut lower_sum = Float::with_val(wp, 0);
+            for low in &self.lower {
+                let amp = Float::with_val(wp, &low.amps[ci]);
+                lower_sum += &amp;
+                let ln_abs_d = Float::with_val(wp, -low.d.clone()).ln();
+                let ln_ratio =
+                    Float::with_val(wp, Rational::from((self.n + low.nprime, low.nprime))).ln();
+                s += amp * (ln_abs_d - ln_ratio);
+            }
+            let total_f = Float::with_val(wp, total);
+            // the moment of the upper states alone
+            let up = Float::with_val(wp, &total_f - &lower_sum);
+            let top = exp2_of(&total_f).max(exp2_of(&lower_sum));
+            let lost = if self.lower.is_empty() {
+                0
+            } else if up.is_zero() {
+                wp as i32
+            } else {
+                (top - exp2_of(&up)).max(0)
+            };
+            if lost + 32 <= (wp - prec) as i32 {
+                let ln_w0 = Float::with_val(wp, Rational::from((1u64, 2 * nn))).ln();
+                let ln2 = Float::with_val(wp, rug::float::Constant::Log2);
+                s += up * ln_w0;
+                s += total_f * ln2;
+                return Float::with_val(prec, s);
+            }
+            wp = prec + lost as u32 + 64;
+        }
     }
 
     fn at(&self, prec: u32) -> Integrand {
@@ -228,10 +253,7 @@ impl Exact {
                 .map(|low| {
                     (
                         Float::with_val(prec, low.nprime),
-                        self.comps
-                            .iter()
-                            .map(|c| Float::with_val(prec, &self.amplitude(low, c).1))
-                            .collect(),
+                        low.amps.iter().map(|a| Float::with_val(prec, a)).collect(),
                     )
                 })
                 .collect(),
@@ -336,11 +358,11 @@ impl Integrand {
                 jlog[s] += &v.log_coef;
             }
         }
-        let mut values = Vec::with_capacity(self.comps.len());
-        let mut logs = Vec::with_capacity(self.comps.len());
-        let mut losses = Vec::with_capacity(self.comps.len());
-        let mut t = Float::new(prec);
-        for (ci, c) in self.comps.iter().enumerate() {
+        let nc = self.comps.len();
+        let mut values = Vec::with_capacity(nc);
+        let mut logs = Vec::with_capacity(nc);
+        let mut meters = Vec::with_capacity(nc);
+        for c in &self.comps {
             let mut meter = jmeter.clone();
             let j = &jsum[c.a];
             let (f, lc) = if c.e == 1 {
@@ -363,24 +385,33 @@ impl Integrand {
                 let lc = -Float::with_val(prec, &jlog[c.a] / &nu3);
                 (f, lc)
             };
-            let mut value = f / &nu3;
-            let mut acc = Float::with_val(prec, 0);
-            let mut biggest = Float::with_val(prec, 0);
-            for (np, amps) in &self.lower {
-                t.assign(np - nu);
-                t.recip_mut();
-                t *= &amps[ci];
-                if t.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
-                    biggest.assign(&t);
-                }
-                acc += &t;
-            }
-            meter.term(&value);
-            meter.term(&biggest);
-            value -= &acc;
-            meter.result(&value);
-            values.push(value);
+            values.push(f / &nu3);
             logs.push(lc);
+            meters.push(meter);
+        }
+        // the poles of the lower states: 1/(n' - nu) once per state, shared
+        // by every component
+        let mut acc = vec![Float::with_val(prec, 0); nc];
+        let mut biggest = vec![Float::with_val(prec, 0); nc];
+        let mut r = Float::new(prec);
+        let mut t = Float::new(prec);
+        for (np, amps) in &self.lower {
+            r.assign(np - nu);
+            r.recip_mut();
+            for ((a, b), amp) in acc.iter_mut().zip(biggest.iter_mut()).zip(amps) {
+                t.assign(&r * amp);
+                if t.cmp_abs(b) == Some(std::cmp::Ordering::Greater) {
+                    b.assign(&t);
+                }
+                *a += &t;
+            }
+        }
+        let mut losses = Vec::with_capacity(nc);
+        for (((value, meter), a), b) in values.iter_mut().zip(&mut meters).zip(&acc).zip(&biggest) {
+            meter.term(value);
+            meter.term(b);
+            *value -= a;
+            meter.result(value);
             losses.push(meter.loss_bits);
         }
         Sample {

@@ -106,6 +106,12 @@ pub enum FormatProblem {
     /// The goal setting is neither `absolute` nor `significant`.
     #[error("unknown goal (absolute or significant)")]
     UnknownGoal,
+    /// The quantity setting names no quantity.
+    #[error("unknown quantity (ln_k0 or dipole_sums)")]
+    UnknownQuantity,
+    /// The `k` setting is not a sorted list of supported powers.
+    #[error("setting 'k' is not an increasing list of supported powers k")]
+    BadPowers,
     /// The shard entry is not a shard.
     #[error(transparent)]
     Shard(#[from] ShardError),
@@ -168,6 +174,34 @@ pub enum FormatProblem {
     /// A JSON row's method names no method.
     #[error("row field 'method' is not a method")]
     RowMethod,
+    /// A row of the dipole sums with only one of ln_I and ln_I_err.
+    #[error("row (n={}, l={}, k={k}): ln_I and ln_I_err must both be given or both be empty", .key.0, .key.1)]
+    LnIHalf {
+        /// The state of the row.
+        key: Key,
+        /// Its power k.
+        k: i32,
+    },
+    /// The rows of one state of a dipole-sum table do not hold the
+    /// table's powers k, once each and in order.
+    #[error("rows of (n={}, l={}) hold k = {found}, the table's k are {want}", .key.0, .key.1)]
+    StatePowers {
+        /// The state.
+        key: Key,
+        /// The powers found in its rows, in file order.
+        found: String,
+        /// The table's powers.
+        want: String,
+    },
+    /// The rows of one state of a dipole-sum table differ in a field that
+    /// the state's rows share (method, digits, bits, seconds).
+    #[error("rows of (n={}, l={}) differ in {field}, which the rows of one state share", .key.0, .key.1)]
+    StateRowsDiffer {
+        /// The state.
+        key: Key,
+        /// The field.
+        field: &'static str,
+    },
 }
 
 /// One setting in which two tables differ.
@@ -246,6 +280,22 @@ pub enum SelectionError {
     /// Every requested l is >= n.
     #[error("no state selected: every requested l is >= n")]
     NoStates,
+    /// A power k of the dipole sums outside the supported range.
+    #[error("--sums: k = {k} is outside the supported powers {min}..={max} of the dipole sums")]
+    Power {
+        /// k as given.
+        k: i64,
+        /// Smallest supported k.
+        min: i32,
+        /// Largest supported k.
+        max: i32,
+    },
+    /// An empty list of powers k.
+    #[error("--sums: no power k given")]
+    NoPowers,
+    /// A significant-digit goal for a table of the dipole sums.
+    #[error("--significant: the dipole sums take an absolute goal only (--digits)")]
+    SumsGoal,
 }
 
 /// Everything that can go wrong with table files.

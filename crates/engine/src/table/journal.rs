@@ -12,8 +12,9 @@
 
 use super::files::{check_not_busy, journal_path, lock_exclusive, looks_like_json};
 use super::{
-    read_table, Differences, Row, SettingDifference, Table, TableError, TableFormat, TableSettings,
-    BASE_COLUMNS, BOTH_COLUMNS, CHECK_COLUMN, MAGIC,
+    read_table, Differences, Quantity, Row, SettingDifference, Table, TableError, TableFormat,
+    TableSettings, BASE_COLUMNS, BOTH_COLUMNS, CHECK_COLUMN, MAGIC, SUMS_BOTH_COLUMNS,
+    SUMS_COLUMNS,
 };
 use crate::shard::{Key, Shard};
 use std::collections::BTreeSet;
@@ -241,6 +242,10 @@ pub fn unstarted_journal(bytes: &[u8]) -> Option<Vec<(String, String)>> {
         [&BASE_COLUMNS[..], &BOTH_COLUMNS[..], &[CHECK_COLUMN]]
             .concat()
             .join(","),
+        [&SUMS_COLUMNS[..], &[CHECK_COLUMN]].concat().join(","),
+        [&SUMS_COLUMNS[..], &SUMS_BOTH_COLUMNS[..], &[CHECK_COLUMN]]
+            .concat()
+            .join(","),
     ];
     (cut.starts_with('#') || column_lines.iter().any(|c| c.starts_with(cut))).then_some(pairs)
 }
@@ -257,8 +262,19 @@ fn unstarted(jpath: &Path, settings: &TableSettings, shard: Shard) -> Result<boo
     let Some(pairs) = unstarted_journal(&bytes) else {
         return Ok(false);
     };
-    let mine = settings.pairs();
+    let mut mine = settings.pairs();
     let mut diffs = Vec::new();
+    // A dipole-sum header names its quantity before any other setting: a
+    // header with settings but no quantity line is an ln k0 header.
+    let has_settings = pairs.iter().any(|(k, _)| k.starts_with("setting."));
+    let has_quantity = pairs.iter().any(|(k, _)| k == "setting.quantity");
+    if settings.quantity == Quantity::LnK0 {
+        mine.push(("quantity", Quantity::LN_K0.to_string()));
+    }
+    let mut pairs = pairs;
+    if has_settings && !has_quantity {
+        pairs.insert(0, ("setting.quantity".into(), Quantity::LN_K0.to_string()));
+    }
     for (k, v) in &pairs {
         if let Some(sk) = k.strip_prefix("setting.") {
             if let Some((key, want)) = mine.iter().find(|(m, _)| *m == sk) {
@@ -414,5 +430,58 @@ mod tests {
         assert_eq!(unstarted_journal(b"# kzero-table: 1\n"), None);
         assert_eq!(unstarted_journal(b"# kzero-table: 3\n"), None);
         assert_eq!(unstarted_journal(&[0xff, 0xfe]), None);
+    }
+
+    fn sums_table() -> Table {
+        let mut t = crate::table::tests::table();
+        t.rows.clear();
+        t.settings = t.settings.with_sums(&[-1, 0]).unwrap();
+        t
+    }
+
+    #[test]
+    fn a_sums_header_cut_before_its_column_line_is_an_unstarted_journal() {
+        let s = sums_table().to_csv();
+        let col_end = s.rfind('\n').unwrap();
+        for end in 0..col_end {
+            assert!(
+                unstarted_journal(&s.as_bytes()[..end]).is_some(),
+                "cut at {end}: {:?}",
+                &s[..end]
+            );
+        }
+        assert_eq!(unstarted_journal(s.as_bytes()), None);
+    }
+
+    /// A cut header names its quantity: resuming it as the other quantity
+    /// (or with another k list) is refused; the same settings start the
+    /// work on it.
+    #[test]
+    fn an_unstarted_journal_of_another_quantity_is_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("t.csv");
+        let ln_k0 = crate::table::tests::table();
+        let sums = sums_table();
+        let cut = |t: &Table| {
+            let s = t.to_csv();
+            let end = s.find("# setting.l:").unwrap();
+            s[..end].to_string()
+        };
+        let shard = Shard::WHOLE;
+        let other_k = sums.settings.clone().with_sums(&[0]).unwrap();
+        for (header, settings, ok) in [
+            (cut(&ln_k0), &ln_k0.settings, true),
+            (cut(&ln_k0), &sums.settings, false),
+            (cut(&sums), &sums.settings, true),
+            (cut(&sums), &ln_k0.settings, false),
+            (cut(&sums), &other_k, false),
+        ] {
+            std::fs::write(&path, &header).unwrap();
+            let r = unstarted(&path, settings, shard);
+            assert_eq!(r.is_ok(), ok, "{header}\n{r:?}");
+            if let Err(e) = r {
+                assert!(e.to_string().contains("started with other settings"), "{e}");
+            }
+        }
     }
 }

@@ -12,7 +12,8 @@ use std::path::PathBuf;
 /// line per input.
 ///
 /// Rules: every input written by this build ([`Table::check_same_build`]),
-/// identical settings, the same number of shards M, and together every
+/// identical settings (the quantity and the powers k of a dipole-sum table
+/// included), the same number of shards M, and together every
 /// requested state exactly once.
 ///
 /// # Errors
@@ -48,12 +49,21 @@ pub fn merge(tables: &[(PathBuf, Table)], command: &str) -> Result<Table, TableE
     let mut seen: BTreeMap<Key, usize> = BTreeMap::new();
     let mut dups = Vec::new();
     let mut rows = Vec::new();
+    let mut sums = Vec::new();
     for (i, (_, t)) in tables.iter().enumerate() {
         for r in &t.rows {
-            if seen.insert((r.n, r.l), i).is_some() {
-                dups.push((r.n, r.l));
+            if seen.insert(r.key(), i).is_some() {
+                dups.push(r.key());
             } else {
                 rows.push(r.clone());
+            }
+        }
+        // a dipole-sum table: every state with all its rows
+        for e in &t.sums {
+            if seen.insert(e.key(), i).is_some() {
+                dups.push(e.key());
+            } else {
+                sums.push(e.clone());
             }
         }
     }
@@ -97,6 +107,7 @@ pub fn merge(tables: &[(PathBuf, Table)], command: &str) -> Result<Table, TableE
         settings,
         shard: Shard::WHOLE,
         rows,
+        sums,
         torn_at: None,
     };
     merged.sort();

@@ -55,22 +55,42 @@
 //! Format 2 (this one) added the `check` column. Files of format 1 are
 //! refused with a message saying so: they come from an older build, whose
 //! rows are never mixed with this build's anyway.
+//!
+//! ## Tables of the dipole sums
+//! A table made with [`TableSettings::with_sums`] holds S(k), L(k) and
+//! ln I(k) instead of ln k0 ([`Quantity::DipoleSums`]): its header records
+//! `setting.quantity: dipole_sums` and `setting.k` (first among the
+//! settings), and it has one row per (n, l, k); see [`sums`] for the
+//! columns. The rows of a state are computed together ([`StateValues`]),
+//! appended to the journal in one write ([`Table::add`]) and read back as
+//! one [`SumsEntry`]: a state whose rows are cut short at the end of a
+//! journal is dropped like a torn last line ([`Table::torn_at`] is the
+//! start of its first row), so `--resume` computes it again whole; anywhere
+//! else a state without every k is refused. Resume and merge compare the
+//! quantity and the k list like any other setting. ln k0 tables write no
+//! quantity, so their files are the same as before the sums existed.
 
 mod error;
 pub mod files;
 pub mod journal;
 pub mod merge;
 mod read;
+pub mod sums;
 
 pub use error::{
     Differences, FormatProblem, Place, SelectionError, SettingDifference, States, TableError,
 };
 pub use read::{parse_table, read_table, ParseError};
+pub use sums::{render_powers, PowerRow, SumsEntry, SUMS_BOTH_COLUMNS, SUMS_COLUMNS};
 
+use crate::batch::{run_jobs, BatchEnd, Flow};
 use crate::build_info::{self, Provenance};
 use crate::compute::Computed;
+use crate::error::EngineError;
+use crate::estimate::{Estimate, ShardSuggestion};
 use crate::method::MethodChoice;
 use crate::shard::{Key, Shard};
+use crate::sums::{compute_sums, sums_cost, ComputedSums};
 use kzero_bethe::{Gauge, Goal, UnknownName};
 use serde_json::{json, Map, Value};
 use std::collections::BTreeSet;
@@ -197,6 +217,70 @@ impl LSelect {
     }
 }
 
+/// What a table tabulates.
+///
+/// `LnK0` tables write no `quantity` setting (their files read exactly as
+/// before the dipole sums existed); tables of the dipole sums record
+/// `setting.quantity: dipole_sums` and `setting.k` (the powers,
+/// increasing, comma-separated; a JSON array of integers in `meta.settings`).
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub enum Quantity {
+    /// The Bethe logarithm ln k0(n, l): one row per state.
+    #[default]
+    LnK0,
+    /// The logarithmic dipole sums S(k), L(k), ln I(k) for these powers k
+    /// (increasing, each in [`kzero_bethe::sums::K_MIN`]..=
+    /// [`kzero_bethe::sums::K_MAX`]): one row per (state, k), the rows of a
+    /// state computed and written together ([`sums`]).
+    DipoleSums(Vec<i32>),
+}
+
+impl Quantity {
+    /// The name of ln k0 tables (compared on resume and merge, never
+    /// written).
+    pub const LN_K0: &'static str = "ln_k0";
+    /// The name of dipole-sum tables (`setting.quantity`).
+    pub const DIPOLE_SUMS: &'static str = "dipole_sums";
+
+    /// The name: `ln_k0` or `dipole_sums`.
+    pub fn name(&self) -> &'static str {
+        match self {
+            Quantity::LnK0 => Self::LN_K0,
+            Quantity::DipoleSums(_) => Self::DIPOLE_SUMS,
+        }
+    }
+
+    /// The powers k of a dipole-sum table (empty for ln k0).
+    pub fn powers(&self) -> &[i32] {
+        match self {
+            Quantity::LnK0 => &[],
+            Quantity::DipoleSums(ks) => ks,
+        }
+    }
+
+    /// The dipole form of the spectral method when none is chosen:
+    /// velocity for ln k0 (as `kzero state`), length for the dipole sums
+    /// (as `kzero sums`), so that a table row and the one-state command
+    /// print the same digits.
+    pub fn default_gauge(&self) -> Gauge {
+        match self {
+            Quantity::LnK0 => Gauge::Velocity,
+            Quantity::DipoleSums(_) => crate::sums::SUMS_DEFAULT_GAUGE,
+        }
+    }
+}
+
+/// The powers of a `k` setting: increasing, without repetitions, each
+/// supported (`None` otherwise).
+fn parse_powers(text: &str) -> Option<Vec<i32>> {
+    let ks: Vec<i64> = text
+        .split(',')
+        .map(|x| x.trim().parse().ok())
+        .collect::<Option<_>>()?;
+    let v = kzero_bethe::sums::validate_powers(&ks).ok()?;
+    (v.len() == ks.len() && v.iter().zip(&ks).all(|(a, b)| i64::from(*a) == *b)).then_some(v)
+}
+
 /// Every numerical setting of a table: two tables can be resumed into each
 /// other or merged only when these agree exactly.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -217,6 +301,8 @@ pub struct TableSettings {
     /// Dipole form of the spectral method (not recorded for the green
     /// method, which has none).
     pub gauge: Gauge,
+    /// What the table tabulates (ln k0 unless [`TableSettings::with_sums`]).
+    pub quantity: Quantity,
 }
 
 fn nonneg(v: i64, neg: fn(i64) -> SelectionError) -> Result<u32, SelectionError> {
@@ -270,6 +356,7 @@ impl TableSettings {
             goal: Goal::Absolute,
             method,
             gauge,
+            quantity: Quantity::LnK0,
         };
         if s.states().is_empty() {
             return Err(SelectionError::NoStates);
@@ -283,17 +370,47 @@ impl TableSettings {
         self
     }
 
-    /// The settings as (key, value) pairs in a fixed order. The gauge is
-    /// left out for the green method (it has no dipole form).
+    /// The same settings tabulating the dipole sums S(k), L(k), ln I(k)
+    /// for the powers `ks` (sorted and deduplicated) instead of ln k0. Call
+    /// it after [`TableSettings::with_goal`]: the sums take an absolute
+    /// goal only. The gauge is left as given (see
+    /// [`Quantity::default_gauge`]).
+    ///
+    /// # Errors
+    /// [`SelectionError::Power`] for a k outside
+    /// [`kzero_bethe::sums::K_MIN`]..=[`kzero_bethe::sums::K_MAX`],
+    /// [`SelectionError::NoPowers`] for an empty list,
+    /// [`SelectionError::SumsGoal`] with a significant-digit goal.
+    pub fn with_sums(mut self, ks: &[i64]) -> Result<TableSettings, SelectionError> {
+        use kzero_bethe::BetheError;
+        let ks = kzero_bethe::sums::validate_powers(ks).map_err(|e| match e {
+            BetheError::PowerOutOfRange { k, min, max } => SelectionError::Power { k, min, max },
+            _ => SelectionError::NoPowers,
+        })?;
+        if self.goal != Goal::Absolute {
+            return Err(SelectionError::SumsGoal);
+        }
+        self.quantity = Quantity::DipoleSums(ks);
+        Ok(self)
+    }
+
+    /// The settings as (key, value) pairs in a fixed order, as written. The
+    /// gauge is left out for the green method (it has no dipole form); the
+    /// quantity and the powers k are written for dipole-sum tables only.
     pub fn pairs(&self) -> Vec<(&'static str, String)> {
-        let mut v = vec![
+        let mut v = Vec::new();
+        if let Quantity::DipoleSums(ks) = &self.quantity {
+            v.push(("quantity", self.quantity.name().to_string()));
+            v.push(("k", render_powers(ks)));
+        }
+        v.extend([
             ("n_min", self.n_min.to_string()),
             ("n_max", self.n_max.to_string()),
             ("l", self.l.render()),
             ("digits", self.digits.to_string()),
             ("goal", self.goal.name().to_string()),
             ("method", self.method.name().to_string()),
-        ];
+        ]);
         if self.method != MethodChoice::Green {
             v.push(("gauge", self.gauge.name().to_string()));
         }
@@ -311,9 +428,20 @@ impl TableSettings {
         let method: MethodChoice = need("method")?
             .parse()
             .map_err(|_| FormatProblem::UnknownMethod)?;
+        // ln k0 tables record no quantity
+        let quantity = match get("quantity").as_deref() {
+            None => Quantity::LnK0,
+            Some(Quantity::DIPOLE_SUMS) => {
+                Quantity::DipoleSums(parse_powers(&need("k")?).ok_or(FormatProblem::BadPowers)?)
+            }
+            Some(_) => return Err(FormatProblem::UnknownQuantity),
+        };
+        if quantity == Quantity::LnK0 && get("k").is_some() {
+            return Err(FormatProblem::UnknownQuantity);
+        }
         // the green method records no gauge
         let gauge: Gauge = match (get("gauge"), method) {
-            (None, MethodChoice::Green) => Gauge::Velocity,
+            (None, MethodChoice::Green) => quantity.default_gauge(),
             (g, _) => g
                 .ok_or(FormatProblem::MissingSetting("gauge"))?
                 .parse()
@@ -332,6 +460,7 @@ impl TableSettings {
             goal,
             method,
             gauge,
+            quantity,
         })
     }
 
@@ -351,19 +480,36 @@ impl TableSettings {
 
     /// The column names of a table with these settings.
     pub fn columns(&self) -> Vec<&'static str> {
-        let mut c: Vec<&'static str> = BASE_COLUMNS.to_vec();
-        if self.method == MethodChoice::Both {
-            c.extend(BOTH_COLUMNS);
+        let both = self.method == MethodChoice::Both;
+        let mut c: Vec<&'static str> = match self.quantity {
+            Quantity::LnK0 => BASE_COLUMNS.to_vec(),
+            Quantity::DipoleSums(_) => SUMS_COLUMNS.to_vec(),
+        };
+        match (&self.quantity, both) {
+            (Quantity::LnK0, true) => c.extend(BOTH_COLUMNS),
+            (Quantity::DipoleSums(_), true) => c.extend(SUMS_BOTH_COLUMNS),
+            (_, false) => {}
         }
         c.push(CHECK_COLUMN);
         c
     }
 
-    /// The keys in which `self` and `other` differ (empty when they agree).
+    /// [`TableSettings::pairs`] with the quantity always named (so that an
+    /// ln k0 table and a dipole-sum table differ in it).
+    fn compared_pairs(&self) -> Vec<(&'static str, String)> {
+        let mut v = self.pairs();
+        if self.quantity == Quantity::LnK0 {
+            v.insert(0, ("quantity", Quantity::LN_K0.to_string()));
+        }
+        v
+    }
+
+    /// The keys in which `self` and `other` differ (empty when they agree),
+    /// the quantity and the powers k included.
     pub fn differences(&self, other: &TableSettings) -> Differences {
-        let theirs = other.pairs();
+        let theirs = other.compared_pairs();
         let mut diffs: Vec<SettingDifference> = Vec::new();
-        for (k, v) in self.pairs() {
+        for (k, v) in self.compared_pairs() {
             let w = theirs
                 .iter()
                 .find(|(k2, _)| *k2 == k)
@@ -376,9 +522,11 @@ impl TableSettings {
                 });
             }
         }
-        // keys only the other side records (the gauge of a non-green method)
+        // keys only the other side records (the gauge of a non-green
+        // method, the powers of a dipole-sum table)
+        let mine = self.compared_pairs();
         for (k, w) in theirs {
-            if !self.pairs().iter().any(|(k2, _)| *k2 == k) {
+            if !mine.iter().any(|(k2, _)| *k2 == k) {
                 diffs.push(SettingDifference {
                     key: k,
                     first: "-".into(),
@@ -387,6 +535,71 @@ impl TableSettings {
             }
         }
         Differences(diffs)
+    }
+
+    /// The estimated cost of one state (single-core CPU seconds on the
+    /// reference machine of benches/README.md, an estimate): [`crate::cost`]
+    /// for ln k0, [`sums_cost`] with the table's number of powers for the
+    /// dipole sums. Used for the shard plan and `--estimate`.
+    pub fn cost(&self, n: u32, l: u32) -> f64 {
+        match &self.quantity {
+            Quantity::LnK0 => crate::compute::cost(n, l, self.digits, self.method),
+            Quantity::DipoleSums(ks) => sums_cost(n, l, self.digits, ks.len(), self.method),
+        }
+    }
+
+    /// The states of part `shard` of the table with their [`cost`](Self::cost),
+    /// most expensive first ([`crate::shard::plan_by`]).
+    pub fn plan(&self, shard: Shard) -> Vec<(Key, f64)> {
+        crate::shard::plan_by(&self.states(), &|(n, l)| self.cost(n, l), shard)
+    }
+
+    /// The estimated cost of the states of part `shard` on `threads`
+    /// threads ([`crate::estimate::estimate_by`]).
+    pub fn estimate(&self, shard: Shard, threads: usize) -> Estimate {
+        let states: Vec<Key> = self.plan(shard).into_iter().map(|(k, _)| k).collect();
+        crate::estimate::estimate_by(&states, &|(n, l)| self.cost(n, l), threads)
+    }
+
+    /// The fewest shards of the states of part `shard` whose slowest part
+    /// finishes within `target_seconds` on `threads` threads each
+    /// ([`crate::estimate::suggest_shards_by`]).
+    pub fn suggest_shards(
+        &self,
+        shard: Shard,
+        threads: usize,
+        target_seconds: f64,
+    ) -> ShardSuggestion {
+        let states: Vec<Key> = self.plan(shard).into_iter().map(|(k, _)| k).collect();
+        crate::estimate::suggest_shards_by(
+            &states,
+            &|(n, l)| self.cost(n, l),
+            threads,
+            target_seconds,
+        )
+    }
+
+    /// Computes the rows of one state: ln k0 through [`crate::compute()`],
+    /// or the dipole sums of the table's powers through [`compute_sums`].
+    ///
+    /// # Errors
+    /// As those functions (bad input, non-convergence).
+    pub fn compute(&self, n: u32, l: u32) -> Result<StateValues, EngineError> {
+        match &self.quantity {
+            Quantity::LnK0 => self.request().compute(n, l).map(StateValues::LnK0),
+            Quantity::DipoleSums(ks) => {
+                let ks: Vec<i64> = ks.iter().map(|&k| i64::from(k)).collect();
+                compute_sums(
+                    i64::from(n),
+                    i64::from(l),
+                    &ks,
+                    self.method,
+                    self.gauge,
+                    &self.request().settings,
+                )
+                .map(StateValues::Sums)
+            }
+        }
     }
 
     /// The compute request of every row.
@@ -400,6 +613,82 @@ impl TableSettings {
             },
         }
     }
+}
+
+/// The computed values of one state of a table, before they become rows.
+#[derive(Debug, Clone)]
+pub enum StateValues {
+    /// ln k0 by the table's method(s).
+    LnK0(Computed),
+    /// The dipole sums by the table's method(s).
+    Sums(ComputedSums),
+}
+
+impl StateValues {
+    /// With method `both`: one line describing where the two methods differ
+    /// beyond their combined error estimates (the first such k for the
+    /// sums), or `None` when they agree (or with one method).
+    pub fn disagreement(&self) -> Option<String> {
+        match self {
+            StateValues::LnK0(c) => match c.check_agreement() {
+                Err(EngineError::MethodsDisagree {
+                    n,
+                    l,
+                    green,
+                    green_err,
+                    spectral,
+                    spectral_err,
+                    digits,
+                }) => Some(format!(
+                    "(n={n}, l={l}): green {green} +- {green_err} and spectral {spectral} +- {spectral_err} differ beyond their error estimates ({digits} agreeing digits)"
+                )),
+                _ => None,
+            },
+            StateValues::Sums(c) => {
+                let p = c.primary();
+                let d = c.disagreements();
+                let (k, q, g, s) = d.first()?;
+                let more = if d.len() > 1 {
+                    format!(" (and {} more sums of this state)", d.len() - 1)
+                } else {
+                    String::new()
+                };
+                Some(format!(
+                    "(n={}, l={}): {q}({k}) green {g} and spectral {s} differ beyond their error estimates{more}",
+                    p.n, p.l
+                ))
+            }
+        }
+    }
+}
+
+/// Computes the states `states` of a table with `settings` on `threads`
+/// worker threads ([`TableSettings::compute`] per state) and hands each
+/// result to `on_result(index into states, result)` on the calling thread,
+/// in completion order. `cancel` and the [`Flow`] answer work as in
+/// [`crate::run_batch`].
+///
+/// # Accuracy
+/// The values of a state do not depend on the thread count, the order or
+/// the other states.
+///
+/// # Errors
+/// [`EngineError::Threads`] only; the errors of single states go to
+/// `on_result`.
+pub fn run_table(
+    states: &[Key],
+    settings: &TableSettings,
+    threads: usize,
+    cancel: &(dyn Fn() -> bool + Sync),
+    on_result: &mut dyn FnMut(usize, Result<StateValues, EngineError>) -> Flow,
+) -> Result<BatchEnd, EngineError> {
+    run_jobs(
+        states,
+        threads,
+        cancel,
+        &|n, l| settings.compute(n, l),
+        on_result,
+    )
 }
 
 /// One table row, all values already formatted (strings are what is written).
@@ -518,10 +807,15 @@ pub struct Table {
     pub settings: TableSettings,
     /// Which part of the table.
     pub shard: Shard,
-    /// Rows (file order until sorted).
+    /// The rows of an ln k0 table (file order until sorted); empty in a
+    /// dipole-sum table.
     pub rows: Vec<Row>,
+    /// The states of a dipole-sum table, each with its rows (file order
+    /// until sorted); empty in an ln k0 table.
+    pub sums: Vec<SumsEntry>,
     /// For a CSV file cut short by a crash: byte offset where the torn last
-    /// line starts (the file is valid up to there).
+    /// line starts, or in a dipole-sum table the first row of a last state
+    /// cut short (the file is valid up to there).
     pub torn_at: Option<u64>,
 }
 
@@ -543,6 +837,7 @@ impl Table {
             settings,
             shard,
             rows: Vec::new(),
+            sums: Vec::new(),
             torn_at: None,
         }
     }
@@ -555,9 +850,37 @@ impl Table {
             .map(|(_, v)| v.as_str())
     }
 
-    /// Sorts rows by (n, l).
+    /// Sorts rows by (n, l) (for the dipole sums: states by (n, l), each
+    /// state's rows stay in increasing k).
     pub fn sort(&mut self) {
         self.rows.sort_by_key(|r| (r.n, r.l));
+        self.sums.sort_by_key(SumsEntry::key);
+    }
+
+    /// Adds the rows of one computed state and returns their CSV lines
+    /// (what a journal appends, in one write, so that the rows of a state
+    /// are kept together). The row kind follows `values`, which
+    /// [`TableSettings::compute`] of this table's settings makes.
+    pub fn add(&mut self, values: &StateValues) -> String {
+        match values {
+            StateValues::LnK0(c) => {
+                let row = Row::from_computed(c, self.settings.method);
+                let line = row.csv_line();
+                self.rows.push(row);
+                line
+            }
+            StateValues::Sums(c) => {
+                let entry = SumsEntry::from_computed(c, self.settings.method);
+                let lines = entry.csv_lines();
+                self.sums.push(entry);
+                lines
+            }
+        }
+    }
+
+    /// The number of states in the table.
+    pub fn state_count(&self) -> usize {
+        self.rows.len() + self.sums.len()
     }
 
     /// The CSV header (magic, provenance, settings, column line).
@@ -581,6 +904,9 @@ impl Table {
         let mut s = self.csv_header();
         for r in &self.rows {
             s.push_str(&r.csv_line());
+        }
+        for e in &self.sums {
+            s.push_str(&e.csv_lines());
         }
         s
     }
@@ -614,8 +940,13 @@ impl Table {
                 Err(_) => set.insert(k.into(), json!(v)),
             };
         }
+        if let Quantity::DipoleSums(ks) = &self.settings.quantity {
+            // the powers as integers
+            set.insert("k".into(), json!(ks));
+        }
         meta.insert("settings".into(), Value::Object(set));
-        let rows: Vec<Value> = self.rows.iter().map(Row::to_json).collect();
+        let mut rows: Vec<Value> = self.rows.iter().map(Row::to_json).collect();
+        rows.extend(self.sums.iter().flat_map(SumsEntry::to_json));
         let doc = json!({ "meta": Value::Object(meta), "rows": rows });
         let mut s = serde_json::to_string_pretty(&doc).unwrap_or_default();
         s.push('\n');
@@ -630,13 +961,19 @@ impl Table {
         }
     }
 
-    /// The set of (n, l) keys, with the first duplicate found if any.
+    /// The set of (n, l) keys (of the rows, or of the states of a
+    /// dipole-sum table), with the first duplicate found if any.
     pub fn keys(&self) -> (BTreeSet<Key>, Option<Key>) {
         let mut set = BTreeSet::new();
         let mut dup = None;
-        for r in &self.rows {
-            if !set.insert((r.n, r.l)) && dup.is_none() {
-                dup = Some((r.n, r.l));
+        let keys = self
+            .rows
+            .iter()
+            .map(Row::key)
+            .chain(self.sums.iter().map(SumsEntry::key));
+        for key in keys {
+            if !set.insert(key) && dup.is_none() {
+                dup = Some(key);
             }
         }
         (set, dup)
@@ -698,6 +1035,7 @@ pub(crate) mod tests {
             goal: Goal::Absolute,
             method: MethodChoice::Green,
             gauge: Gauge::Velocity,
+            quantity: Quantity::LnK0,
         }
     }
 
@@ -717,6 +1055,7 @@ pub(crate) mod tests {
                 seconds: "0.010".into(),
                 both: None,
             }],
+            sums: Vec::new(),
             torn_at: None,
         }
     }

@@ -1,11 +1,12 @@
 //! Reading and validating table files (CSV or JSON, told apart by content).
 
+use super::sums::{self, PowerRow, ReadLine, SumsEntry};
 use super::{
-    FormatProblem, Place, Row, Table, TableError, TableSettings, CHECK_COLUMN, FORMAT_VERSION,
-    JSON_FORMAT, MAGIC, PROV_KEYS,
+    row_check, FormatProblem, Place, Quantity, Row, Table, TableError, TableSettings, CHECK_COLUMN,
+    FORMAT_VERSION, JSON_FORMAT, MAGIC, PROV_KEYS,
 };
 use crate::method::MethodChoice;
-use crate::shard::Shard;
+use crate::shard::{Key, Shard};
 use kzero_bethe::Goal;
 use serde_json::Value;
 use std::fs;
@@ -178,6 +179,169 @@ fn json_row(v: &Value, settings: &TableSettings) -> Result<ReadRow, FormatProble
     .with_check(&text(CHECK_COLUMN)?))
 }
 
+/// A row of a dipole-sum table from its CSV fields (the shared fields of
+/// its state, its power row, the checksum).
+fn parse_sums_csv_row(line: &str, settings: &TableSettings) -> Result<ReadLine, FormatProblem> {
+    let f: Vec<&str> = line.split(',').collect();
+    let want = settings.columns().len();
+    if f.len() != want {
+        return Err(FormatProblem::FieldCount {
+            want,
+            found: f.len(),
+        });
+    }
+    let uint = |i: usize| -> Result<u32, FormatProblem> {
+        f[i].parse()
+            .map_err(|_| FormatProblem::NotInteger(f[i].to_string()))
+    };
+    let decimal = |i: usize| -> Result<String, FormatProblem> {
+        if is_number(f[i]) {
+            Ok(f[i].to_string())
+        } else {
+            Err(FormatProblem::NotNumber(f[i].to_string()))
+        }
+    };
+    let (n, l) = (uint(0)?, uint(1)?);
+    let k: i32 = f[2]
+        .parse()
+        .map_err(|_| FormatProblem::NotNumber(f[2].to_string()))?;
+    let ln_i = match (f[7], f[8]) {
+        ("", "") => None,
+        ("", _) | (_, "") => return Err(FormatProblem::LnIHalf { key: (n, l), k }),
+        _ => Some((decimal(7)?, decimal(8)?)),
+    };
+    let spectral = if settings.method == MethodChoice::Both {
+        Some([decimal(13)?, decimal(14)?, decimal(15)?, decimal(16)?])
+    } else {
+        None
+    };
+    Ok(ReadLine {
+        head: SumsEntry {
+            n,
+            l,
+            method: f[9]
+                .parse()
+                .map_err(|_| FormatProblem::NotMethod(f[9].to_string()))?,
+            digits: uint(10)?,
+            bits: uint(11)?,
+            seconds: decimal(12)?,
+            powers: Vec::new(),
+        },
+        row: PowerRow {
+            k,
+            s: decimal(3)?,
+            s_err: decimal(4)?,
+            log_sum: decimal(5)?,
+            log_err: decimal(6)?,
+            ln_i,
+            spectral,
+        },
+        check: f[want - 1].to_string(),
+    })
+}
+
+/// A row of a dipole-sum table from its JSON object.
+fn json_sums_row(v: &Value, settings: &TableSettings) -> Result<ReadLine, FormatProblem> {
+    let o = v.as_object().ok_or(FormatProblem::RowNotObject)?;
+    let int = |k: &'static str| -> Result<u32, FormatProblem> {
+        o.get(k)
+            .and_then(Value::as_u64)
+            .and_then(|x| u32::try_from(x).ok())
+            .ok_or(FormatProblem::RowFieldNotInteger(k))
+    };
+    let text = |k: &'static str| -> Result<String, FormatProblem> {
+        o.get(k)
+            .and_then(Value::as_str)
+            .map(str::to_string)
+            .ok_or(FormatProblem::RowFieldNotString(k))
+    };
+    let (n, l) = (int("n")?, int("l")?);
+    let k = o
+        .get("k")
+        .and_then(Value::as_i64)
+        .and_then(|x| i32::try_from(x).ok())
+        .ok_or(FormatProblem::RowFieldNotInteger("k"))?;
+    let ln_i = match (o.get("ln_I"), o.get("ln_I_err")) {
+        (Some(Value::Null), Some(Value::Null)) => None,
+        (Some(Value::Null), _) | (_, Some(Value::Null)) => {
+            return Err(FormatProblem::LnIHalf { key: (n, l), k })
+        }
+        _ => Some((text("ln_I")?, text("ln_I_err")?)),
+    };
+    let spectral = if settings.method == MethodChoice::Both {
+        Some([
+            text("S_spectral")?,
+            text("S_err_spectral")?,
+            text("L_spectral")?,
+            text("L_err_spectral")?,
+        ])
+    } else {
+        None
+    };
+    Ok(ReadLine {
+        head: SumsEntry {
+            n,
+            l,
+            method: text("method")?
+                .parse()
+                .map_err(|_| FormatProblem::RowMethod)?,
+            digits: int("digits")?,
+            bits: int("bits")?,
+            seconds: text("seconds")?,
+            powers: Vec::new(),
+        },
+        row: PowerRow {
+            k,
+            s: text("S")?,
+            s_err: text("S_err")?,
+            log_sum: text("L")?,
+            log_err: text("L_err")?,
+            ln_i,
+            spectral,
+        },
+        check: text(CHECK_COLUMN)?,
+    })
+}
+
+/// Checks a row of a dipole-sum table: its checksum, its place in the
+/// table's settings, its values, and its error estimates (those of S and L
+/// not negative and not above the goal; that of ln I not negative: ln I =
+/// L/S carries the errors of both divided by S, which the goal does not
+/// bound).
+fn check_sums_line(read: &ReadLine, settings: &TableSettings) -> Result<(), FormatProblem> {
+    let (h, p) = (&read.head, &read.row);
+    let key = read.key();
+    if row_check(&h.fields(p)) != read.check {
+        return Err(FormatProblem::RowChanged {
+            key,
+            found: read.check.clone(),
+        });
+    }
+    check_place(key, h.digits, h.method, settings)?;
+    for v in [&p.s, &p.log_sum, &h.seconds]
+        .into_iter()
+        .chain(p.ln_i.as_ref().map(|(v, _)| v))
+        .chain(p.spectral.iter().flat_map(|s| [&s[0], &s[2]]))
+    {
+        if !is_number(v) {
+            return Err(FormatProblem::NotNumber(v.clone()));
+        }
+    }
+    let mut errors = vec![
+        ("S_err", p.s_err.as_str(), p.s.as_str()),
+        ("L_err", p.log_err.as_str(), p.log_sum.as_str()),
+    ];
+    if let Some(s) = &p.spectral {
+        errors.push(("S_err_spectral", s[1].as_str(), s[0].as_str()));
+        errors.push(("L_err_spectral", s[3].as_str(), s[2].as_str()));
+    }
+    check_errors(key, h.digits, settings.goal, &errors)?;
+    if let Some((_, e)) = &p.ln_i {
+        error_value(key, "ln_I_err", e)?;
+    }
+    Ok(())
+}
+
 /// Checks a row read from a file: its checksum, its place in the table's
 /// settings, and its error estimates (not negative, not above the goal).
 fn check_row(read: &ReadRow, settings: &TableSettings) -> Result<(), FormatProblem> {
@@ -188,50 +352,75 @@ fn check_row(read: &ReadRow, settings: &TableSettings) -> Result<(), FormatProbl
             found: read.check.clone(),
         });
     }
-    if !settings.l.admits(r.n, r.l) || r.n < settings.n_min || r.n > settings.n_max {
-        return Err(FormatProblem::RowOutside(r.key()));
-    }
-    if r.digits != settings.digits || r.method != settings.method {
-        return Err(FormatProblem::RowSettings(r.key()));
-    }
+    check_place(r.key(), r.digits, r.method, settings)?;
     let mut errors = vec![("abs_err", r.abs_err.as_str(), r.ln_k0.as_str())];
     if let Some((v, e, _)) = &r.both {
         errors.push(("abs_err_spectral", e.as_str(), v.as_str()));
     }
+    check_errors(r.key(), r.digits, settings.goal, &errors)
+}
+
+/// A row's state selected by the settings, with their digits and method.
+fn check_place(
+    key: Key,
+    digits: u32,
+    method: MethodChoice,
+    settings: &TableSettings,
+) -> Result<(), FormatProblem> {
+    let (n, l) = key;
+    if !settings.l.admits(n, l) || n < settings.n_min || n > settings.n_max {
+        return Err(FormatProblem::RowOutside(key));
+    }
+    if digits != settings.digits || method != settings.method {
+        return Err(FormatProblem::RowSettings(key));
+    }
+    Ok(())
+}
+
+/// Checks error columns `(column, error text, value text)` of the row of
+/// `key`: each a finite number, not negative, not above the goal.
+fn check_errors(
+    key: Key,
+    digits: u32,
+    goal: Goal,
+    errors: &[(&'static str, &str, &str)],
+) -> Result<(), FormatProblem> {
     // The goal: |error| < 10^-digits (absolute) or <= 10^-digits |value|
     // (significant). The printed error is rounded up to two digits and
     // covers the rounding of the printed value, which can lift it to 1.1
     // times the goal, not beyond.
-    let unit: f64 = format!("1.1e-{}", r.digits).parse().unwrap_or(0.0);
-    for (column, text, value_text) in errors {
-        let bound = match settings.goal {
+    let unit: f64 = format!("1.1e-{digits}").parse().unwrap_or(0.0);
+    for &(column, text, value_text) in errors {
+        let bound = match goal {
             Goal::Significant => unit * value_text.parse::<f64>().unwrap_or(0.0).abs(),
             _ => unit,
         };
-        let value = text.to_string();
-        let e: f64 = text
-            .parse()
-            .map_err(|_| FormatProblem::NotNumber(value.clone()))?;
-        if !e.is_finite() {
-            return Err(FormatProblem::NotNumber(value));
-        }
-        if e < 0.0 || text.starts_with('-') {
-            return Err(FormatProblem::RowErrorNegative {
-                key: r.key(),
-                column,
-                value,
-            });
-        }
-        if e > bound {
+        if error_value(key, column, text)? > bound {
             return Err(FormatProblem::RowErrorAboveGoal {
-                key: r.key(),
+                key,
                 column,
-                value,
-                digits: r.digits,
+                value: text.to_string(),
+                digits,
             });
         }
     }
     Ok(())
+}
+
+/// The error estimate `text` of column `column`: a finite number, not
+/// negative.
+fn error_value(key: Key, column: &'static str, text: &str) -> Result<f64, FormatProblem> {
+    let value = text.to_string();
+    let e: f64 = text
+        .parse()
+        .map_err(|_| FormatProblem::NotNumber(value.clone()))?;
+    if !e.is_finite() {
+        return Err(FormatProblem::NotNumber(value));
+    }
+    if e < 0.0 || text.starts_with('-') {
+        return Err(FormatProblem::RowErrorNegative { key, column, value });
+    }
+    Ok(e)
 }
 
 /// A parsed row that also passes `check_row`; either error is placed at
@@ -248,6 +437,22 @@ fn checked_row(
     let r = parsed.map_err(at)?;
     check_row(&r, settings).map_err(at)?;
     Ok(r.row)
+}
+
+/// A parsed row of a dipole-sum table that also passes `check_sums_line`;
+/// either error is placed at `place`.
+fn checked_line(
+    parsed: Result<ReadLine, FormatProblem>,
+    settings: &TableSettings,
+    place: Place,
+) -> Result<ReadLine, ParseError> {
+    let at = |problem| ParseError {
+        place: Some(place),
+        problem,
+    };
+    let r = parsed.map_err(at)?;
+    check_sums_line(&r, settings).map_err(at)?;
+    Ok(r)
 }
 
 /// The shard named by the `shard` provenance entry (an empty text when it
@@ -297,8 +502,13 @@ fn parse_csv(text: &str) -> Result<Table, ParseError> {
     let mut sets: Vec<(String, String)> = Vec::new();
     let mut columns: Option<&str> = None;
     let mut rows_raw: Vec<(usize, &str)> = Vec::new();
+    // offset of the last comment line after the column line
+    let mut last_comment = 0usize;
     for (o, line) in lines {
         if let Some(c) = line.strip_prefix('#') {
+            if columns.is_some() {
+                last_comment = o;
+            }
             let c = c.trim_start();
             let (k, v) = c.split_once(':').unwrap_or((c, ""));
             let (k, v) = (k.trim().to_string(), v.trim().to_string());
@@ -333,17 +543,50 @@ fn parse_csv(text: &str) -> Result<Table, ParseError> {
         }
     }
     let shard = shard_of(&prov)?;
-    let mut rows = Vec::with_capacity(rows_raw.len());
-    for (o, line) in rows_raw {
-        let lineno = text[..o].matches('\n').count() + 1;
-        let r = parse_csv_row(line, &settings);
-        rows.push(checked_row(r, &settings, Place::Line(lineno))?);
+    let line_of = |o: usize| Place::Line(text[..o].matches('\n').count() + 1);
+    let mut rows = Vec::new();
+    let mut lines_read = Vec::new();
+    for &(o, line) in &rows_raw {
+        if settings.quantity == Quantity::LnK0 {
+            let r = parse_csv_row(line, &settings);
+            rows.push(checked_row(r, &settings, line_of(o))?);
+        } else {
+            let r = parse_sums_csv_row(line, &settings);
+            lines_read.push(checked_line(r, &settings, line_of(o))?);
+        }
+    }
+    let mut sums = Vec::new();
+    if let Quantity::DipoleSums(ks) = &settings.quantity {
+        let at = |i: usize, problem| ParseError {
+            place: Some(line_of(rows_raw[i].0)),
+            problem,
+        };
+        let keys: Vec<Key> = lines_read.iter().map(ReadLine::key).collect();
+        let (entries, cut) = sums::group(lines_read, ks).map_err(|(i, p)| at(i, p))?;
+        if let Some(i) = cut {
+            // The last state of an interrupted run's journal, cut short: the
+            // file is valid up to its first row. Only at the very end.
+            let start = rows_raw[i].0;
+            if last_comment > start {
+                return Err(at(
+                    i,
+                    FormatProblem::StatePowers {
+                        key: keys[i],
+                        found: "fewer rows".into(),
+                        want: sums::render_powers(ks),
+                    },
+                ));
+            }
+            torn_at = Some(start as u64);
+        }
+        sums = entries;
     }
     Ok(Table {
         prov,
         settings,
         shard,
         rows,
+        sums,
         torn_at,
     })
 }
@@ -375,6 +618,8 @@ fn parse_json(text: &str) -> Result<Table, ParseError> {
     let settings = TableSettings::from_lookup(&|k| {
         set.get(k).map(|v| match v {
             Value::String(s) => s.clone(),
+            // the powers k of a dipole-sum table, as in the CSV setting
+            Value::Array(a) => a.iter().map(Value::to_string).collect::<Vec<_>>().join(","),
             other => other.to_string(),
         })
     })?;
@@ -410,16 +655,44 @@ fn parse_json(text: &str) -> Result<Table, ParseError> {
         .get("rows")
         .and_then(Value::as_array)
         .ok_or(FormatProblem::NoRows)?;
-    let mut rows = Vec::with_capacity(rows_v.len());
+    let mut rows = Vec::new();
+    let mut lines_read = Vec::new();
     for (i, v) in rows_v.iter().enumerate() {
-        let r = json_row(v, &settings);
-        rows.push(checked_row(r, &settings, Place::Row(i + 1))?);
+        if settings.quantity == Quantity::LnK0 {
+            let r = json_row(v, &settings);
+            rows.push(checked_row(r, &settings, Place::Row(i + 1))?);
+        } else {
+            let r = json_sums_row(v, &settings);
+            lines_read.push(checked_line(r, &settings, Place::Row(i + 1))?);
+        }
+    }
+    let mut sums = Vec::new();
+    if let Quantity::DipoleSums(ks) = &settings.quantity {
+        let keys: Vec<Key> = lines_read.iter().map(ReadLine::key).collect();
+        let at = |i: usize, problem| ParseError {
+            place: Some(Place::Row(i + 1)),
+            problem,
+        };
+        let (entries, cut) = sums::group(lines_read, ks).map_err(|(i, p)| at(i, p))?;
+        if let Some(i) = cut {
+            // a JSON table is written whole: a state cut short is damage
+            return Err(at(
+                i,
+                FormatProblem::StatePowers {
+                    key: keys[i],
+                    found: "fewer rows".into(),
+                    want: sums::render_powers(ks),
+                },
+            ));
+        }
+        sums = entries;
     }
     Ok(Table {
         prov,
         settings,
         shard,
         rows,
+        sums,
         torn_at: None,
     })
 }
