@@ -73,6 +73,11 @@
 //! moved to N1 + 4 and a 1000 times smaller truncation threshold; the
 //! reported `abs_err` is the larger of the two runs' difference and the
 //! second run's own estimates plus a rounding bound (sum |terms| 2^(12-b)).
+//! A vector of sums (one run for several weights, see `vector`) may run
+//! the tail and the continuum at fewer bits than the bound part, when the
+//! caller knows their sizes over the goals to be that much smaller (the
+//! dipole-sum family); their roundings then count at that precision in the
+//! bound above. ln k0 and the sum rules run everything at b bits.
 //! If it does not meet the goal, both runs are repeated with more bits,
 //! orders and levels (three attempts in all), then
 //! [`BetheError::NoConvergence`] is returned. Working precision inside the
@@ -88,6 +93,7 @@
 
 pub(crate) mod quadrature;
 pub(crate) mod tail;
+pub(crate) mod vector;
 
 use crate::error::BetheError;
 use crate::settings::{meet_significant, significant_loop, validate_state, Goal, Settings};
@@ -100,8 +106,9 @@ use kzero_basis::BoundState;
 use rug::ops::Pow;
 use rug::{Assign, Float, Rational};
 use std::time::Instant;
+use vector::{vector_sum, Component, Plan};
 
-const METHOD: &str = "spectral";
+pub(crate) const METHOD: &str = "spectral";
 
 /// Largest n whose bound terms use exact rational matrix elements in the
 /// velocity and acceleration forms (direct exact integration); above, the
@@ -219,263 +226,16 @@ pub(crate) fn pow_rat(d: &Rational, k: i32) -> Rational {
     r
 }
 
-/// Weight F(D) at `prec` bits (Z = 1: ln(2|D|)).
-fn weight_f(weight: SpectralWeight, d: &Float, prec: u32) -> Float {
-    match weight {
-        SpectralWeight::Power(k) => {
-            let mut r = Float::with_val(prec, 1);
-            for _ in 0..k.unsigned_abs() {
-                r *= d;
-            }
-            if k < 0 {
-                r.recip_mut();
-            }
-            r
-        }
-        SpectralWeight::BetheLog => {
-            let ad = Float::with_val(prec, d.abs_ref()) * 2u32;
-            Float::with_val(prec, d * ad.ln())
-        }
-    }
-}
-
-fn weight_f_exact(weight: SpectralWeight, d: &Rational, prec: u32) -> Float {
-    match weight {
-        SpectralWeight::Power(k) => Float::with_val(prec, &pow_rat(d, k)),
-        SpectralWeight::BetheLog => {
-            let ad = Float::with_val(prec, &(Rational::from(d.abs_ref()) * 2u32));
-            Float::with_val(prec, d) * ad.ln()
-        }
-    }
-}
-
-/// Numerical settings of one run.
-#[derive(Debug, Clone, Copy)]
-struct RunParams {
-    bits: u32,
-    min_level: u32,
-    n1: u32,
-    cheb: usize,
-    cheb2: usize,
-    goal: f64,
-    /// Truncation threshold of the quadrature, relative to `goal`.
-    trunc: f64,
-}
-
-struct RunResult {
-    value: Float,
-    bound: Float,
-    tail: Float,
-    cont: Float,
-    est: f64,
-    abs_sum: f64,
-    level: u32,
-    nodes: usize,
-    terms: usize,
-}
-
-/// Everything fixed for one spectral sum: the state, the dipole form, the
-/// weight F(D), the bound-free kernels of the open channels with their
-/// angular weights, and how the bound terms are computed.
-struct SpectralSumSetup {
-    state: BoundState,
-    form: DipoleForm,
-    weight: SpectralWeight,
-    kernels: Vec<(BoundFreeKernel, Rational)>,
-    /// One loss hint per kernel, carried from each evaluation of that kernel
-    /// to the next within this sum only (see
-    /// [`kzero_basis::continuum::LossHint`]): the sum's evaluations run in a
-    /// fixed order, so its results do not depend on anything else.
-    loss_hints: Vec<LossHint>,
-    /// Bound terms from the MPFR closed form instead of exact rationals.
-    closed_form_bound: bool,
-    /// Scale of the continuum map k = 2^map_exp kappa tan(phi) (per form).
-    map_exp: i32,
-}
-
 /// The discretization of one form: the exponent e of the continuum map
 /// k = 2^e kappa tan(phi) and the offset of the split point N1. Each form
 /// places its quadrature nodes, its exact bound terms and its tail
 /// interpolation differently, so the three forms share no discretization
 /// error and their agreement tests the error estimates, not only rounding.
-fn form_discretization(form: DipoleForm) -> (i32, u32) {
+pub(crate) fn form_discretization(form: DipoleForm) -> (i32, u32) {
     match form {
         DipoleForm::Velocity => (0, 0),
         DipoleForm::Length => (1, 2),
         DipoleForm::Acceleration => (-1, 5),
-    }
-}
-
-impl SpectralSumSetup {
-    fn shift(&self) -> i32 {
-        self.form.velocity_power_shift()
-    }
-
-    /// G(w) of the tail at w = 1/nu^2: sum_L w_L I_b(nu)^2 D^shift F(D).
-    fn tail_density(&mut self, u: &Float, a: u32, prec: u32) -> Result<Float, BetheError> {
-        // w = u / a^2, nu = a / sqrt(u)
-        let nu = Float::with_val(prec, a) / Float::with_val(prec, u.sqrt_ref());
-        let n = self.state.n();
-        let w = Float::with_val(prec, u / (a * a));
-        let d = (Float::with_val(prec, Rational::from((1, n * n))) - &w) / 2u32;
-        let mut dens = Float::with_val(prec, 0);
-        for ((k, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
-            let v = k.bound_continued_hinted(&nu, prec, hint)?;
-            dens += Float::with_val(prec, v.value.square_ref()) * wl;
-        }
-        dens *= pow_float(&d, self.shift(), prec);
-        Ok(dens * weight_f(self.weight, &d, prec))
-    }
-
-    /// Continuum integrand per dphi at a node: sum_L w_L I_c^2 D^shift F(D) dE/dphi,
-    /// with k = s tan(phi), s = 2^map_exp kappa: D = (k^2 + kappa^2)/2 and
-    /// dE/dphi = s^2 sin(phi) / cos(phi)^3.
-    fn cont_integrand(&mut self, sin: &Float, cos: &Float, prec: u32) -> Result<Float, BetheError> {
-        let kap = Float::with_val(prec, &self.state.kappa());
-        let mut sc = kap.clone();
-        sc <<= self.map_exp;
-        let k = Float::with_val(prec, &sc * sin) / cos;
-        let c2 = Float::with_val(prec, cos * cos);
-        let kap2 = Float::with_val(prec, &kap * &kap);
-        let k2 = Float::with_val(prec, &k * &k);
-        let d = Float::with_val(prec, &kap2 + &k2) / 2u32;
-        let sc2 = Float::with_val(prec, &sc * &sc);
-        let de = Float::with_val(prec, &sc2 * sin) / &c2 / cos;
-        let mut dens = Float::with_val(prec, 0);
-        for ((kern, wl), hint) in self.kernels.iter().zip(&mut self.loss_hints) {
-            let v = kern.continuum_k_hinted(&k, prec, hint)?;
-            dens += Float::with_val(prec, v.value.square_ref()) * wl;
-        }
-        dens *= pow_float(&d, self.shift(), prec);
-        dens *= weight_f(self.weight, &d, prec);
-        Ok(dens * de)
-    }
-
-    fn run(&mut self, p: &RunParams, exact: &[ExactTerm]) -> Result<RunResult, BetheError> {
-        let b = p.bits;
-        // bound part
-        let mut bound = Float::with_val(b, 0);
-        let mut abs_sum = 0.0f64;
-        for t in exact {
-            let v = Float::with_val(b, &t.coef) * weight_f_exact(self.weight, &t.d, b);
-            abs_sum += v.to_f64().abs();
-            bound += v;
-        }
-        let mut closed_terms = 0;
-        if self.closed_form_bound {
-            let weight = self.weight;
-            let shift = self.shift();
-            closed_terms = closed_form_bound_terms(
-                &self.kernels,
-                &mut self.loss_hints,
-                &self.state,
-                shift,
-                p.n1,
-                b,
-                |mut v, d| {
-                    v *= weight_f(weight, d, b);
-                    abs_sum += v.to_f64().abs();
-                    bound += v;
-                },
-            )?;
-        }
-        // tail
-        let a = p.n1 + 1;
-        let mut tails = Vec::new();
-        let mut tail_terms = 0;
-        for kk in [p.cheb, p.cheb2] {
-            let us = tail::nodes(kk, b);
-            let mut vals = Vec::with_capacity(kk);
-            for u in &us {
-                vals.push(self.tail_density(u, a, b)?);
-            }
-            tail_terms += kk;
-            let c = tail::coefficients(&vals, b);
-            tails.push(tail::sum(&c, a, b));
-        }
-        let tail_est = Float::with_val(53, &tails[1] - &tails[0]).abs().to_f64();
-        let tail = tails.pop().expect("two tails");
-        abs_sum += tail.to_f64().abs();
-        // continuum
-        // truncation: walk out in steps of 1/4 until the weighted integrand
-        // is below the truncation threshold on each side (the neglected
-        // remainder is of the size of the last term: the weights fall
-        // doubly exponentially)
-        let eps = p.goal * p.trunc;
-        let mut ends = [0.0f64; 2];
-        for (side, sign) in [(0usize, -1.0f64), (1, 1.0)] {
-            let mut t = 2.0f64;
-            loop {
-                let tau = Float::with_val(b, t * sign);
-                let nd = quadrature::node(&tau, b);
-                let f = self.cont_integrand(&nd.sin, &nd.cos, b)?;
-                let wf = Float::with_val(53, &f * &nd.weight).abs().to_f64();
-                if wf < eps {
-                    break;
-                }
-                t += 0.25;
-                if t > 7.0 {
-                    return Err(BetheError::NoConvergence {
-                        method: METHOD,
-                        n: self.state.n(),
-                        l: self.state.l(),
-                        achieved: wf,
-                        goal: p.goal,
-                    });
-                }
-            }
-            ends[side] = t * sign;
-        }
-        let (tlo, thi) = (ends[0], ends[1]);
-        let mut sums: Vec<Float> = Vec::new();
-        let mut acc = Float::with_val(b, 0); // sum of w f over all nodes so far
-        let mut abs_acc = 0.0f64;
-        let mut nodes = 0usize;
-        let mut level = 0u32;
-        let mut cont_est = f64::INFINITY;
-        loop {
-            for (i, den) in quadrature::level_taus(level, tlo, thi) {
-                let tau = Float::with_val(b, i) / den as u32;
-                let nd = quadrature::node(&tau, b);
-                let f = self.cont_integrand(&nd.sin, &nd.cos, b)?;
-                let wf = f * &nd.weight;
-                abs_acc = abs_acc.max(wf.to_f64().abs());
-                acc += wf;
-                nodes += 1;
-            }
-            let h = Float::with_val(b, Float::i_exp(1, -(level as i32)));
-            sums.push(Float::with_val(b, &acc * &h));
-            if sums.len() >= 2 {
-                let m = sums.len();
-                cont_est = Float::with_val(53, &sums[m - 1] - &sums[m - 2])
-                    .abs()
-                    .to_f64();
-                if level >= p.min_level && cont_est < p.goal * 0.25 {
-                    break;
-                }
-            }
-            level += 1;
-            if level > 9 {
-                break;
-            }
-        }
-        let cont = sums.pop().expect("a level");
-        abs_sum += abs_acc * 4.0 + cont.to_f64().abs();
-        let mut value = Float::with_val(b, &bound + &tail);
-        value += &cont;
-        let rounding = abs_sum * f64::from(b as i32 - 12).exp2().recip();
-        Ok(RunResult {
-            value,
-            bound,
-            tail,
-            cont,
-            // the truncated ends are bounded by eps each (doubly exponential decay)
-            est: tail_est + cont_est + rounding + 2.0 * eps,
-            abs_sum,
-            level,
-            nodes,
-            terms: exact.len() + closed_terms + tail_terms,
-        })
     }
 }
 
@@ -579,96 +339,33 @@ fn sum_with_goal(
     goal: f64,
 ) -> Result<SpectralSum, BetheError> {
     let (n, l) = validate_state(n, l, METHOD)?;
-    let state = BoundState::hydrogen(i64::from(n), i64::from(l))?;
-    let form = form_of(gauge);
-    let mut kernels = Vec::new();
-    for ch in Channel::open(l) {
-        kernels.push((BoundFreeKernel::new(&state, ch, form)?, ch.weight(l)));
-    }
-    let (map_exp, split_offset) = form_discretization(form);
-    let loss_hints = vec![LossHint::new(); kernels.len()];
-    let mut setup = SpectralSumSetup {
-        state,
-        form,
-        weight,
-        kernels,
-        loss_hints,
-        closed_form_bound: n > EXACT_MAX_N && form != DipoleForm::Length,
-        map_exp,
+    let (j, log) = match weight {
+        SpectralWeight::Power(k) => (k, false),
+        SpectralWeight::BetheLog => (1, true),
     };
-    let n1 = split_point(n) + split_offset;
-    let (exact, extra) = if setup.closed_form_bound {
-        (Vec::new(), Vec::new())
-    } else {
-        (
-            exact_terms(&setup.state, form, 1, n1)?,
-            exact_terms(&setup.state, form, n1 + 1, n1 + 4)?,
-        )
-    };
-    let digits_bits = -goal.log2();
-    let mut bits = ((digits_bits + 32.0).ceil() as u32).max(64);
-    let mut cheb = cheb_order(n, n1 + 1, digits_bits + 8.0);
-    let mut min_level = 2u32;
-    let mut best = f64::INFINITY;
-    for _attempt in 0..3 {
-        let p1 = RunParams {
-            bits,
-            min_level,
-            n1,
-            cheb,
-            cheb2: cheb + 3.max(cheb / 4),
-            goal,
-            trunc: 1e-3,
-        };
-        let r1 = setup.run(&p1, &exact)?;
-        // measured cancellation: bits needed beyond the goal
-        let need = (r1.abs_sum / goal).log2().max(0.0) + 24.0;
-        let bits2 = (bits + 32).max(need.ceil() as u32 + 8);
-        let mut exact2: Vec<ExactTerm> = Vec::with_capacity(exact.len() + extra.len());
-        exact2.extend(exact.iter().map(|t| ExactTerm {
-            coef: t.coef.clone(),
-            d: t.d.clone(),
-        }));
-        exact2.extend(extra.iter().map(|t| ExactTerm {
-            coef: t.coef.clone(),
-            d: t.d.clone(),
-        }));
-        let c2 = cheb_order(n, n1 + 5, f64::from(bits2) - 24.0).max(cheb + 4);
-        let p2 = RunParams {
-            bits: bits2,
-            min_level: r1.level,
-            n1: n1 + 4,
-            cheb: c2,
-            cheb2: c2 + 3.max(c2 / 4),
-            goal,
-            trunc: 1e-6,
-        };
-        let r2 = setup.run(&p2, &exact2)?;
-        let diff = Float::with_val(53, &r1.value - &r2.value).abs().to_f64();
-        let err = diff.max(r2.est);
-        if err < goal {
-            return Ok(SpectralSum {
-                value: r2.value,
-                abs_err: err,
-                bound: r2.bound,
-                tail: r2.tail,
-                continuum: r2.cont,
-                bits: bits2,
-                nodes: r2.nodes,
-                terms: r2.terms,
-            });
-        }
-        best = best.min(err);
-        bits = bits2 + 32;
-        cheb = c2 + 8;
-        min_level = r2.level + 1;
-    }
-    Err(BetheError::NoConvergence {
-        method: METHOD,
-        n,
-        l,
-        achieved: best,
+    let comp = Component {
+        j,
+        log,
         goal,
+        scale: 1.0,
+    };
+    // a sum of order one: the goal sets the bits
+    let bits = -goal.log2();
+    let plan = Plan {
+        bits,
+        tail_bits: bits,
+    };
+    let mut v = vector_sum(n, l, gauge, &[comp], plan)?;
+    let one = |x: &mut Vec<Float>| x.pop().expect("one component");
+    Ok(SpectralSum {
+        value: one(&mut v.values),
+        abs_err: v.errs[0],
+        bound: one(&mut v.bound),
+        tail: one(&mut v.tail),
+        continuum: one(&mut v.continuum),
+        bits: v.bits,
+        nodes: v.nodes,
+        terms: v.terms,
     })
 }
 

@@ -1,14 +1,26 @@
 //! The Rydberg tail sum_{n' >= a} n'^-3 G(1/n'^2) for a function G analytic
 //! on [0, 1/a^2] (and beyond, up to its singularity at 1/n^2).
 //!
-//! G is interpolated at K Chebyshev points of u = a^2 w in [0, 1]; the
-//! interpolant is converted to powers of u (at raised precision, the
-//! conversion magnifies rounding by at most about 6^K) and summed exactly
-//! term by term: sum_{n' >= a} n'^-3 (a^2/n'^2)^m = a^(2m) zeta(3+2m, a),
-//! with the Hurwitz zeta function from zeta(3+2m) minus a finite sum at a
-//! precision raised by the (3+2m) log2(a) bits that subtraction cancels.
+//! G is interpolated at K Chebyshev points u_i of u = a^2 w in [0, 1], and
+//! the interpolant p is summed exactly. Since p depends linearly on the
+//! values G(u_i), so does its sum:
+//!
+//! ```text
+//! sum_{n' >= a} n'^-3 p(a^2/n'^2) = sum_i W_i G(u_i),
+//! W_i = (2/K) sum_j' cos(pi (2i+1) j / (2K)) S_j,   S_j = sum_{n' >= a} n'^-3 T_j(2 a^2/n'^2 - 1)
+//! ```
+//!
+//! (j < K, the j = 0 term halved). The weights W_i depend on K, a and the
+//! precision only, so every function summed at the same points costs one
+//! dot product. S_j is summed exactly term by term in powers of u:
+//! sum_{n' >= a} n'^-3 (a^2/n'^2)^m = a^(2m) zeta(3+2m, a), with the Hurwitz
+//! zeta function from zeta(3+2m) minus a finite sum at a precision raised by
+//! the (3+2m) log2(a) bits that subtraction cancels; the integer coefficients
+//! of T_j(2u - 1) in powers of u grow like 6^j, and S_j is formed with
+//! 3K + 32 guard bits against that cancellation.
 
 use rug::float::Constant;
+use rug::ops::Pow;
 use rug::{Float, Integer};
 
 /// Chebyshev points u_i = (1 + cos(pi (i + 1/2)/K))/2 in (0, 1).
@@ -22,71 +34,15 @@ pub(crate) fn nodes(k: usize, prec: u32) -> Vec<Float> {
         .collect()
 }
 
-/// Chebyshev coefficients c_j (j < K) of the interpolant through `values`
-/// at [`nodes`], in the convention p(u) = sum_j c_j T_j(2u - 1) with c_0
-/// already halved.
-pub(crate) fn coefficients(values: &[Float], prec: u32) -> Vec<Float> {
-    let k = values.len();
-    let pi = Float::with_val(prec, Constant::Pi);
-    let mut c = Vec::with_capacity(k);
-    for j in 0..k {
-        let mut s = Float::with_val(prec, 0);
-        for (i, v) in values.iter().enumerate() {
-            let th = Float::with_val(prec, &pi * ((2 * i + 1) * j) as u32) / (2 * k) as u32;
-            s += th.cos() * v;
-        }
-        s *= 2u32;
-        s /= k as u32;
-        if j == 0 {
-            s /= 2u32;
-        }
-        c.push(s);
-    }
-    c
-}
-
-/// [`coefficients`] for several value sets at the same nodes: the cosines
-/// are computed once.
-pub(crate) fn coefficients_many(values: &[Vec<Float>], prec: u32) -> Vec<Vec<Float>> {
-    let k = values.iter().map(Vec::len).max().unwrap_or(0);
-    let pi = Float::with_val(prec, Constant::Pi);
-    // cos(pi (2i+1) j / (2K)) depends on (2i+1) j mod 4K
-    let table: Vec<Float> = (0..4 * k)
-        .map(|r| (Float::with_val(prec, &pi * r as u32) / (2 * k) as u32).cos())
-        .collect();
-    values
-        .iter()
-        .map(|vals| {
-            (0..k)
-                .map(|j| {
-                    let mut s = Float::with_val(prec, 0);
-                    for (i, v) in vals.iter().enumerate() {
-                        s += Float::with_val(prec, &table[((2 * i + 1) * j) % (4 * k)] * v);
-                    }
-                    s *= 2u32;
-                    s /= k as u32;
-                    if j == 0 {
-                        s /= 2u32;
-                    }
-                    s
-                })
-                .collect()
-        })
-        .collect()
-}
-
-/// sum_{n' >= a} n'^-3 p(a^2/n'^2) for the interpolant p with Chebyshev
-/// coefficients `cheb` (see [`coefficients`]), at `prec` bits.
-pub(crate) fn sum(cheb: &[Float], a: u32, prec: u32) -> Float {
-    sum_many(&[cheb], a, prec).pop().expect("one sum")
-}
-
-/// [`sum`] for several interpolants with the same number of coefficients:
-/// the Hurwitz zeta values, the expensive part, are computed once.
-pub(crate) fn sum_many(chebs: &[&[Float]], a: u32, prec: u32) -> Vec<Float> {
-    let k = chebs.iter().map(|c| c.len()).max().unwrap_or(0);
-    let guard = 3 * k as u32 + 32;
-    let hp = prec + guard;
+/// The weights W_i (i < `k`) of the tail sum from n' = `a` on for values at
+/// [`nodes`]`(k)`, at `prec` bits: sum_i W_i G(u_i) is the exact sum of the
+/// degree k - 1 interpolant of G.
+///
+/// # Accuracy
+/// Each W_i is rounded once to `prec` bits (the sums behind it run at
+/// 3k + 32 bits more).
+pub(crate) fn weights(k: usize, a: u32, prec: u32) -> Vec<Float> {
+    let hp = prec + 3 * k as u32 + 32;
     // a^(2m) zeta(3 + 2m, a), m < k
     let log2a = f64::from(a).log2();
     let zetas: Vec<Float> = (0..k)
@@ -101,33 +57,19 @@ pub(crate) fn sum_many(chebs: &[&[Float]], a: u32, prec: u32) -> Vec<Float> {
             z
         })
         .collect();
-    chebs
-        .iter()
-        .map(|cheb| {
-            let mut total = Float::with_val(hp, 0);
-            for (pm, z) in monomials(cheb, hp).iter().zip(&zetas) {
-                total += Float::with_val(hp, pm * z);
-            }
-            Float::with_val(prec, total)
-        })
-        .collect()
-}
-
-/// The interpolant in powers of u (at `hp` bits): the integer coefficients
-/// of T_j(2u - 1) times the Chebyshev coefficients.
-fn monomials(cheb: &[Float], hp: u32) -> Vec<Float> {
-    let k = cheb.len();
-    let mut monos = vec![Float::with_val(hp, 0); k];
+    // S_j from the integer coefficients of T_j(2u - 1) in powers of u:
+    // T_0 = 1, T_1 = 2u - 1, T_(j+1) = 2 (2u - 1) T_j - T_(j-1)
+    let mut s = Vec::with_capacity(k);
     let mut tm1: Vec<Integer> = vec![Integer::from(1)];
     let mut t: Vec<Integer> = vec![Integer::from(-1), Integer::from(2)];
-    for (j, cj) in cheb.iter().enumerate() {
-        let row: &Vec<Integer> = if j == 0 { &tm1 } else { &t };
-        let cj = Float::with_val(hp, cj);
-        for (m, coef) in row.iter().enumerate() {
-            monos[m] += Float::with_val(hp, &cj * coef);
+    for j in 0..k {
+        let row = if j == 0 { &tm1 } else { &t };
+        let mut sj = Float::with_val(hp, 0);
+        for (coef, z) in row.iter().zip(&zetas) {
+            sj += Float::with_val(hp, z * coef);
         }
+        s.push(sj);
         if j >= 1 {
-            // T_{j+1} = 2 (2u - 1) T_j - T_{j-1}
             let mut next = vec![Integer::new(); t.len() + 1];
             for (m, c) in t.iter().enumerate() {
                 next[m + 1] += Integer::from(c * 4u32);
@@ -139,40 +81,66 @@ fn monomials(cheb: &[Float], hp: u32) -> Vec<Float> {
             tm1 = std::mem::replace(&mut t, next);
         }
     }
-    monos
+    // cos(pi (2i+1) j / (2K)) depends on (2i+1) j mod 4K
+    let pi = Float::with_val(hp, Constant::Pi);
+    let table: Vec<Float> = (0..4 * k)
+        .map(|r| (Float::with_val(hp, &pi * r as u32) / (2 * k) as u32).cos())
+        .collect();
+    (0..k)
+        .map(|i| {
+            let mut w = Float::with_val(hp, &s[0] / 2u32);
+            for (j, sj) in s.iter().enumerate().skip(1) {
+                w += Float::with_val(hp, &table[((2 * i + 1) * j) % (4 * k)] * sj);
+            }
+            w *= 2u32;
+            w /= k as u32;
+            Float::with_val(prec, w)
+        })
+        .collect()
 }
 
-use rug::ops::Pow;
+/// sum_i W_i G(u_i) at `prec` bits: the tail sum of the interpolant through
+/// `values` (at [`nodes`]), with the [`weights`] of the same K.
+pub(crate) fn sum(weights: &[Float], values: &[Float], prec: u32) -> Float {
+    let mut total = Float::with_val(prec, 0);
+    for (w, v) in weights.iter().zip(values) {
+        total += Float::with_val(prec, w * v);
+    }
+    total
+}
 
 #[cfg(test)]
 mod tests {
     use super::*;
 
-    /// sum_{n >= a} n^-3 / (1 - 1/n^2) = sum 1/((n-1) n (n+1)) telescopes to
-    /// 1/(2 a (a-1)) (common practice): the interpolated, zeta-summed tail must
-    /// reproduce it to the interpolation accuracy.
+    /// Two tails in closed form (common practice, by partial fractions):
+    /// n^-3 / (1 - 1/n^2) = 1/((n-1) n (n+1)) telescopes to 1/(2 a (a-1)),
+    /// and n^-3 / (1 - 1/n^2)^2 = n/(n^2 - 1)^2 = (1/(n-1)^2 - 1/(n+1)^2)/4
+    /// to (1/(a-1)^2 + 1/a^2)/4. The weighted sums of the values at the
+    /// Chebyshev points must reproduce them to the interpolation accuracy.
     #[test]
-    fn telescoping_tail() {
+    fn telescoping_tails() {
         let prec = 256;
         for a in [2u32, 5, 40] {
             let k = 60;
+            let w = weights(k, a, prec);
             let a2 = Float::with_val(prec, a * a);
-            let vals: Vec<Float> = nodes(k, prec)
+            let us = nodes(k, prec);
+            let g1: Vec<Float> = us
                 .iter()
-                .map(|u| {
-                    let w = Float::with_val(prec, u / &a2);
-                    (Float::with_val(prec, 1) - w).recip()
-                })
+                .map(|u| (Float::with_val(prec, 1) - Float::with_val(prec, u / &a2)).recip())
                 .collect();
-            let c = coefficients(&vals, prec);
-            let many = coefficients_many(std::slice::from_ref(&vals), prec);
-            for (x, y) in c.iter().zip(&many[0]) {
-                assert!(Float::with_val(prec, x - y).abs() < 1e-60, "cosine table");
+            let g2: Vec<Float> = g1.iter().map(|g| Float::with_val(prec, g * g)).collect();
+            let want1 = Float::with_val(prec, 1) / (2 * a * (a - 1));
+            let am1 = Float::with_val(prec, a - 1);
+            let want2 = (Float::with_val(prec, &am1 * &am1).recip()
+                + Float::with_val(prec, &a2).recip())
+                / 4u32;
+            for (g, want) in [(g1, want1), (g2, want2)] {
+                let got = sum(&w, &g, prec);
+                let rel = Float::with_val(prec, &got - &want).abs() / &want;
+                assert!(rel < 1e-30, "a = {a}: {got} vs {want}");
             }
-            let got = sum(&c, a, prec);
-            let want = Float::with_val(prec, 1) / (2 * a * (a - 1));
-            let rel = Float::with_val(prec, &got - &want).abs() / &want;
-            assert!(rel < 1e-30, "a = {a}: {got} vs {want}");
         }
     }
 }

@@ -295,7 +295,7 @@ pub fn spectral_sums(
     for &k in &ks {
         let f = factor(k).to_f64();
         for log in [false, true] {
-            comps.push(spectral::Component {
+            comps.push(crate::spectral::vector::Component {
                 j: k - 1,
                 log,
                 goal: goal * 0.5 / f,
@@ -303,7 +303,7 @@ pub fn spectral_sums(
             });
         }
     }
-    let v = spectral::vector_sum(n, l, gauge, &comps)?;
+    let v = spectral::vector_sums(n, l, gauge, &comps)?;
     let rows = ks
         .iter()
         .enumerate()
