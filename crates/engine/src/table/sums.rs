@@ -447,7 +447,10 @@ mod tests {
         let mut t2 = t.clone();
         t2.sums[0] = e.clone();
         let p = parse_table(&t2.to_csv()).unwrap_err().problem.to_string();
-        assert!(p.contains("ln_I_err -1e-3 is negative"), "{p}");
+        assert!(
+            p.contains("row (n=1, l=0, k=0): ln_I_err -1e-3 is negative"),
+            "{p}"
+        );
         // ln I's error is not bounded by the goal (S may be small)
         e.powers[0].ln_i = Some(("0.1".into(), "1e-3".into()));
         t2.sums[0] = e.clone();
