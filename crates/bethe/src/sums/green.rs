@@ -390,26 +390,22 @@ impl Integrand {
             meters.push(meter);
         }
         // the poles of the lower states: 1/(n' - nu) once per state, shared
-        // by every component
+        // by every component (each term enters its component's meter)
         let mut acc = vec![Float::with_val(prec, 0); nc];
-        let mut biggest = vec![Float::with_val(prec, 0); nc];
         let mut r = Float::new(prec);
         let mut t = Float::new(prec);
         for (np, amps) in &self.lower {
             r.assign(np - nu);
             r.recip_mut();
-            for ((a, b), amp) in acc.iter_mut().zip(biggest.iter_mut()).zip(amps) {
+            for ((a, meter), amp) in acc.iter_mut().zip(&mut meters).zip(amps) {
                 t.assign(&r * amp);
-                if t.cmp_abs(b) == Some(std::cmp::Ordering::Greater) {
-                    b.assign(&t);
-                }
+                meter.term(&t);
                 *a += &t;
             }
         }
         let mut losses = Vec::with_capacity(nc);
-        for (((value, meter), a), b) in values.iter_mut().zip(&mut meters).zip(&acc).zip(&biggest) {
+        for ((value, meter), a) in values.iter_mut().zip(&mut meters).zip(&acc) {
             meter.term(value);
-            meter.term(b);
             *value -= a;
             meter.result(value);
             losses.push(meter.loss_bits);
