@@ -2,10 +2,11 @@
 //! order with their shares of the goal, the exact part, and the result.
 
 use super::exact_part::ExactState;
-use super::panels::panel_layout;
+use super::panels::{panel_integral, panel_layout};
 use super::pilot::{panel_plan, pilot_profile};
 use super::rates::{nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE, MAX_RATE};
-use super::refine::{converge_panel, IntegrandsByPrecision};
+use super::refine::{converge_panel, ByPrecision};
+use super::scale::ln_k0_scale;
 use crate::settings::{meet_significant, validate_state, Goal};
 use crate::{BetheError, BetheValue, Method, Settings};
 use rug::Float;
@@ -62,7 +63,8 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
     let panels = panel_layout(state.n, state.first_lower_state());
     // each panel gets an equal share of the error budget
     let tol = goal / panels.len() as f64;
-    let mut integrands = IntegrandsByPrecision::new(&state);
+    let mut integrands = ByPrecision::new(|prec| state.integrand(prec));
+    let scale = [ln_k0_scale(state.n)];
     let mut values: Vec<Float> = Vec::with_capacity(panels.len());
     let (mut err, mut nodes, mut prec) = (0.0, 0usize, 0u32);
     let mut rate = FIRST_GUESS_RATE;
@@ -74,15 +76,19 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
         } else {
             nodes_for(plan.magnitude_exp, tol, rate, 4.0)
         };
-        match converge_panel(&mut integrands, panel, bits, plan.guard, start, tol) {
-            Ok(done) => {
+        let mut integrate = |prec: u32, nodes: usize| {
+            let (v, loss) = panel_integral(integrands.at(prec), panel, nodes);
+            (vec![v], loss)
+        };
+        match converge_panel(&mut integrate, &scale, bits, plan.guard, start, tol) {
+            Ok(mut done) => {
                 if !panel.first {
                     rate = done.rate.clamp(BITS_PER_NODE, MAX_RATE);
                 }
-                err += done.err;
+                err += done.errs[0];
                 nodes += done.nodes;
                 prec = prec.max(done.prec);
-                values.push(done.value);
+                values.push(done.values.pop().expect("one integral"));
             }
             Err(panel_best) => {
                 return Err(BetheError::NoConvergence {
