@@ -2,13 +2,21 @@
 //! counts and two precisions, until their difference meets the panel's
 //! share of the goal.
 
-use super::pilot::GUARD_MARGIN;
-use super::rates::{even_nodes, finer_nodes, BITS_PER_NODE, MAX_NODES};
+use super::panels::Panel;
+use super::pilot::{panel_plan, PilotPoint, GUARD_MARGIN};
+use super::rates::{
+    even_nodes, finer_nodes, nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE,
+    MAX_NODES, MAX_RATE,
+};
 use super::scale::quantize;
 use rug::Float;
 
 /// Most pairs of rules tried on one panel before giving up.
 pub(crate) const MAX_TRIES: u32 = 8;
+
+/// The integrals of every component over one panel and the loss (bits) on
+/// the scale of the reported quantities.
+pub(crate) type PanelIntegrals = (Vec<Float>, i32);
 
 /// An integrand at several working precisions, each built by `build` on
 /// first use and kept for the rest of the computation.
@@ -72,7 +80,7 @@ pub(crate) struct PanelResult {
 /// components) reached when the panel does not converge within
 /// [`MAX_TRIES`] pairs.
 pub(crate) fn converge_panel(
-    integrate: &mut dyn FnMut(u32, usize) -> (Vec<Float>, i32),
+    integrate: &mut dyn FnMut(u32, usize) -> PanelIntegrals,
     scales: &[f64],
     bits: u32,
     mut guard: u32,
@@ -86,7 +94,7 @@ pub(crate) fn converge_panel(
     // base + 32 (after the finer rule of a pair became the cruder one of
     // the next)
     let mut coarse_at_higher_prec = false;
-    let mut reused_coarse: Option<(Vec<Float>, i32)> = None;
+    let mut reused_coarse: Option<PanelIntegrals> = None;
     // a loss that eats the guard (the meter saw more cancellation than the
     // pilot), or a non-finite value: the guard to start again with
     let short_of_bits = |loss: i32, v: &[Float], guard: u32| {
@@ -172,4 +180,64 @@ pub(crate) fn converge_panel(
         }
     }
     Err(best)
+}
+
+/// The integrals of all panels, in order.
+pub(crate) struct Panels {
+    /// Per panel, the integral of every component.
+    pub(crate) values: Vec<Vec<Float>>,
+    /// Per component, the sum of the panels' error estimates.
+    pub(crate) errs: Vec<f64>,
+    /// Nodes of the accepted rules.
+    pub(crate) nodes: usize,
+    /// Highest working precision used.
+    pub(crate) prec: u32,
+}
+
+/// Integrates `panels` in order, each to an error below `tol` on every
+/// component (see [`converge_panel`]): a panel starts from the pilot's plan
+/// (its guard, and the nodes its size needs at the rate seen on the
+/// previous panel; the first panel, with its logarithmic product rule, at
+/// [`FIRST_PANEL_RATE`]). `integrate(panel, prec, nodes)` gives the
+/// integrals of every component over `panel` and the loss.
+///
+/// # Errors
+/// `Err(best)` with the smallest error estimate reached on the first panel
+/// that does not converge.
+pub(crate) fn integrate_panels(
+    panels: &[Panel],
+    profile: &[PilotPoint],
+    bits: u32,
+    tol: f64,
+    scales: &[f64],
+    integrate: &mut dyn FnMut(&Panel, u32, usize) -> PanelIntegrals,
+) -> Result<Panels, f64> {
+    let mut out = Panels {
+        values: Vec::with_capacity(panels.len()),
+        errs: vec![0.0; scales.len()],
+        nodes: 0,
+        prec: 0,
+    };
+    let mut rate = FIRST_GUESS_RATE;
+    for panel in panels {
+        let plan = panel_plan(profile, panel);
+        let start = if panel.first {
+            // the product-rule panel converges more slowly (log factor)
+            nodes_for(plan.magnitude_exp, tol, FIRST_PANEL_RATE, 4.0)
+        } else {
+            nodes_for(plan.magnitude_exp, tol, rate, 4.0)
+        };
+        let mut on_panel = |prec: u32, nodes: usize| integrate(panel, prec, nodes);
+        let done = converge_panel(&mut on_panel, scales, bits, plan.guard, start, tol)?;
+        if !panel.first {
+            rate = done.rate.clamp(BITS_PER_NODE, MAX_RATE);
+        }
+        for (e, x) in out.errs.iter_mut().zip(&done.errs) {
+            *e += x;
+        }
+        out.nodes += done.nodes;
+        out.prec = out.prec.max(done.prec);
+        out.values.push(done.values);
+    }
+    Ok(out)
 }

@@ -32,10 +32,9 @@ use super::chain::StateChains;
 use crate::green::meixner::{channel_j_sources, JValue, NuPoint};
 use crate::green::meter::Meter;
 use crate::green::panels::{panel_layout, Panel};
-use crate::green::pilot::{panel_plan, PilotPoint};
+use crate::green::pilot::PilotPoint;
 use crate::green::quad;
-use crate::green::rates::{nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE, MAX_RATE};
-use crate::green::refine::{converge_panel, ByPrecision};
+use crate::green::refine::{integrate_panels, ByPrecision};
 use crate::green::scale::{exp2_of, quantize};
 use crate::BetheError;
 use kzero_basis::gordon::radial_dipole;
@@ -541,42 +540,22 @@ pub(crate) fn log_sums(sc: &StateChains, ks: &[i32], digits: u32) -> Result<Out,
     let tol = goal / panels.len() as f64;
     let mut probs = ByPrecision::new(|prec| ex.at(prec));
     let factors: Vec<f64> = ex.comps.iter().map(|c| c.factor).collect();
-    let nc = ex.comps.len();
-    let mut integrals: Vec<Vec<Float>> = Vec::with_capacity(panels.len());
-    let mut errs = vec![0.0f64; nc];
-    let (mut nodes, mut prec) = (0usize, 0u32);
-    let mut rate = FIRST_GUESS_RATE;
-    for panel in &panels {
-        let plan = panel_plan(&profile, panel);
-        let start = if panel.first {
-            nodes_for(plan.magnitude_exp, tol, FIRST_PANEL_RATE, 4.0)
-        } else {
-            nodes_for(plan.magnitude_exp, tol, rate, 4.0)
-        };
-        let mut integrate = |prec: u32, nodes: usize| panel_integral(probs.at(prec), panel, nodes);
-        match converge_panel(&mut integrate, &factors, bits, plan.guard, start, tol) {
-            Ok(r) => {
-                if !panel.first {
-                    rate = r.rate.clamp(BITS_PER_NODE, MAX_RATE);
-                }
-                for (e, x) in errs.iter_mut().zip(&r.errs) {
-                    *e += x;
-                }
-                nodes += r.nodes;
-                prec = prec.max(r.prec);
-                integrals.push(r.values);
-            }
-            Err(best) => {
-                return Err(BetheError::NoConvergence {
-                    method: METHOD,
-                    n: sc.n,
-                    l: sc.l,
-                    achieved: best * panels.len() as f64,
-                    goal,
-                })
-            }
-        }
-    }
+    let done = integrate_panels(
+        &panels,
+        &profile,
+        bits,
+        tol,
+        &factors,
+        &mut |panel, prec, nodes| panel_integral(probs.at(prec), panel, nodes),
+    )
+    .map_err(|best| BetheError::NoConvergence {
+        method: METHOD,
+        n: sc.n,
+        l: sc.l,
+        achieved: best * panels.len() as f64,
+        goal,
+    })?;
+    let (errs, nodes, prec, integrals) = (done.errs, done.nodes, done.prec, done.values);
     let worst = errs.iter().copied().fold(0.0f64, f64::max);
     if worst >= goal {
         return Err(BetheError::NoConvergence {
