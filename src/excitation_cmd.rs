@@ -111,9 +111,10 @@ pub fn run(a: &ExcitationArgs) -> Result<(), AppError> {
             Ok((n, l, row_text(p, &row, Some(unit)), ln_i))
         })
         .collect();
+    let (unit_ev, unit_err) = unit.printed();
     let mut text = format!(
-        "Mean excitation energy of order k = {}: ln I(k) (Z^2 Ry) and I(k) in eV for {} (Z^2 Ry = {:.12} eV)\n",
-        a.k, nucleus.name, unit.ev
+        "Mean excitation energy of order k = {}: ln I(k) (Z^2 Ry) and I(k) in eV for {} (Z^2 Ry = {unit_ev} eV +- {unit_err})\n",
+        a.k, nucleus.name
     );
     text.push_str("n,l,ln_I,ln_I_err,I_eV,I_eV_err\n");
     let mut curves: Curves = Curves::new();

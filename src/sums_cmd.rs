@@ -100,9 +100,10 @@ pub fn run(a: &SumsArgs) -> Result<(), AppError> {
         "Dipole sums of ({},{}) in units of Z^2 Ry, k in {K_MIN}..={K_MAX}; goal 1e-{} on every S(k), L(k)\n",
         p.n, p.l, a.digits
     );
+    let (unit_ev, unit_err) = unit.printed();
     s.push_str(&format!(
-        "I(k) in eV for {} (Z = {}): Z^2 Ry = {:.12} eV (reduced mass, CODATA 2018)\n",
-        nucleus.name, nucleus.z, unit.ev
+        "I(k) in eV for {} (Z = {}): Z^2 Ry = {unit_ev} eV +- {unit_err} (reduced mass, CODATA 2018)\n",
+        nucleus.name, nucleus.z
     ));
     for r in &rows {
         s.push_str(&row_lines(r));

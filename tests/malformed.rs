@@ -11,6 +11,9 @@
 //! input: every input is compared byte for byte before and after the run,
 //! and a refused run leaves no file behind.
 //!
+//! The same battery runs on a table of the dipole sums (`--sums`, one row
+//! per state and k, the rows of a state kept together).
+//!
 //! The valid files are written once per test binary by the binary itself, at
 //! 5 digits for n <= 3 (a fraction of a second). Each property runs a few
 //! cases by default; `KZERO_HEAVY=1` runs many more and larger damage. The
@@ -38,6 +41,26 @@ const TABLE: [&str; 8] = [
     "1",
     "--quiet",
 ];
+
+/// The dipole-sum table of the sums fixtures: the same states, three powers.
+const SUMS_TABLE: [&str; 10] = [
+    "table",
+    "--n-max",
+    "3",
+    "--digits",
+    "5",
+    "--sums",
+    "-1,0,2",
+    "--threads",
+    "1",
+    "--quiet",
+];
+
+/// A row key: (n, l, k), k = 0 in an ln k0 table.
+type Key = (u32, u32, i32);
+
+/// Rows by key, every column.
+type Rows = BTreeMap<Key, Vec<String>>;
 
 fn heavy() -> bool {
     std::env::var("KZERO_HEAVY").is_ok_and(|v| v == "1")
@@ -73,8 +96,10 @@ fn kzero(dir: &Path, args: &[&str]) -> Output {
         .expect("run kzero")
 }
 
-/// The valid files, written once.
+/// The valid files of one table kind, written once.
 struct Fixtures {
+    /// The table's arguments.
+    args: &'static [&'static str],
     /// Folder holding them (kept for the whole test binary).
     _dir: tempfile::TempDir,
     /// Complete CSV table, shard 1/1.
@@ -90,21 +115,32 @@ struct Fixtures {
     journal: Vec<u8>,
     /// Data-check files (name, contents) of the repository.
     data_checks: Vec<(String, Vec<u8>)>,
-    /// Rows of the complete table: (n, l) -> every column.
-    rows: BTreeMap<(u32, u32), Vec<String>>,
+    /// Rows of the complete table: (n, l, k) -> every column.
+    rows: Rows,
     /// Rows of the two CSV shards together (their own wall times).
-    shard_rows: BTreeMap<(u32, u32), Vec<String>>,
+    shard_rows: Rows,
     /// Rows of shard 1 (CSV) and shard 2 (JSON) together.
-    shard_rows_json: BTreeMap<(u32, u32), Vec<String>>,
+    shard_rows_json: Rows,
 }
 
+/// The ln k0 fixtures.
 fn fixtures() -> &'static Fixtures {
     static F: OnceLock<Fixtures> = OnceLock::new();
-    F.get_or_init(|| {
+    F.get_or_init(|| make_fixtures(&TABLE))
+}
+
+/// The fixtures of the dipole-sum table.
+fn sums_fixtures() -> &'static Fixtures {
+    static F: OnceLock<Fixtures> = OnceLock::new();
+    F.get_or_init(|| make_fixtures(&SUMS_TABLE))
+}
+
+fn make_fixtures(args: &'static [&'static str]) -> Fixtures {
+    {
         let dir = tempfile::tempdir().unwrap();
         let d = dir.path();
         let run = |extra: &[&str]| {
-            let o = kzero(d, &[&TABLE[..], extra].concat());
+            let o = kzero(d, &[args, extra].concat());
             assert_eq!(
                 o.status.code(),
                 Some(0),
@@ -121,16 +157,24 @@ fn fixtures() -> &'static Fixtures {
         let full_csv = read("full.csv");
         let text = String::from_utf8(full_csv.clone()).unwrap();
         let rows = csv_rows(&text).expect("the fixture table parses");
-        assert_eq!(rows.len(), 6);
-        // The journal: header, three rows in another order, a resume note.
+        // six states, one row each or one per k
+        let per_state = if args == SUMS_TABLE { 3 } else { 1 };
+        assert_eq!(rows.len(), 6 * per_state);
+        // The journal: header, three states in another order, a resume note.
         let col = text.find("\nn,l,").unwrap() + 1;
         let col_end = col + text[col..].find('\n').unwrap() + 1;
         let lines: Vec<&str> = text[col_end..].lines().collect();
+        let state = |i: usize| -> String {
+            lines[i * per_state..(i + 1) * per_state]
+                .iter()
+                .map(|l| format!("{l}\n"))
+                .collect()
+        };
         let mut journal = text[..col_end].to_string();
-        journal.push_str(&format!("{}\n{}\n", lines[4], lines[1]));
+        journal.push_str(&format!("{}{}", state(4), state(1)));
         journal.push_str("# resumed_utc: 2026-01-01T00:00:00Z\n");
-        journal.push_str(&format!("# resumed_command: kzero {}\n", TABLE.join(" ")));
-        journal.push_str(&format!("{}\n", lines[0]));
+        journal.push_str(&format!("# resumed_command: kzero {}\n", args.join(" ")));
+        journal.push_str(&state(0));
         let data = Path::new(env!("CARGO_MANIFEST_DIR")).join("data-checks");
         let mut data_checks: Vec<(String, Vec<u8>)> = fs::read_dir(&data)
             .unwrap()
@@ -161,6 +205,7 @@ fn fixtures() -> &'static Fixtures {
             "JSON shard differs"
         );
         Fixtures {
+            args,
             shard_rows_json,
             shard_rows,
             full_json: read("full.json"),
@@ -173,55 +218,77 @@ fn fixtures() -> &'static Fixtures {
             rows,
             _dir: dir,
         }
-    })
+    }
 }
 
-/// The rows of a CSV table: (n, l) -> columns; `None` on a duplicate key or
-/// a malformed row.
-fn csv_rows(text: &str) -> Option<BTreeMap<(u32, u32), Vec<String>>> {
+/// Columns of a dipole-sum table (green), in CSV order.
+const SUMS_COLUMNS: [&str; 14] = [
+    "n", "l", "k", "S", "S_err", "L", "L_err", "ln_I", "ln_I_err", "method", "digits", "bits",
+    "seconds", "check",
+];
+
+/// Columns of an ln k0 table (green), in CSV order.
+const LN_K0_COLUMNS: [&str; 9] = [
+    "n", "l", "ln_k0", "abs_err", "method", "digits", "bits", "seconds", "check",
+];
+
+/// The key of a row: (n, l, k) in a dipole-sum table (14 columns), (n, l, 0)
+/// in an ln k0 table.
+fn key_of(f: &[String]) -> Option<Key> {
+    let k = if f.len() == SUMS_COLUMNS.len() {
+        f.get(2)?.parse().ok()?
+    } else {
+        0
+    };
+    Some((f.first()?.parse().ok()?, f.get(1)?.parse().ok()?, k))
+}
+
+/// The rows of a CSV table: (n, l, k) -> columns; `None` on a duplicate key
+/// or a malformed row.
+fn csv_rows(text: &str) -> Option<Rows> {
     let mut out = BTreeMap::new();
     for line in text.lines().filter(|l| !l.starts_with('#')).skip(1) {
         let f: Vec<String> = line.split(',').map(str::to_string).collect();
-        let key = (f.first()?.parse().ok()?, f.get(1)?.parse().ok()?);
-        if out.insert(key, f).is_some() {
+        if out.insert(key_of(&f)?, f).is_some() {
             return None;
         }
     }
     Some(out)
 }
 
-/// The rows of a JSON table in the CSV column order (the checksum last).
-fn json_rows(text: &str) -> Option<BTreeMap<(u32, u32), Vec<String>>> {
+/// The rows of a JSON table in the CSV column order (the checksum last;
+/// `null` as an empty field).
+fn json_rows(text: &str) -> Option<Rows> {
     let doc: serde_json::Value = serde_json::from_str(text).ok()?;
     let mut out = BTreeMap::new();
     for r in doc.get("rows")?.as_array()? {
         let s = |k: &str| -> Option<String> {
             let v = r.get(k)?;
-            Some(v.as_str().map_or_else(|| v.to_string(), str::to_string))
+            Some(match v {
+                serde_json::Value::Null => String::new(),
+                _ => v.as_str().map_or_else(|| v.to_string(), str::to_string),
+            })
         };
-        let f = vec![
-            s("n")?,
-            s("l")?,
-            s("ln_k0")?,
-            s("abs_err")?,
-            s("method")?,
-            s("digits")?,
-            s("bits")?,
-            s("seconds")?,
-            s("check")?,
-        ];
-        let key = (f[0].parse().ok()?, f[1].parse().ok()?);
-        if out.insert(key, f).is_some() {
+        let columns: &[&str] = if r.get("k").is_some() {
+            &SUMS_COLUMNS
+        } else {
+            &LN_K0_COLUMNS
+        };
+        let f = columns.iter().map(|c| s(c)).collect::<Option<Vec<_>>>()?;
+        if out.insert(key_of(&f)?, f).is_some() {
             return None;
         }
     }
     Some(out)
 }
 
-/// The value columns of rows (every column but the wall time, index 7).
-fn values(rows: &BTreeMap<(u32, u32), Vec<String>>) -> BTreeMap<(u32, u32), Vec<String>> {
+/// The value columns of rows (every column before the wall time).
+fn values(rows: &Rows) -> Rows {
     rows.iter()
-        .map(|(k, f)| (*k, f.iter().take(7).cloned().collect()))
+        .map(|(k, f)| {
+            let keep = if f.len() == SUMS_COLUMNS.len() { 12 } else { 7 };
+            (*k, f.iter().take(keep).cloned().collect())
+        })
         .collect()
 }
 
@@ -382,8 +449,10 @@ fn apply(b: &[u8], d: &Damage) -> Vec<u8> {
         }
         Damage::ChangeSetting(a, c) => {
             let text = String::from_utf8_lossy(b).to_string();
-            let keys: Vec<&str> =
-                ["n_min", "n_max", "l", "digits", "method", "gauge", "shard"].to_vec();
+            let keys: Vec<&str> = [
+                "n_min", "n_max", "l", "digits", "method", "gauge", "shard", "k", "quantity",
+            ]
+            .to_vec();
             let key = keys[a.index(keys.len())];
             let new = SETTING_VALUES[c.index(SETTING_VALUES.len())];
             replace_setting(&text, key, new).into_bytes()
@@ -525,8 +594,10 @@ fn number_digits(text: &str) -> Vec<usize> {
 }
 
 /// Replaces the error estimate of the `k`-th row (CSV column 4 or JSON
-/// "abs_err") by `bad`.
+/// "abs_err"; in a dipole-sum table column 5 or "S_err") by `bad`.
 fn replace_error(text: &str, k: usize, bad: &str) -> String {
+    let sums = text.contains("\nn,l,k,") || text.contains("\"S_err\"");
+    let (column, key) = if sums { (4, "S_err") } else { (3, "abs_err") };
     let mut out = String::with_capacity(text.len());
     let mut seen = 0usize;
     let mut in_rows = false;
@@ -537,14 +608,14 @@ fn replace_error(text: &str, k: usize, bad: &str) -> String {
             out.push_str(line);
             continue;
         }
-        if in_rows && t.starts_with("\"abs_err\": ") {
+        if in_rows && t.starts_with(&format!("\"{key}\": ")) {
             if seen == k {
                 let comma = if line.trim_end().ends_with(',') {
                     ","
                 } else {
                     ""
                 };
-                out.push_str(&format!("      \"abs_err\": \"{bad}\"{comma}\n"));
+                out.push_str(&format!("      \"{key}\": \"{bad}\"{comma}\n"));
             } else {
                 out.push_str(line);
             }
@@ -554,8 +625,8 @@ fn replace_error(text: &str, k: usize, bad: &str) -> String {
         if in_rows && !t.starts_with('#') && !t.starts_with('{') && t.contains(',') {
             if seen == k {
                 let mut f: Vec<&str> = line.trim_end_matches('\n').split(',').collect();
-                if f.len() > 3 {
-                    f[3] = bad;
+                if f.len() > column {
+                    f[column] = bad;
                 }
                 out.push_str(&f.join(","));
                 out.push('\n');
@@ -596,14 +667,15 @@ fn listing(dir: &Path) -> Vec<String> {
     v
 }
 
-/// Runs `kzero merge` on two shard files, `first` damaged; judges the end.
+/// Runs `kzero merge` on two shard files of the table of `f`, `first`
+/// damaged; judges the end.
 fn merge_case(
+    f: &Fixtures,
     first: &[u8],
     first_name: &str,
     second: &[u8],
     second_name: &str,
 ) -> Result<(), TestCaseError> {
-    let f = fixtures();
     let dir = tempfile::tempdir().unwrap();
     let d = dir.path();
     fs::write(d.join(first_name), first).unwrap();
@@ -653,16 +725,15 @@ fn merge_case(
     Ok(())
 }
 
-/// Resumes a damaged journal (CSV, or JSON's FILE.partial, or a finished
-/// JSON table); judges the end.
-fn resume_case(name: &str, bytes: &[u8], json: bool) -> Result<(), TestCaseError> {
-    let f = fixtures();
+/// Resumes a damaged journal of the table of `f` (CSV, or JSON's
+/// FILE.partial, or a finished JSON table); judges the end.
+fn resume_case(f: &Fixtures, name: &str, bytes: &[u8], json: bool) -> Result<(), TestCaseError> {
     let dir = tempfile::tempdir().unwrap();
     let d = dir.path();
     fs::write(d.join(name), bytes).unwrap();
     let before = listing(d);
     let out = if json { "t.json" } else { "t.csv" };
-    let mut args = TABLE.to_vec();
+    let mut args = f.args.to_vec();
     args.extend(["--out", out, "--resume"]);
     if json {
         args.push("--json");
@@ -759,21 +830,21 @@ where
 /// below starts from.
 #[test]
 fn undamaged_files_are_accepted() {
+    for f in [fixtures(), sums_fixtures()] {
+        merge_case(f, &f.shard1_csv, "a.csv", &f.shard2_csv, "b.csv").unwrap();
+        merge_case(f, &f.shard1_csv, "a.csv", &f.shard2_json, "b.json").unwrap();
+        resume_case(f, "t.csv", &f.journal, false).unwrap();
+        resume_case(f, "t.json.partial", &f.journal, true).unwrap();
+        resume_case(f, "t.json", &f.full_json, true).unwrap();
+        resume_case(f, "t.csv", &f.full_csv, false).unwrap();
+    }
     let f = fixtures();
-    merge_case(&f.shard1_csv, "a.csv", &f.shard2_csv, "b.csv").unwrap();
-    merge_case(&f.shard1_csv, "a.csv", &f.shard2_json, "b.json").unwrap();
-    resume_case("t.csv", &f.journal, false).unwrap();
-    resume_case("t.json.partial", &f.journal, true).unwrap();
-    resume_case("t.json", &f.full_json, true).unwrap();
-    resume_case("t.csv", &f.full_csv, false).unwrap();
     for i in 0..f.data_checks.len() {
         check_case(i, &f.data_checks[i].1).unwrap();
     }
 }
 
-#[test]
-fn merge_survives_damaged_shards() {
-    let f = fixtures();
+fn merge_property(f: &Fixtures) {
     let strategy = (prop::collection::vec(damage(), 1..=3), 0usize..3);
     run_property(strategy, |(ds, which)| {
         let (a, a_name, b, b_name) = match which {
@@ -782,13 +853,16 @@ fn merge_survives_damaged_shards() {
             _ => (&f.shard2_json, "b.json", &f.shard1_csv, "a.csv"),
         };
         let damaged = ds.iter().fold(a.clone(), |v, d| apply(&v, d));
-        merge_case(&damaged, a_name, b, b_name)
+        merge_case(f, &damaged, a_name, b, b_name)
     });
 }
 
 #[test]
-fn resume_survives_damaged_journals() {
-    let f = fixtures();
+fn merge_survives_damaged_shards() {
+    merge_property(fixtures());
+}
+
+fn resume_property(f: &Fixtures) {
     let strategy = (prop::collection::vec(damage(), 1..=3), 0usize..4);
     run_property(strategy, |(ds, which)| {
         let (name, base, json) = match which {
@@ -798,8 +872,22 @@ fn resume_survives_damaged_journals() {
             _ => ("t.csv", &f.full_csv, false),
         };
         let damaged = ds.iter().fold(base.clone(), |v, d| apply(&v, d));
-        resume_case(name, &damaged, json)
+        resume_case(f, name, &damaged, json)
     });
+}
+
+#[test]
+fn resume_survives_damaged_journals() {
+    resume_property(fixtures());
+}
+
+/// The same damage given to a table of the dipole sums: merge and resume
+/// end with the right rows or one line and exit 2.
+#[test]
+fn sums_tables_survive_damage() {
+    merge_property(sums_fixtures());
+    resume_property(sums_fixtures());
+    changed_rows_property(sums_fixtures());
 }
 
 #[test]
@@ -817,23 +905,28 @@ fn check_survives_damaged_data_files() {
 /// merge and by resume.
 #[test]
 fn changed_rows_are_refused() {
-    let f = fixtures();
+    changed_rows_property(fixtures());
+}
+
+fn changed_rows_property(f: &Fixtures) {
     let strategy = (row_damage(), 0usize..5);
     run_property(strategy, |(d, which)| match which {
         0 => merge_case(
+            f,
             &apply_row(&f.shard1_csv, &d),
             "a.csv",
             &f.shard2_csv,
             "b.csv",
         ),
         1 => merge_case(
+            f,
             &apply_row(&f.shard2_json, &d),
             "b.json",
             &f.shard1_csv,
             "a.csv",
         ),
-        2 => resume_case("t.csv", &apply_row(&f.journal, &d), false),
-        3 => resume_case("t.json", &apply_row(&f.full_json, &d), true),
-        _ => resume_case("t.csv", &apply_row(&f.full_csv, &d), false),
+        2 => resume_case(f, "t.csv", &apply_row(&f.journal, &d), false),
+        3 => resume_case(f, "t.json", &apply_row(&f.full_json, &d), true),
+        _ => resume_case(f, "t.csv", &apply_row(&f.full_csv, &d), false),
     });
 }

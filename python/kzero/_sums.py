@@ -116,7 +116,9 @@ class Sums:
         gauge: the dipole form of the spectral method (``None`` for
             ``method="green"``).
         nucleus, z: the nucleus of I(k) in eV and its charge.
-        energy_unit_eV: Z^2 Ry of the nucleus in eV (12 decimals).
+        energy_unit_eV, energy_unit_eV_err: Z^2 Ry of the nucleus in eV
+            (12 decimals) and its printed error (the uncertainty of the
+            CODATA 2018 Rydberg energy and the rounding).
         rows: one :class:`SumRow` per k, in increasing k.
         rows_spectral: with ``method="both"``, the spectral rows; else
             ``None``.
@@ -130,7 +132,7 @@ class Sums:
 
     __slots__ = (
         "n", "l", "digits", "method", "gauge", "nucleus", "z", "energy_unit_eV",
-        "rows", "rows_spectral", "consistent", "bits", "nodes", "seconds",
+        "energy_unit_eV_err", "rows", "rows_spectral", "consistent", "bits", "nodes", "seconds",
     )
 
     def __init__(self, d: Dict[str, Any]) -> None:
@@ -143,6 +145,7 @@ class Sums:
         self.nucleus: str = d["nucleus"]
         self.z: int = d["z"]
         self.energy_unit_eV = Decimal(d["energy_unit_eV"])
+        self.energy_unit_eV_err = Decimal(d["energy_unit_eV_err"])
         self.rows: List[SumRow] = [SumRow._from_json(self.n, self.l, r) for r in d["rows"]]
         spectral = d.get("rows_spectral")
         self.rows_spectral: Optional[List[SumRow]] = (

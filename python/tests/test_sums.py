@@ -62,6 +62,7 @@ def test_same_values_and_strings_as_the_binary(kzero_bin, kwargs, args):
         assert getattr(s, key) == cli[key], key
     assert s.gauge == cli.get("gauge")
     assert same_digits(s.energy_unit_eV, cli["energy_unit_eV"])
+    assert same_digits(s.energy_unit_eV_err, cli["energy_unit_eV_err"])
     assert_rows_match(s.rows, cli["rows"])
     assert s.rows_spectral is None and s.consistent is None
 
@@ -99,6 +100,12 @@ def test_defaults_fields_and_types():
     assert str(s).startswith("Dipole sums of (2,1)")
     assert "k = 2: S = 0.00000000000000000 +- 0, " in str(s)
     assert kzero.sums(2, 1, k=[0], method="spectral").gauge == "length"
+    # The unit: CODATA 2018 R_inf h c = 13.605693122994(26) eV times the
+    # proton's m_r/m_e (m_p/m_e = 1836.15267343, CODATA 2018); its printed
+    # error covers the 2.6e-11 eV uncertainty.
+    unit = Decimal("13.605693122994") / (1 + 1 / Decimal("1836.15267343"))
+    assert abs(s.energy_unit_eV - unit) <= s.energy_unit_eV_err
+    assert Decimal("2.6e-11") <= s.energy_unit_eV_err < Decimal("3e-11")
 
 
 @pytest.mark.parametrize("row", read_checks("dipole_sums.csv"),

@@ -57,6 +57,12 @@ fn error_estimate_covers_higher_precision() {
         (200, 0),
         (200, 1),
         (200, 199),
+        // the backward route normalized by the generating-function identity
+        // (no m(a)) at many nodes: large L, a of either sign
+        (200, 100),
+        // and at small L, above nu = L + 1
+        (20, 0),
+        (60, 30),
     ];
     for (n, l) in states {
         let lo = value(n, l, 20);

@@ -174,6 +174,21 @@ pub struct EnergyUnit {
 }
 
 impl EnergyUnit {
+    /// Decimals of the printed unit (CODATA 2018 gives R_inf h c to 12).
+    pub const DECIMALS: usize = 12;
+
+    /// The unit in eV as printed, with its error (the uncertainty of
+    /// R_inf h c plus the rounding of the decimal, rounded up): the
+    /// printed-value rule of [`kzero_bethe::value::printed`].
+    pub fn printed(&self) -> (String, String) {
+        let p = printed(
+            &Float::with_val(64, self.ev),
+            self.ev * self.rel_err,
+            Self::DECIMALS,
+        );
+        (p.value, p.abs_err)
+    }
+
     /// The unit of `nucleus`.
     pub fn of(nucleus: &Nucleus) -> Self {
         let z2 = f64::from(nucleus.z * nucleus.z);
@@ -307,8 +322,8 @@ pub fn rows_text(sums: &DipoleSums, nucleus: &Nucleus) -> Vec<RowText> {
 
 /// The whole JSON object of `kzero sums --json` for a computed result and
 /// the nucleus of I(k) in eV: `n`, `l`, `digits`, `method`, `gauge` (only
-/// when the spectral method ran), `nucleus`, `z`, `energy_unit_eV` (Z^2 Ry
-/// of the nucleus in eV, 12 decimals), `rows` (one [`row_json`] per k, of
+/// when the spectral method ran), `nucleus`, `z`, `energy_unit_eV` and
+/// `energy_unit_eV_err` (Z^2 Ry of the nucleus in eV, [`EnergyUnit::printed`]), `rows` (one [`row_json`] per k, of
 /// the primary result), with both methods `rows_spectral` and `consistent`
 /// (no disagreement, see [`ComputedSums::disagreements`]), `bits` and
 /// `nodes` (of the primary result) and `seconds` (all methods).
@@ -328,10 +343,9 @@ pub fn sums_json(c: &ComputedSums, nucleus: &Nucleus) -> Value {
     }
     m.insert("nucleus".into(), json!(nucleus.name));
     m.insert("z".into(), json!(nucleus.z));
-    m.insert(
-        "energy_unit_eV".into(),
-        json!(format!("{:.12}", EnergyUnit::of(nucleus).ev)),
-    );
+    let (unit, unit_err) = EnergyUnit::of(nucleus).printed();
+    m.insert("energy_unit_eV".into(), json!(unit));
+    m.insert("energy_unit_eV_err".into(), json!(unit_err));
     let rows = |s: &DipoleSums| Value::Array(rows_text(s, nucleus).iter().map(row_json).collect());
     m.insert("rows".into(), rows(p));
     if method == MethodChoice::Both {

@@ -69,8 +69,10 @@ impl Integrand {
         self.two_dipole_sum.prec()
     }
 
-    /// I'(nu) and its logarithmic coefficient. `meter` records cancellation.
-    pub(crate) fn sample(&self, nu: &Float, meter: &mut Meter) -> Sample {
+    /// I'(nu) and its logarithmic coefficient (only when `with_log` asks
+    /// for it, else 0; the value does not depend on it). `meter` records
+    /// cancellation.
+    pub(crate) fn sample(&self, nu: &Float, meter: &mut Meter, with_log: bool) -> Sample {
         let prec = nu.prec();
         let n = self.n;
         let pt = NuPoint::new(n, nu);
@@ -102,7 +104,7 @@ impl Integrand {
                 }
                 _ => None,
             };
-            let (jv, phi) = channel_j_with(ch, &pt, &mut m, hint.as_ref());
+            let (jv, phi) = channel_j_with(ch, &pt, &mut m, hint.as_ref(), with_log);
             if phi_up.is_none() {
                 phi_up = phi;
             }

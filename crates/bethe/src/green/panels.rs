@@ -84,7 +84,7 @@ pub(crate) fn panel_integral(integrand: &Integrand, panel: &Panel, nodes: usize)
             .map(|(x, (w, w_log))| {
                 let nu = Float::with_val(prec, x * &width);
                 let mut meter = Meter::new();
-                let sample = integrand.sample(&nu, &mut meter);
+                let sample = integrand.sample(&nu, &mut meter, true);
                 let ln_nu = Float::with_val(prec, nu.ln_ref());
                 let analytic = Float::with_val(
                     prec,
@@ -106,7 +106,7 @@ pub(crate) fn panel_integral(integrand: &Integrand, panel: &Panel, nodes: usize)
             .map(|(x, w)| {
                 let nu = Float::with_val(prec, &start + Float::with_val(prec, x * &width));
                 let mut meter = Meter::new();
-                let sample = integrand.sample(&nu, &mut meter);
+                let sample = integrand.sample(&nu, &mut meter, false);
                 let weighted = Float::with_val(prec, &sample.value * w);
                 let size = exp2_of(&weighted) + exp2_of(&width) + scale_exp;
                 (weighted, meter.loss_bits + size)

@@ -59,9 +59,11 @@ pub(crate) fn pilot_profile(state: &ExactState, bits: u32) -> Vec<PilotPoint> {
         .par_iter()
         .map(|&x| {
             let mut meter = Meter::new();
-            let low_value = lo.sample(&Float::with_val(p_lo, x), &mut meter).value;
+            let low_value = lo
+                .sample(&Float::with_val(p_lo, x), &mut meter, false)
+                .value;
             let mut high_meter = Meter::new();
-            let high_sample = hi.sample(&Float::with_val(p_hi, x), &mut high_meter);
+            let high_sample = hi.sample(&Float::with_val(p_hi, x), &mut high_meter, true);
             let high_value = high_sample.value;
             if !low_value.is_finite() || !high_value.is_finite() {
                 return (p_lo as i32 + 64, 0);
