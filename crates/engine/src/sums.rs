@@ -24,6 +24,14 @@ pub struct ComputedSums {
 }
 
 impl ComputedSums {
+    /// A result put together from its parts (tests of what a front end
+    /// does with results it cannot get from a computation, such as two
+    /// methods that disagree).
+    #[cfg(test)]
+    pub(crate) fn from_parts(green: Option<DipoleSums>, spectral: Option<DipoleSums>) -> Self {
+        ComputedSums { green, spectral }
+    }
+
     /// The Green's-function result (methods `green` and `both`).
     pub fn green(&self) -> Option<&DipoleSums> {
         self.green.as_ref()

@@ -78,7 +78,7 @@ mod read;
 pub mod sums;
 
 pub use error::{
-    Differences, FormatProblem, Place, SelectionError, SettingDifference, States, TableError,
+    Differences, FormatProblem, Place, RowId, SelectionError, SettingDifference, States, TableError,
 };
 pub use read::{parse_table, read_table, ParseError};
 pub use sums::{render_powers, PowerRow, SumsEntry, SUMS_BOTH_COLUMNS, SUMS_COLUMNS};
