@@ -29,10 +29,11 @@
 //! the absolute scale of its L(k)) before a panel is accepted.
 
 use super::chain::StateChains;
+use crate::green::integrand::phi_from_upper;
 use crate::green::meixner::{channel_j_sources, JValue, NuPoint};
 use crate::green::meter::Meter;
 use crate::green::panels::{panel_layout, Panel};
-use crate::green::pilot::PilotPoint;
+use crate::green::pilot::{profile, PilotPoint};
 use crate::green::quad;
 use crate::green::refine::{integrate_panels, ByPrecision};
 use crate::green::scale::{exp2_of, quantize};
@@ -322,14 +323,7 @@ impl Integrand {
         let top_l = self.chans.last().map_or(0, |c| c.big_l);
         for ch in self.chans.iter().rev() {
             let hint = match (&phi_up, ch.big_l + 2 == top_l) {
-                (Some(pu), true) => {
-                    let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, nu));
-                    let a1 = Float::with_val(prec, &a + 1u32);
-                    let mut v = Float::with_val(prec, &pt.zp.z * &pt.zp.z) * pu;
-                    v += Float::with_val(prec, &pt.zp.z / &a1);
-                    v += Float::with_val(prec, a.recip_ref());
-                    Some(v)
-                }
+                (Some(pu), true) => Some(phi_from_upper(ch.big_l, nu, &pt.zp.z, pu)),
                 _ => None,
             };
             let mut m = Meter::new();
@@ -482,48 +476,31 @@ fn pilot(ex: &Exact, bits: u32) -> Vec<PilotPoint> {
     let p_hi = p_lo + 128;
     let lo = ex.at(p_lo);
     let hi = ex.at(p_hi);
-    let nf = f64::from(ex.n);
-    let count = 24;
-    let (lo_nu, hi_nu) = (1e-5, 0.99 * nf);
-    let points: Vec<f64> = (0..count)
-        .map(|i| {
-            let t = f64::from(i) / f64::from(count - 1);
-            lo_nu * (hi_nu / lo_nu).powf(t) * 0.998_7
-        })
-        .collect();
-    let found: Vec<(i32, i32)> = points
-        .par_iter()
-        .map(|&x| {
-            let a = lo.sample(&Float::with_val(p_lo, x));
-            let b = hi.sample(&Float::with_val(p_hi, x));
-            let mut loss = i32::MIN;
-            let mut mag = i32::MIN;
-            for (c, comp) in lo.comps.iter().enumerate() {
-                let (va, vb) = (&a.values[c], &b.values[c]);
-                if !va.is_finite() || !vb.is_finite() {
-                    return (p_lo as i32 + 64, 0);
-                }
-                let weight = Float::with_val(p_hi, x) * 2f64.powi(comp.factor_exp);
-                let m = exp2_of(&Float::with_val(p_hi, vb * &weight));
-                let log_part = Float::with_val(p_hi, &b.logs[c] * x.ln()) * &weight;
-                let metered = a.losses[c] + m.max(exp2_of(&log_part));
-                let d = Float::with_val(p_hi, Float::with_val(p_hi, va) - vb).abs();
-                let seen = if d.is_zero() {
-                    i32::MIN
-                } else {
-                    p_lo as i32 + exp2_of(&Float::with_val(p_hi, &d * &weight))
-                };
-                loss = loss.max(seen.max(metered));
-                mag = mag.max(m);
+    profile(ex.n, |x| {
+        let a = lo.sample(&Float::with_val(p_lo, x));
+        let b = hi.sample(&Float::with_val(p_hi, x));
+        let mut loss = i32::MIN;
+        let mut mag = i32::MIN;
+        for (c, comp) in lo.comps.iter().enumerate() {
+            let (va, vb) = (&a.values[c], &b.values[c]);
+            if !va.is_finite() || !vb.is_finite() {
+                return (p_lo as i32 + 64, 0);
             }
-            (loss, mag)
-        })
-        .collect();
-    points
-        .into_iter()
-        .zip(found)
-        .map(|(nu, (loss, mag))| PilotPoint { nu, loss, mag })
-        .collect()
+            let weight = Float::with_val(p_hi, x) * 2f64.powi(comp.factor_exp);
+            let m = exp2_of(&Float::with_val(p_hi, vb * &weight));
+            let log_part = Float::with_val(p_hi, &b.logs[c] * x.ln()) * &weight;
+            let metered = a.losses[c] + m.max(exp2_of(&log_part));
+            let d = Float::with_val(p_hi, Float::with_val(p_hi, va) - vb).abs();
+            let seen = if d.is_zero() {
+                i32::MIN
+            } else {
+                p_lo as i32 + exp2_of(&Float::with_val(p_hi, &d * &weight))
+            };
+            loss = loss.max(seen.max(metered));
+            mag = mag.max(m);
+        }
+        (loss, mag)
+    })
 }
 
 /// The logarithmic sums of the powers `ks` (sorted, in range) for the state
