@@ -32,7 +32,7 @@ import json as _json
 import math as _math
 from decimal import Decimal
 from fractions import Fraction
-from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
+from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union, overload
 
 from . import _kzero
 from ._kzero import InvalidInput, MethodsDisagree, NoConvergence
@@ -135,7 +135,42 @@ def _select_l(l: Union[None, int, Sequence[int]]) -> Optional[List[int]]:
         return None
     if isinstance(l, int):
         return [l]
-    return [int(x) for x in l]
+    return list(l)
+
+
+Powers = Union[int, Sequence[int]]
+
+
+@overload
+def table(
+    states: Optional[StateList] = ...,
+    n_min: int = ...,
+    n_max: Optional[int] = ...,
+    l: Union[None, int, Sequence[int]] = ...,
+    digits: int = ...,
+    method: str = ...,
+    threads: Optional[int] = ...,
+    gauge: Optional[str] = ...,
+    sums: None = ...,
+) -> List[Value]: ...
+
+
+@overload
+def table(
+    states: Optional[StateList] = ...,
+    n_min: int = ...,
+    n_max: Optional[int] = ...,
+    l: Union[None, int, Sequence[int]] = ...,
+    digits: int = ...,
+    method: str = ...,
+    threads: Optional[int] = ...,
+    gauge: Optional[str] = ...,
+    *,
+    sums: Union[str, Powers],
+    nucleus: Optional[str] = ...,
+    z: Optional[int] = ...,
+    mass: Union[None, str, int, float] = ...,
+) -> List[Sums]: ...
 
 
 def table(
@@ -147,8 +182,12 @@ def table(
     method: str = "green",
     threads: Optional[int] = None,
     gauge: Optional[str] = None,
-) -> List[Value]:
-    """ln k0 for many states, computed in parallel with the GIL released.
+    sums: Union[None, str, Powers] = None,
+    nucleus: Optional[str] = None,
+    z: Optional[int] = None,
+    mass: Union[None, str, int, float] = None,
+) -> Union[List[Value], List[Sums]]:
+    """ln k0 (or the dipole sums) for many states, in parallel with the GIL released.
 
     Give either ``states``, a list of ``(n, l)`` pairs, or a range:
     ``n_min..=n_max`` with every ``l < n``, or only the angular momenta
@@ -165,9 +204,20 @@ def table(
     second: no further state starts, and the states already running finish
     in the background and are dropped.
 
+    With ``sums`` (a power k, a list of powers, or ``"all"``, as ``kzero
+    table --sums LIST``), the result is one :class:`Sums` per state instead,
+    each the same as :func:`sums` with these arguments (``gauge`` defaults
+    to ``"length"`` there; ``nucleus``, ``z``, ``mass`` set the eV unit of
+    I(k), default hydrogen) and with the values of the rows of ``kzero
+    table --sums``. The precision contract is that of :func:`sums`.
+
     Args:
         threads: worker threads (default: the number of CPUs).
-        method, gauge: as in :func:`ln_k0`.
+        method, gauge: as in :func:`ln_k0` (or :func:`sums`).
+        sums: the powers k of the dipole sums (each in
+            ``kzero.SUM_POWERS``), or ``"all"``; ``None`` (default)
+            tabulates ln k0.
+        nucleus, z, mass: as in :func:`sums`; only with ``sums``.
 
     Raises:
         InvalidInput: a bad state or setting (message as on the command
@@ -180,16 +230,33 @@ def table(
     if states is not None:
         if n_max is not None or l is not None or n_min != 1:
             raise InvalidInput("give either states or a range (n_min, n_max, l), not both")
-        pairs = [(int(n), int(ll)) for n, ll in states]
+        pairs = [(n, ll) for n, ll in states]
         if not pairs:
             raise InvalidInput("no state selected: the list of states is empty")
     else:
         if n_max is None:
             raise InvalidInput("give either states or n_max (a range n_min..=n_max)")
         pairs = _kzero.range_states(n_min, n_max, _select_l(l))
+    if sums is not None:
+        results = [
+            (_sums_result(text), message)
+            for text, message in _kzero.sums_table(
+                pairs, _table_powers(sums), digits, method, gauge, threads,
+                _preset(nucleus), z, _mass_text(mass))
+        ]
+        return _raise_disagreements([r for r, _ in results],
+                                    [m for _, m in results if m is not None])
+    if nucleus is not None or z is not None or mass is not None:
+        raise InvalidInput("nucleus, z and mass set the eV unit of the dipole sums: "
+                           "give them with sums")
     rows = _kzero.table(pairs, digits, method, gauge, threads)
     values = [_value(d) for d in rows]
-    disagreements = [d["disagreement"] for d in rows if d.get("disagreement")]
+    return _raise_disagreements(values, [d["disagreement"] for d in rows
+                                         if d.get("disagreement")])
+
+
+def _raise_disagreements(values: List[Any], disagreements: List[str]) -> List[Any]:
+    """The values, or MethodsDisagree with them attached."""
     if disagreements:
         e = MethodsDisagree(
             f"{len(disagreements)} state(s) where green and spectral disagree"
@@ -198,6 +265,34 @@ def table(
         e.disagreements = disagreements
         raise e
     return values
+
+
+def _table_powers(sums: Union[str, Powers]) -> Optional[List[int]]:
+    """The powers of ``table(sums=...)``: ``None`` for ``"all"``."""
+    if isinstance(sums, str):
+        if sums.strip() == "all":
+            return None
+        raise InvalidInput(f"sums: {sums!r} is not a list of powers k "
+                           "(give a list such as [-2, 0, 2], or \"all\")")
+    return _powers(sums)
+
+
+def _powers(k: Optional[Powers]) -> Optional[List[int]]:
+    if k is None:
+        return None
+    if isinstance(k, int):
+        return [k]
+    return list(k)
+
+
+def _preset(nucleus: Optional[str]) -> Optional[str]:
+    # "H" is the engine's default preset: passed as no preset, so that a mass
+    # replaces it and another z asks for a mass, as on the command line.
+    return None if nucleus == "H" else nucleus
+
+
+def _sums_result(text: str) -> Sums:
+    return Sums(_json.loads(text))
 
 
 def build_info() -> Dict[str, str]:
@@ -239,7 +334,7 @@ def sweep(
         InvalidInput: bad state, digits or method (command-line messages).
         NoConvergence: a rung missed its goal.
     """
-    rows = _kzero.sweep(n, l, [int(d) for d in digits], method, gauge)
+    rows = _kzero.sweep(n, l, list(digits), method, gauge)
     out = []
     for r in rows:
         v = Value._from_native(r["value"], gauge=None if method == "green" else (gauge or "velocity"))
@@ -449,16 +544,9 @@ def sums(
             two methods differ beyond their combined estimates (where
             ``kzero sums`` exits 3); the result is attached as ``.value``.
     """
-    if k is None:
-        powers = None
-    elif isinstance(k, int):
-        powers = [k]
-    else:
-        powers = list(k)
-    preset = None if nucleus == "H" else nucleus
-    text, message = _kzero.sums(n, l, powers, digits, method, gauge, preset, z,
-                                _mass_text(mass))
-    result = Sums(_json.loads(text))
+    text, message = _kzero.sums(n, l, _powers(k), digits, method, gauge, _preset(nucleus),
+                                z, _mass_text(mass))
+    result = _sums_result(text)
     if message is not None:
         e = MethodsDisagree(message)
         e.value = result

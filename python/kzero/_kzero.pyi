@@ -48,3 +48,14 @@ def sums(
     z: Optional[int],
     mass: Optional[str],
 ) -> Tuple[str, Optional[str]]: ...
+def sums_table(
+    states: List[Tuple[int, int]],
+    k: Optional[List[int]],
+    digits: int,
+    method: str,
+    gauge: Optional[str],
+    threads: Optional[int],
+    nucleus: Optional[str],
+    z: Optional[int],
+    mass: Optional[str],
+) -> List[Tuple[str, Optional[str]]]: ...

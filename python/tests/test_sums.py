@@ -365,3 +365,113 @@ def test_non_integers_are_type_errors():
     for kwargs in [dict(n=2.0, l=0), dict(n=2, l=0, k=[0.5]), dict(n=2, l=0, digits=20.0)]:
         with pytest.raises(TypeError):
             kzero.sums(**kwargs)
+
+
+# Tables of the dipole sums: kzero.table(..., sums=...)
+
+
+def cli_table(kzero_bin, args):
+    out = subprocess.run([kzero_bin, "table", *args, "--json", "--quiet"],
+                         check=True, capture_output=True, text=True).stdout
+    return json.loads(out)
+
+
+@pytest.mark.parametrize(
+    "kwargs,args",
+    [
+        (dict(n_max=3, sums=[-2, 0, 2], digits=15, threads=2),
+         ["--n-max", "3", "--sums=-2,0,2", "--digits", "15", "--threads", "2"]),
+        (dict(n_min=4, n_max=5, l=[1, 4], sums="all", method="both", digits=12, threads=1),
+         ["--n-min", "4", "--n-max", "5", "--l", "1,4", "--sums", "all", "--method", "both",
+          "--digits", "12", "--threads", "1"]),
+    ],
+)
+def test_table_of_sums_matches_the_binary(kzero_bin, kwargs, args):
+    cli = cli_table(kzero_bin, args)["rows"]
+    tables = kzero.table(**kwargs)
+    assert all(isinstance(s, kzero.Sums) for s in tables)
+    mine = [(s, r, i) for s in tables for i, r in enumerate(s.rows)]
+    assert [(s.n, s.l, r.k) for s, r, _ in mine] == [(r["n"], r["l"], r["k"]) for r in cli]
+    for (s, r, i), theirs in zip(mine, cli):
+        for key in ["S", "S_err", "L", "L_err", "ln_I", "ln_I_err"]:
+            assert same_digits(getattr(r, key), theirs[key]), (s.n, s.l, r.k, key)
+        assert (s.method, s.digits, s.bits) == (theirs["method"], theirs["digits"], theirs["bits"])
+        if s.method == "both":
+            sp = s.rows_spectral[i]
+            for key in ["S", "S_err", "L", "L_err"]:
+                assert same_digits(getattr(sp, key), theirs[f"{key}_spectral"]), key
+
+
+def test_table_of_sums_equals_single_calls():
+    tables = kzero.table(states=[(3, 2), (1, 0), (3, 2), (2, 1)], sums=[-1, 0], digits=12,
+                         nucleus="D")
+    assert [(s.n, s.l) for s in tables] == [(1, 0), (2, 1), (3, 2)]
+    for s in tables:
+        one = kzero.sums(s.n, s.l, k=[0, -1], digits=12, nucleus="D")
+        assert kzero.to_rows(s) == kzero.to_rows(one)
+        assert (s.nucleus, s.energy_unit_eV) == ("D", one.energy_unit_eV)
+    # One plain dict per state and k, in table order.
+    rows = kzero.to_rows(tables)
+    assert [(r["n"], r["l"], r["k"]) for r in rows] == [
+        (n, l, k) for n, l in [(1, 0), (2, 1), (3, 2)] for k in (-1, 0)]
+
+
+def test_table_of_sums_bad_input(kzero_bin):
+    def cli(args):
+        p = subprocess.run([kzero_bin, "table", *args], capture_output=True, text=True)
+        assert p.returncode == 2, p.stderr
+        return p.stderr.strip().removeprefix("kzero: ").replace("--sums", "sums")
+
+    for sums, arg in [([0, 3], "0,3"), (-5, "-5")]:
+        with pytest.raises(kzero.InvalidInput) as e:
+            kzero.table(n_max=2, sums=sums)
+        assert str(e.value) == cli(["--n-max", "2", "--sums", arg])
+    with pytest.raises(kzero.InvalidInput) as e:
+        kzero.table(n_max=2, sums=0, gauge="length")
+    assert str(e.value) == cli(["--n-max", "2", "--sums", "0", "--gauge", "length"]).replace(
+        "--gauge", "gauge").replace("--method", "method")
+    with pytest.raises(kzero.InvalidInput) as e:
+        kzero.table(states=[(1, 0), (2, 2)], sums=0)
+    assert str(e.value) == "invalid state (n=2, l=2): need n >= 1 and 0 <= l < n"
+    for bad in ["x", "0,1"]:
+        with pytest.raises(kzero.InvalidInput, match="is not a list of powers k"):
+            kzero.table(n_max=2, sums=bad)
+    with pytest.raises(kzero.InvalidInput) as e:
+        kzero.table(n_max=2, sums=[])
+    assert str(e.value) == "sums: no power k was requested"
+    # The nucleus only sets the unit of I(k): refused without sums.
+    with pytest.raises(kzero.InvalidInput, match="give them with sums"):
+        kzero.table(n_max=2, nucleus="D")
+
+
+def test_a_disagreeing_table_of_sums_raises_with_every_state(monkeypatch):
+    # Invented disagreement (the methods agree on every state), in the engine's wording.
+    real = kzero._kzero.sums_table([(1, 0), (2, 1)], [0], 10, "both", None, None, None, None, None)
+    message = ("methods disagree at (n=2, l=1) on L(0): green -1.234567890123 +- 1.1e-12 "
+               "vs spectral -1.234567890200 +- 1.1e-12")
+    fake = [real[0], (real[1][0], message)]
+    monkeypatch.setattr(kzero._kzero, "sums_table", lambda *args: fake)
+    with pytest.raises(kzero.MethodsDisagree) as e:
+        kzero.table(n_max=2, sums=0, digits=10, method="both")
+    assert e.value.disagreements == [message]
+    assert [(s.n, s.l) for s in e.value.values] == [(1, 0), (2, 1)]
+
+
+def test_ctrl_c_interrupts_a_long_table_of_sums():
+    import os
+    import signal
+    import threading
+    import time
+
+    # A table that takes minutes; SIGINT arrives after 0.5 s, as from Ctrl-C.
+    timer = threading.Timer(0.5, os.kill, args=(os.getpid(), signal.SIGINT))
+    start = time.monotonic()
+    timer.start()
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            kzero.table(n_min=100, n_max=200, l=0, sums="all", digits=30, threads=1)
+    finally:
+        timer.cancel()
+    elapsed = time.monotonic() - start
+    # Generous bound: the table itself would take many minutes.
+    assert elapsed < 10, elapsed

@@ -6,10 +6,10 @@
 //! progress there); [`compute_states`] collects the results in (n, l) order,
 //! the order of a finished table.
 
-use crate::compute::{compute, Computed};
+use crate::compute::{compute, cost, Computed};
 use crate::error::EngineError;
 use crate::method::MethodChoice;
-use crate::shard::{plan, Key, Shard};
+use crate::shard::{plan_by, Key, Shard};
 use kzero_bethe::{Gauge, Settings};
 use std::panic::{self, AssertUnwindSafe};
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
@@ -199,23 +199,24 @@ pub fn run_jobs<T: Send>(
     })
 }
 
-/// One state of a batch and its result.
+/// One state of a batch and its result (ln k0 unless another computation
+/// ran, see [`compute_jobs`]).
 #[derive(Debug)]
-pub struct StateResult {
+pub struct StateResult<T = Computed> {
     /// n.
     pub n: u32,
     /// l.
     pub l: u32,
     /// The computed value(s), or why there are none.
-    pub result: Result<Computed, EngineError>,
+    pub result: Result<T, EngineError>,
 }
 
-/// The results of [`compute_states`].
+/// The results of [`compute_states`] (or of [`compute_jobs`]).
 #[derive(Debug)]
-pub struct Batch {
+pub struct Batch<T = Computed> {
     /// One entry per finished state, sorted by (n, l) (the order of a
     /// finished table).
-    pub results: Vec<StateResult>,
+    pub results: Vec<StateResult<T>>,
     /// Whether every requested state was computed (false after a
     /// cancellation).
     pub complete: bool,
@@ -243,24 +244,46 @@ pub fn compute_states(
     threads: Option<usize>,
     cancel: &(dyn Fn() -> bool + Sync),
 ) -> Result<Batch, EngineError> {
+    let (digits, method) = (request.settings.digits, request.method);
+    compute_jobs(
+        states,
+        threads,
+        cancel,
+        &|(n, l)| cost(n, l, digits, method),
+        &|n, l| request.compute(n, l),
+    )
+}
+
+/// [`compute_states`] for any computation of one state: `job(n, l)` for
+/// every state of `states` (duplicates dropped), scheduled most expensive
+/// first by `cost_of` (the shard plan of the whole set, [`plan_by`]), the
+/// results sorted by (n, l). Cancellation and panics as in
+/// [`compute_states`] (the dipole sums of many states run through it:
+/// [`crate::sums::compute_sums_states`]).
+///
+/// # Errors
+/// [`EngineError::Threads`] only; the errors of single states are in
+/// [`StateResult::result`].
+pub fn compute_jobs<T: Send>(
+    states: &[Key],
+    threads: Option<usize>,
+    cancel: &(dyn Fn() -> bool + Sync),
+    cost_of: &(dyn Fn(Key) -> f64 + Sync),
+    job: &(dyn Fn(u32, u32) -> Result<T, EngineError> + Sync),
+) -> Result<Batch<T>, EngineError> {
     let mut unique = states.to_vec();
     unique.sort_unstable();
     unique.dedup();
-    let order: Vec<Key> = plan(
-        &unique,
-        request.settings.digits,
-        request.method,
-        Shard::WHOLE,
-    )
-    .into_iter()
-    .map(|(k, _)| k)
-    .collect();
+    let order: Vec<Key> = plan_by(&unique, cost_of, Shard::WHOLE)
+        .into_iter()
+        .map(|(k, _)| k)
+        .collect();
     let mut results = Vec::with_capacity(order.len());
-    let end = run_batch(
+    let end = run_jobs(
         &order,
-        request,
         threads.unwrap_or_else(default_threads),
         cancel,
+        job,
         &mut |i, r| {
             let (n, l) = order[i];
             results.push(StateResult { n, l, result: r });

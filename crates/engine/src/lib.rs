@@ -67,8 +67,8 @@ pub mod sweep;
 pub mod table;
 
 pub use batch::{
-    catch_panic, compute_states, default_threads, run_batch, run_jobs, Batch, BatchEnd, Flow,
-    Request, StateResult,
+    catch_panic, compute_jobs, compute_states, default_threads, run_batch, run_jobs, Batch,
+    BatchEnd, Flow, Request, StateResult,
 };
 pub use build_info::Provenance;
 pub use compute::{compute, cost, validate_state, Computed};

@@ -6,8 +6,10 @@
 //! same digits everywhere. Definitions, units (Z^2 Ry) and the accuracy
 //! contract are those of [`kzero_bethe::sums`].
 
+use crate::batch::{compute_jobs, Batch};
 use crate::error::EngineError;
 use crate::method::MethodChoice;
+use crate::shard::Key;
 use kzero_bethe::sums::{self, DipoleSums, SumRow};
 use kzero_bethe::value::printed;
 use kzero_bethe::{Gauge, Method, Settings};
@@ -24,6 +26,14 @@ pub struct ComputedSums {
 }
 
 impl ComputedSums {
+    /// A result put together from its parts (tests of what a front end
+    /// does with results it cannot get from a computation, such as two
+    /// methods that disagree).
+    #[cfg(test)]
+    pub(crate) fn from_parts(green: Option<DipoleSums>, spectral: Option<DipoleSums>) -> Self {
+        ComputedSums { green, spectral }
+    }
+
     /// The Green's-function result (methods `green` and `both`).
     pub fn green(&self) -> Option<&DipoleSums> {
         self.green.as_ref()
@@ -142,6 +152,39 @@ pub fn compute_sums(
         }
     }
     Ok(out)
+}
+
+/// The sums of many states in parallel: [`compute_sums`] with the same
+/// powers and settings for every state of `states` (duplicates dropped),
+/// scheduled most expensive first by [`sums_cost`], the results sorted by
+/// (n, l) ([`crate::batch::compute_jobs`]: `threads = None` uses every CPU;
+/// `cancel` is checked before each state starts; a panic of one state is
+/// that state's [`EngineError::Internal`]).
+///
+/// # Accuracy
+/// Each state as [`compute_sums`]; the values do not depend on the thread
+/// count or the other states.
+///
+/// # Errors
+/// [`EngineError::Threads`] only; the errors of single states are in
+/// [`crate::StateResult::result`].
+pub fn compute_sums_states(
+    states: &[Key],
+    ks: &[i64],
+    method: MethodChoice,
+    gauge: Gauge,
+    settings: &Settings,
+    threads: Option<usize>,
+    cancel: &(dyn Fn() -> bool + Sync),
+) -> Result<Batch<ComputedSums>, EngineError> {
+    let count = ks.len();
+    compute_jobs(
+        states,
+        threads,
+        cancel,
+        &|(n, l)| sums_cost(n, l, settings.digits, count, method),
+        &|n, l| compute_sums(i64::from(n), i64::from(l), ks, method, gauge, settings),
+    )
 }
 
 /// Relative cost of [`compute_sums`] with `count` powers (load balancing
@@ -431,5 +474,58 @@ mod tests {
         let v = sums_json(&g, &nucleus);
         assert!(v.get("gauge").is_none() && v.get("rows_spectral").is_none());
         assert!(v.get("consistent").is_none());
+    }
+
+    #[test]
+    fn many_states_come_sorted_and_equal_single_calls() {
+        let settings = Settings::with_digits(10);
+        let states = [(3, 2), (1, 0), (2, 1), (3, 2)];
+        let never = || false;
+        let ks = [-1, 0];
+        let run = |threads| {
+            compute_sums_states(
+                &states,
+                &ks,
+                MethodChoice::Green,
+                SUMS_DEFAULT_GAUGE,
+                &settings,
+                Some(threads),
+                &never,
+            )
+            .expect("batch")
+        };
+        let (a, b) = (run(1), run(2));
+        assert!(a.complete && b.complete);
+        let keys: Vec<Key> = a.results.iter().map(|r| (r.n, r.l)).collect();
+        assert_eq!(keys, [(1, 0), (2, 1), (3, 2)]);
+        let nucleus = crate::shift::nucleus(None, None, None, None).expect("nucleus");
+        for (x, y) in a.results.iter().zip(&b.results) {
+            let (x, y) = (x.result.as_ref().expect("x"), y.result.as_ref().expect("y"));
+            let one = compute_sums(
+                i64::from(x.primary().n),
+                i64::from(x.primary().l),
+                &ks,
+                MethodChoice::Green,
+                SUMS_DEFAULT_GAUGE,
+                &settings,
+            )
+            .expect("one");
+            let rows = |c: &ComputedSums| sums_json(c, &nucleus)["rows"].clone();
+            assert_eq!(rows(x), rows(y));
+            assert_eq!(rows(x), rows(&one));
+        }
+        // A cancelled batch starts nothing.
+        let stop = || true;
+        let c = compute_sums_states(
+            &states,
+            &ks,
+            MethodChoice::Green,
+            SUMS_DEFAULT_GAUGE,
+            &settings,
+            Some(1),
+            &stop,
+        )
+        .expect("batch");
+        assert!(!c.complete && c.results.is_empty());
     }
 }

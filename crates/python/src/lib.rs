@@ -29,9 +29,10 @@
 //!   command line's.
 
 use kzero_bethe::Goal;
+use kzero_engine::sums::{compute_sums_states, requested_powers, sums_gauge};
 use kzero_engine::{
-    build_info, catch_panic, compute_states, Computed, EngineError, ErrorClass, Gauge,
-    MethodChoice, Request, Settings, TableSettings,
+    build_info, catch_panic, compute_states, compute_sums, sums_json, Computed, EngineError,
+    ErrorClass, Gauge, MethodChoice, Request, Settings, TableSettings,
 };
 use pyo3::exceptions::{PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
@@ -286,18 +287,7 @@ fn table<'py>(
     threads: Option<Int<'_>>,
 ) -> PyResult<Bound<'py, PyList>> {
     let req = request(int_arg("digits", &digits)?, method, gauge)?;
-    let threads = threads.map(|t| int_arg("threads", &t)).transpose()?;
-    let threads = match threads {
-        None => None,
-        Some(t) if (1..=4096).contains(&t) => Some(t as usize),
-        Some(t) => {
-            return Err(invalid_value(
-                "threads",
-                &t.to_string(),
-                &format!(": {t} is not in 1..=4096"),
-            ))
-        }
-    };
+    let threads = parse_threads(threads)?;
     let mut keys = Vec::with_capacity(states.len());
     for (n, l) in states {
         let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
@@ -315,25 +305,47 @@ fn table<'py>(
             Err(e) => failures.push((r.n, r.l, e)),
         }
     }
-    if let Some((n, l, first)) = failures.first() {
-        let more = if failures.len() > 1 {
-            format!(" (and {} more failed states)", failures.len() - 1)
-        } else {
-            String::new()
-        };
-        let msg = format!("state (n={n}, l={l}): {first}{more}");
-        let all_bad = failures
-            .iter()
-            .all(|(_, _, e)| e.class() == ErrorClass::BadInput);
-        return Err(if all_bad {
-            InvalidInput::new_err(msg)
-        } else if first.is_no_convergence() {
-            NoConvergence::new_err(msg)
-        } else {
-            PyRuntimeError::new_err(msg)
-        });
+    match batch_failure(&failures) {
+        Some(e) => Err(e),
+        None => Ok(out),
     }
-    Ok(out)
+}
+
+/// `threads` as given in Python: `None` (every CPU) or 1..=4096.
+fn parse_threads(threads: Option<Int<'_>>) -> PyResult<Option<usize>> {
+    match threads.map(|t| int_arg("threads", &t)).transpose()? {
+        None => Ok(None),
+        Some(t) if (1..=4096).contains(&t) => Ok(Some(t as usize)),
+        Some(t) => Err(invalid_value(
+            "threads",
+            &t.to_string(),
+            &format!(": {t} is not in 1..=4096"),
+        )),
+    }
+}
+
+/// The exception of a batch with failed states (sorted by (n, l)): the
+/// first failure with the command line's wording `state (n=.., l=..): ...`
+/// and the count of the others; `InvalidInput` when every failure is bad
+/// input, `NoConvergence` when the first is a missed goal.
+fn batch_failure(failures: &[(u32, u32, EngineError)]) -> Option<PyErr> {
+    let (n, l, first) = failures.first()?;
+    let more = if failures.len() > 1 {
+        format!(" (and {} more failed states)", failures.len() - 1)
+    } else {
+        String::new()
+    };
+    let msg = format!("state (n={n}, l={l}): {first}{more}");
+    let all_bad = failures
+        .iter()
+        .all(|(_, _, e)| e.class() == ErrorClass::BadInput);
+    Some(if all_bad {
+        InvalidInput::new_err(msg)
+    } else if first.is_no_convergence() {
+        NoConvergence::new_err(msg)
+    } else {
+        PyRuntimeError::new_err(msg)
+    })
 }
 
 /// The states of a table over a range, selected and checked by the library
@@ -560,20 +572,102 @@ fn sums(
     mass: Option<&str>,
 ) -> PyResult<(String, Option<String>)> {
     let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
+    let call = sums_call(k, digits, method, gauge, nucleus, z, mass)?;
+    let ks = requested_powers(call.ks.as_deref());
+    let c = released(py, || {
+        compute_sums(n, l, &ks, call.method, call.gauge, &call.settings)
+    })?;
+    let text = sums_json(&c, &call.nucleus).to_string();
+    Ok((text, c.check_agreement().err().map(|e| e.to_string())))
+}
+
+/// The settings of a dipole-sum call, checked in the command line's order:
+/// powers (parsed), digits, method, the dipole form ([`sums_gauge`]),
+/// nucleus.
+struct SumsCall {
+    ks: Option<Vec<i64>>,
+    method: MethodChoice,
+    gauge: Gauge,
+    settings: Settings,
+    nucleus: kzero_qed::Nucleus,
+}
+
+fn sums_call(
+    k: Option<Vec<Int<'_>>>,
+    digits: Int<'_>,
+    method: &str,
+    gauge: Option<&str>,
+    nucleus: Option<&str>,
+    z: Option<Int<'_>>,
+    mass: Option<&str>,
+) -> PyResult<SumsCall> {
     let ks = parse_powers(k)?;
     let digits = parse_digits(int_arg("digits", &digits)?)?;
-    let z = z.map(|z| int_arg("z", &z)).transpose()?;
     let method = parse_method(method)?;
     let given = gauge.map(parse_gauge).transpose()?;
-    let gauge = kzero_engine::sums::sums_gauge(method, given).map_err(keyword_names)?;
-    let nuc = kzero_engine::shift::nucleus(nucleus, z, mass, None).map_err(keyword_names)?;
-    let ks = kzero_engine::sums::requested_powers(ks.as_deref());
-    let settings = Settings::with_digits(digits);
-    let c = released(py, || {
-        kzero_engine::compute_sums(n, l, &ks, method, gauge, &settings)
+    let gauge = sums_gauge(method, given).map_err(keyword_names)?;
+    let z = z.map(|z| int_arg("z", &z)).transpose()?;
+    let nucleus = kzero_engine::shift::nucleus(nucleus, z, mass, None).map_err(keyword_names)?;
+    Ok(SumsCall {
+        ks,
+        method,
+        gauge,
+        settings: Settings::with_digits(digits),
+        nucleus,
+    })
+}
+
+/// The dipole sums of many states in parallel, as the JSON text of `kzero
+/// sums --json` of each state (sorted by (n, l), duplicates dropped) with
+/// the disagreement message of each (`None` when the methods agree or one
+/// ran); see `kzero.table(..., sums=...)`. The powers and the states are
+/// checked before any work; Ctrl-C as in [`interruptible`]; failed states
+/// raise as in `table`.
+#[pyfunction]
+#[pyo3(signature = (states, k, digits, method, gauge, threads, nucleus, z, mass))]
+#[allow(clippy::too_many_arguments)]
+fn sums_table(
+    py: Python<'_>,
+    states: Vec<(Int<'_>, Int<'_>)>,
+    k: Option<Vec<Int<'_>>>,
+    digits: Int<'_>,
+    method: &str,
+    gauge: Option<&str>,
+    threads: Option<Int<'_>>,
+    nucleus: Option<&str>,
+    z: Option<Int<'_>>,
+    mass: Option<&str>,
+) -> PyResult<Vec<(String, Option<String>)>> {
+    let call = sums_call(k, digits, method, gauge, nucleus, z, mass)?;
+    let threads = parse_threads(threads)?;
+    let ks = requested_powers(call.ks.as_deref());
+    // worded as `kzero table --sums` (keyword name in place of the option)
+    kzero_bethe::sums::validate_powers(&ks)
+        .map_err(|e| InvalidInput::new_err(format!("sums: {e}")))?;
+    let mut keys = Vec::with_capacity(states.len());
+    for (n, l) in states {
+        let (n, l) = (int_arg("n", &n)?, int_arg("l", &l)?);
+        keys.push(kzero_engine::validate_state(n, l, call.method).map_err(to_py)?);
+    }
+    let (method, gauge, settings) = (call.method, call.gauge, call.settings.clone());
+    let batch = interruptible(py, move |stop| {
+        compute_sums_states(&keys, &ks, method, gauge, &settings, threads, stop)
     })?;
-    let text = kzero_engine::sums_json(&c, &nuc).to_string();
-    Ok((text, c.check_agreement().err().map(|e| e.to_string())))
+    let mut out = Vec::with_capacity(batch.results.len());
+    let mut failures = Vec::new();
+    for r in batch.results {
+        match r.result {
+            Ok(c) => out.push((
+                sums_json(&c, &call.nucleus).to_string(),
+                c.check_agreement().err().map(|e| e.to_string()),
+            )),
+            Err(e) => failures.push((r.n, r.l, e)),
+        }
+    }
+    match batch_failure(&failures) {
+        Some(e) => Err(e),
+        None => Ok(out),
+    }
 }
 
 /// A bad-input error with the keyword names of the package in place of the
@@ -630,5 +724,6 @@ fn _kzero(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(oscillator, m)?)?;
     m.add_function(wrap_pyfunction!(shift, m)?)?;
     m.add_function(wrap_pyfunction!(sums, m)?)?;
+    m.add_function(wrap_pyfunction!(sums_table, m)?)?;
     Ok(())
 }

@@ -2,10 +2,10 @@
 //! order with their shares of the goal, the exact part, and the result.
 
 use super::exact_part::ExactState;
-use super::panels::panel_layout;
-use super::pilot::{panel_plan, pilot_profile};
-use super::rates::{nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE, MAX_RATE};
-use super::refine::{converge_panel, IntegrandsByPrecision};
+use super::panels::{panel_integral, panel_layout};
+use super::pilot::pilot_profile;
+use super::refine::{integrate_panels, ByPrecision};
+use super::scale::ln_k0_scale;
 use crate::settings::{meet_significant, validate_state, Goal};
 use crate::{BetheError, BetheValue, Method, Settings};
 use rug::Float;
@@ -62,43 +62,30 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
     let panels = panel_layout(state.n, state.first_lower_state());
     // each panel gets an equal share of the error budget
     let tol = goal / panels.len() as f64;
-    let mut integrands = IntegrandsByPrecision::new(&state);
-    let mut values: Vec<Float> = Vec::with_capacity(panels.len());
-    let (mut err, mut nodes, mut prec) = (0.0, 0usize, 0u32);
-    let mut rate = FIRST_GUESS_RATE;
-    for panel in &panels {
-        let plan = panel_plan(&profile, panel);
-        let start = if panel.first {
-            // the product-rule panel converges more slowly (log factor)
-            nodes_for(plan.magnitude_exp, tol, FIRST_PANEL_RATE, 4.0)
-        } else {
-            nodes_for(plan.magnitude_exp, tol, rate, 4.0)
-        };
-        match converge_panel(&mut integrands, panel, bits, plan.guard, start, tol) {
-            Ok(done) => {
-                if !panel.first {
-                    rate = done.rate.clamp(BITS_PER_NODE, MAX_RATE);
-                }
-                err += done.err;
-                nodes += done.nodes;
-                prec = prec.max(done.prec);
-                values.push(done.value);
-            }
-            Err(panel_best) => {
-                return Err(BetheError::NoConvergence {
-                    method: "green",
-                    n,
-                    l,
-                    achieved: panel_best * panels.len() as f64,
-                    goal,
-                })
-            }
-        }
-    }
+    let mut integrands = ByPrecision::new(|prec| state.integrand(prec));
+    let done = integrate_panels(
+        &panels,
+        &profile,
+        bits,
+        tol,
+        &[ln_k0_scale(state.n)],
+        &mut |panel, prec, nodes| {
+            let (v, loss) = panel_integral(integrands.at(prec), panel, nodes);
+            (vec![v], loss)
+        },
+    )
+    .map_err(|panel_best| BetheError::NoConvergence {
+        method: "green",
+        n,
+        l,
+        achieved: panel_best * panels.len() as f64,
+        goal,
+    })?;
+    let (err, nodes, prec) = (done.errs[0], done.nodes, done.prec);
     // panels may differ in precision: sum at the highest
     let mut numerator = state.exact_part(prec);
-    for v in &values {
-        numerator -= v;
+    for v in &done.values {
+        numerator -= &v[0];
     }
     // ln k0 = S / D0 with D0 = 2/n^3 (Z = 1)
     let n3 = u64::from(state.n).pow(3);

@@ -63,6 +63,19 @@ pub(crate) struct Sample {
     pub(crate) log_coef: Float,
 }
 
+/// Phi(z, 1, a) of the channel L = `big_l` at `nu` (a = L + 1 - nu, at the
+/// precision of `nu`) from Phi(z, 1, a + 2) of the channel L + 2
+/// (`phi_up`): Phi(z, 1, a) = 1/a + z/(a + 1) + z^2 Phi(z, 1, a + 2).
+pub(crate) fn phi_from_upper(big_l: u32, nu: &Float, z: &Float, phi_up: &Float) -> Float {
+    let prec = nu.prec();
+    let a = Float::with_val(prec, (big_l + 1) - Float::with_val(prec, nu));
+    let a1 = Float::with_val(prec, &a + 1u32);
+    let mut v = Float::with_val(prec, z * z) * phi_up;
+    v += Float::with_val(prec, z / &a1);
+    v += Float::with_val(prec, a.recip_ref());
+    v
+}
+
 impl Integrand {
     /// Working precision of this integrand (bits).
     pub(crate) fn prec(&self) -> u32 {
@@ -94,14 +107,7 @@ impl Integrand {
                 &phi_up,
                 ch.big_l + 2 == self.channels.last().map_or(0, |c| c.big_l),
             ) {
-                (Some(pu), true) => {
-                    let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, nu));
-                    let a1 = Float::with_val(prec, &a + 1u32);
-                    let mut v = Float::with_val(prec, &pt.zp.z * &pt.zp.z) * pu;
-                    v += Float::with_val(prec, &pt.zp.z / &a1);
-                    v += Float::with_val(prec, a.recip_ref());
-                    Some(v)
-                }
+                (Some(pu), true) => Some(phi_from_upper(ch.big_l, nu, &pt.zp.z, pu)),
                 _ => None,
             };
             let (jv, phi) = channel_j_with(ch, &pt, &mut m, hint.as_ref(), with_log);

@@ -41,50 +41,58 @@ pub(crate) fn pilot_profile(state: &ExactState, bits: u32) -> Vec<PilotPoint> {
     let p_hi = p_lo + 128;
     let lo = state.integrand(p_lo);
     let hi = state.integrand(p_hi);
-    let nf = f64::from(state.n);
     let scale = ln_k0_scale(state.n);
-    // log-spaced over [1e-5, 0.99 n] (down to the smallest nodes of the
-    // first panel): the losses vary smoothly with nu; the odd factor keeps
-    // the points off the integers
+    profile(state.n, |x| {
+        let mut meter = Meter::new();
+        let low_value = lo
+            .sample(&Float::with_val(p_lo, x), &mut meter, false)
+            .value;
+        let mut high_meter = Meter::new();
+        let high_sample = hi.sample(&Float::with_val(p_hi, x), &mut high_meter, true);
+        let high_value = high_sample.value;
+        if !low_value.is_finite() || !high_value.is_finite() {
+            return (p_lo as i32 + 64, 0);
+        }
+        // contribution scale of the node: (n^3/2) nu |I| (log-spaced points)
+        let weight = Float::with_val(p_hi, x) * scale;
+        let mag = exp2_of(&Float::with_val(p_hi, &high_value * &weight));
+        let difference =
+            Float::with_val(p_hi, Float::with_val(p_hi, &low_value) - &high_value).abs();
+        // the first panel splits I into I_an + I_log ln nu: each part
+        // carries its own rounding
+        let log_part = Float::with_val(p_hi, &high_sample.log_coef * x.ln()) * &weight;
+        let metered = meter.loss_bits + mag.max(exp2_of(&log_part));
+        if difference.is_zero() {
+            return (metered, mag);
+        }
+        // absolute error on ln k0 at p_lo is |difference| (n^3/2) nu = 2^(loss - p_lo)
+        let seen = p_lo as i32 + exp2_of(&Float::with_val(p_hi, &difference * &weight));
+        (seen.max(metered), mag)
+    })
+}
+
+/// The [`PILOT_POINTS`] photon-energy points of the pilot for principal
+/// quantum number `n`: log-spaced over [1e-5, 0.99 n] (down to the smallest
+/// nodes of the first panel), where the losses vary smoothly with nu; the
+/// odd factor keeps the points off the integers.
+fn pilot_points(n: u32) -> Vec<f64> {
     let lo_nu = 1e-5;
-    let hi_nu = 0.99 * nf;
+    let hi_nu = 0.99 * f64::from(n);
     let count = PILOT_POINTS;
-    let points: Vec<f64> = (0..count)
+    (0..count)
         .map(|i| {
             let t = f64::from(i) / f64::from(count - 1);
             lo_nu * (hi_nu / lo_nu).powf(t) * 0.998_7
         })
-        .collect();
-    let found: Vec<(i32, i32)> = points
-        .par_iter()
-        .map(|&x| {
-            let mut meter = Meter::new();
-            let low_value = lo
-                .sample(&Float::with_val(p_lo, x), &mut meter, false)
-                .value;
-            let mut high_meter = Meter::new();
-            let high_sample = hi.sample(&Float::with_val(p_hi, x), &mut high_meter, true);
-            let high_value = high_sample.value;
-            if !low_value.is_finite() || !high_value.is_finite() {
-                return (p_lo as i32 + 64, 0);
-            }
-            // contribution scale of the node: (n^3/2) nu |I| (log-spaced points)
-            let weight = Float::with_val(p_hi, x) * scale;
-            let mag = exp2_of(&Float::with_val(p_hi, &high_value * &weight));
-            let difference =
-                Float::with_val(p_hi, Float::with_val(p_hi, &low_value) - &high_value).abs();
-            // the first panel splits I into I_an + I_log ln nu: each part
-            // carries its own rounding
-            let log_part = Float::with_val(p_hi, &high_sample.log_coef * x.ln()) * &weight;
-            let metered = meter.loss_bits + mag.max(exp2_of(&log_part));
-            if difference.is_zero() {
-                return (metered, mag);
-            }
-            // absolute error on ln k0 at p_lo is |difference| (n^3/2) nu = 2^(loss - p_lo)
-            let seen = p_lo as i32 + exp2_of(&Float::with_val(p_hi, &difference * &weight));
-            (seen.max(metered), mag)
-        })
-        .collect();
+        .collect()
+}
+
+/// A loss profile: `measure(nu)` gives (loss bits, magnitude exponent) at
+/// each pilot point (see [`pilot_profile`]; evaluated in parallel). Returns
+/// the points with nu increasing.
+pub(crate) fn profile(n: u32, measure: impl Fn(f64) -> (i32, i32) + Sync) -> Vec<PilotPoint> {
+    let points = pilot_points(n);
+    let found: Vec<(i32, i32)> = points.par_iter().map(|&x| measure(x)).collect();
     points
         .into_iter()
         .zip(found)

@@ -2,51 +2,57 @@
 //! counts and two precisions, until their difference meets the panel's
 //! share of the goal.
 
-use super::exact_part::ExactState;
-use super::integrand::Integrand;
-use super::panels::{panel_integral, Panel};
-use super::pilot::GUARD_MARGIN;
-use super::rates::{even_nodes, finer_nodes, BITS_PER_NODE, MAX_NODES};
-use super::scale::{ln_k0_scale, quantize};
+use super::panels::Panel;
+use super::pilot::{panel_plan, PilotPoint, GUARD_MARGIN};
+use super::rates::{
+    even_nodes, finer_nodes, nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE,
+    MAX_NODES, MAX_RATE,
+};
+use super::scale::quantize;
 use rug::Float;
 
 /// Most pairs of rules tried on one panel before giving up.
 pub(crate) const MAX_TRIES: u32 = 8;
 
-/// The integrand of one state at several working precisions, each built on
+/// The integrals of every component over one panel and the loss (bits) on
+/// the scale of the reported quantities.
+pub(crate) type PanelIntegrals = (Vec<Float>, i32);
+
+/// An integrand at several working precisions, each built by `build` on
 /// first use and kept for the rest of the computation.
-pub(crate) struct IntegrandsByPrecision<'a> {
-    state: &'a ExactState,
-    built: Vec<Integrand>,
+pub(crate) struct ByPrecision<T, F> {
+    build: F,
+    built: Vec<(u32, T)>,
 }
 
-impl<'a> IntegrandsByPrecision<'a> {
+impl<T, F: Fn(u32) -> T> ByPrecision<T, F> {
     /// No precision built yet.
-    pub(crate) fn new(state: &'a ExactState) -> Self {
-        IntegrandsByPrecision {
-            state,
+    pub(crate) fn new(build: F) -> Self {
+        ByPrecision {
+            build,
             built: Vec::new(),
         }
     }
 
     /// The integrand at `prec` bits.
-    pub(crate) fn at(&mut self, prec: u32) -> &Integrand {
-        let i = match self.built.iter().position(|p| p.prec() == prec) {
+    pub(crate) fn at(&mut self, prec: u32) -> &T {
+        let i = match self.built.iter().position(|(p, _)| *p == prec) {
             Some(i) => i,
             None => {
-                self.built.push(self.state.integrand(prec));
+                self.built.push((prec, (self.build)(prec)));
                 self.built.len() - 1
             }
         };
-        &self.built[i]
+        &self.built[i].1
     }
 }
 
-/// One converged panel: the integral of the finer rule, its error estimate
-/// on the scale of ln k0, and the nodes and bits it took.
+/// One converged panel: per component the integral of the finer rule and
+/// its error estimate on the scale of the reported quantity, and the nodes
+/// and bits it took.
 pub(crate) struct PanelResult {
-    pub(crate) value: Float,
-    pub(crate) err: f64,
+    pub(crate) values: Vec<Float>,
+    pub(crate) errs: Vec<f64>,
     pub(crate) nodes: usize,
     pub(crate) prec: u32,
     /// Bits per node the cruder rule of the accepted pair reached relative
@@ -54,29 +60,33 @@ pub(crate) struct PanelResult {
     pub(crate) rate: f64,
 }
 
-/// Integrates one panel to an error (on the scale of ln k0) below `tol`,
-/// starting with `guard` bits on top of `bits` and `coarse_nodes` nodes in
-/// the cruder rule.
+/// Integrates one panel until every component's error (on the scale of its
+/// reported quantity: the integral times its entry of `scales`) is below
+/// `tol`, starting with `guard` bits on top of `bits` and `coarse_nodes`
+/// nodes in the cruder rule. `integrate(prec, nodes)` gives the integrals of
+/// every component over the panel with the `nodes`-node rule at `prec` bits
+/// and the loss (bits) on the scale of the reported quantities.
 ///
 /// A pair of rules is compared: the cruder (N nodes, p bits) and the finer
 /// ([`finer_nodes`], p + 32 bits); their difference estimates the error of
 /// the cruder rule, and the finer value is returned. While the estimate
-/// misses `tol`, the next pair reuses the finer rule as its cruder one when
-/// its error is expected to meet the tolerance (at [`BITS_PER_NODE`]), and
-/// otherwise starts from the node count that rate predicts.
+/// misses `tol` on some component, the next pair reuses the finer rule as
+/// its cruder one when its error is expected to meet the tolerance (at
+/// [`BITS_PER_NODE`]), and otherwise starts from the node count that rate
+/// predicts.
 ///
 /// # Errors
-/// `Err(best)` with the smallest error estimate reached when the panel does
-/// not converge within [`MAX_TRIES`] pairs.
+/// `Err(best)` with the smallest error estimate (the largest over the
+/// components) reached when the panel does not converge within
+/// [`MAX_TRIES`] pairs.
 pub(crate) fn converge_panel(
-    integrands: &mut IntegrandsByPrecision,
-    panel: &Panel,
+    integrate: &mut dyn FnMut(u32, usize) -> PanelIntegrals,
+    scales: &[f64],
     bits: u32,
     mut guard: u32,
     mut coarse_nodes: usize,
     tol: f64,
 ) -> Result<PanelResult, f64> {
-    let scale = ln_k0_scale(integrands.state.n);
     let mut best = f64::INFINITY;
     let mut last_err = f64::INFINITY;
     // the two rules of a pair are at base = bits + guard and base + 32 bits,
@@ -84,11 +94,11 @@ pub(crate) fn converge_panel(
     // base + 32 (after the finer rule of a pair became the cruder one of
     // the next)
     let mut coarse_at_higher_prec = false;
-    let mut reused_coarse: Option<(Float, i32)> = None;
+    let mut reused_coarse: Option<PanelIntegrals> = None;
     // a loss that eats the guard (the meter saw more cancellation than the
     // pilot), or a non-finite value: the guard to start again with
-    let short_of_bits = |loss: i32, v: &Float, guard: u32| {
-        (loss + 16 > guard as i32 || !v.is_finite())
+    let short_of_bits = |loss: i32, v: &[Float], guard: u32| {
+        (loss + 16 > guard as i32 || v.iter().any(|x| !x.is_finite()))
             .then(|| (loss.max(guard as i32) + GUARD_MARGIN) as u32)
     };
     for _ in 0..MAX_TRIES {
@@ -100,7 +110,7 @@ pub(crate) fn converge_panel(
         };
         let (coarse_value, coarse_loss) = match reused_coarse.take() {
             Some(c) => c,
-            None => panel_integral(integrands.at(coarse_prec), panel, coarse_nodes),
+            None => integrate(coarse_prec, coarse_nodes),
         };
         if let Some(g) = short_of_bits(coarse_loss, &coarse_value, guard) {
             guard = g;
@@ -108,27 +118,39 @@ pub(crate) fn converge_panel(
             continue;
         }
         let fine_nodes = finer_nodes(coarse_nodes);
-        let (fine_value, fine_loss) = panel_integral(integrands.at(fine_prec), panel, fine_nodes);
+        let (fine_value, fine_loss) = integrate(fine_prec, fine_nodes);
         let loss = coarse_loss.max(fine_loss);
         if let Some(g) = short_of_bits(loss, &fine_value, guard) {
             guard = g;
             coarse_at_higher_prec = false;
             continue;
         }
-        let diff = Float::with_val(coarse_prec.max(fine_prec), &coarse_value - &fine_value)
-            .abs()
-            .to_f64()
-            * scale;
         // floor: rounding level of the pair after the measured loss
         let floor = 2f64.powi(loss - base as i32);
-        let err = diff.max(floor) * 2.0;
+        let errs: Vec<f64> = coarse_value
+            .iter()
+            .zip(&fine_value)
+            .zip(scales)
+            .map(|((c, f), scale)| {
+                let diff = Float::with_val(coarse_prec.max(fine_prec), c - f)
+                    .abs()
+                    .to_f64()
+                    * scale;
+                diff.max(floor) * 2.0
+            })
+            .collect();
+        let err = errs.iter().copied().fold(0.0f64, f64::max);
         best = best.min(err);
         if err < tol {
-            let size = Float::with_val(fine_prec, fine_value.abs_ref()).to_f64() * scale;
+            let size = fine_value
+                .iter()
+                .zip(scales)
+                .map(|(f, scale)| Float::with_val(fine_prec, f.abs_ref()).to_f64() * scale)
+                .fold(0.0f64, f64::max);
             let rate = (size.max(err).log2() - err.log2()) / coarse_nodes as f64;
             return Ok(PanelResult {
-                value: fine_value,
-                err,
+                values: fine_value,
+                errs,
                 nodes: fine_nodes,
                 prec: coarse_prec.max(fine_prec),
                 rate,
@@ -158,4 +180,64 @@ pub(crate) fn converge_panel(
         }
     }
     Err(best)
+}
+
+/// The integrals of all panels, in order.
+pub(crate) struct Panels {
+    /// Per panel, the integral of every component.
+    pub(crate) values: Vec<Vec<Float>>,
+    /// Per component, the sum of the panels' error estimates.
+    pub(crate) errs: Vec<f64>,
+    /// Nodes of the accepted rules.
+    pub(crate) nodes: usize,
+    /// Highest working precision used.
+    pub(crate) prec: u32,
+}
+
+/// Integrates `panels` in order, each to an error below `tol` on every
+/// component (see [`converge_panel`]): a panel starts from the pilot's plan
+/// (its guard, and the nodes its size needs at the rate seen on the
+/// previous panel; the first panel, with its logarithmic product rule, at
+/// [`FIRST_PANEL_RATE`]). `integrate(panel, prec, nodes)` gives the
+/// integrals of every component over `panel` and the loss.
+///
+/// # Errors
+/// `Err(best)` with the smallest error estimate reached on the first panel
+/// that does not converge.
+pub(crate) fn integrate_panels(
+    panels: &[Panel],
+    profile: &[PilotPoint],
+    bits: u32,
+    tol: f64,
+    scales: &[f64],
+    integrate: &mut dyn FnMut(&Panel, u32, usize) -> PanelIntegrals,
+) -> Result<Panels, f64> {
+    let mut out = Panels {
+        values: Vec::with_capacity(panels.len()),
+        errs: vec![0.0; scales.len()],
+        nodes: 0,
+        prec: 0,
+    };
+    let mut rate = FIRST_GUESS_RATE;
+    for panel in panels {
+        let plan = panel_plan(profile, panel);
+        let start = if panel.first {
+            // the product-rule panel converges more slowly (log factor)
+            nodes_for(plan.magnitude_exp, tol, FIRST_PANEL_RATE, 4.0)
+        } else {
+            nodes_for(plan.magnitude_exp, tol, rate, 4.0)
+        };
+        let mut on_panel = |prec: u32, nodes: usize| integrate(panel, prec, nodes);
+        let done = converge_panel(&mut on_panel, scales, bits, plan.guard, start, tol)?;
+        if !panel.first {
+            rate = done.rate.clamp(BITS_PER_NODE, MAX_RATE);
+        }
+        for (e, x) in out.errs.iter_mut().zip(&done.errs) {
+            *e += x;
+        }
+        out.nodes += done.nodes;
+        out.prec = out.prec.max(done.prec);
+        out.values.push(done.values);
+    }
+    Ok(out)
 }

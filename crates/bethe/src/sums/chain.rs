@@ -62,27 +62,29 @@ impl XPoly {
         PolyExp::from_rational(Rational::from((1u32, n)), rho.clone(), &c)
     }
 
-    /// int_0^inf f g dr / rho = (n/2) sum_(p,q) a_p b_q (p+q)!, summed in
-    /// integers over a common denominator (rational sums would spend their
-    /// time in gcds).
-    fn inner(&self, other: &XPoly, n: u32, fact: &[Integer]) -> Rational {
-        let (xa, da) = integer_form(&self.a);
-        let (xb, db) = integer_form(&other.a);
-        let mut s = Integer::new();
-        let mut inner = Integer::new();
-        for (p, x) in xa.iter().enumerate() {
-            if *x == 0 {
+    /// The coefficients of the polynomial part in Laguerre polynomials
+    /// (see [`Laguerre`]).
+    fn laguerre(&self) -> Laguerre {
+        let (x, den) = integer_form(&self.a);
+        // alpha_k = sum_(p >= k) x_p p! p!/(p - k)!, the falling factorial
+        // carried along k for each p
+        let mut alpha = vec![Integer::new(); x.len()];
+        let mut r = Integer::new();
+        let mut pf = Integer::from(1); // p!
+        for (p, xp) in x.iter().enumerate() {
+            if p > 0 {
+                pf *= p as u32;
+            }
+            if *xp == 0 {
                 continue;
             }
-            inner.assign(0);
-            for (q, y) in xb.iter().enumerate() {
-                if *y != 0 {
-                    inner += Integer::from(y * &fact[p + q]);
-                }
+            r.assign(&pf);
+            for (k, ak) in alpha.iter_mut().enumerate().take(p + 1) {
+                *ak += Integer::from(xp * &r);
+                r *= (p - k) as u32;
             }
-            s += Integer::from(x * &inner);
         }
-        Rational::from((s, da * db)) * Rational::from((n, 2u32))
+        Laguerre { alpha, den }
     }
 
     /// (H_L - E_n) applied exactly; index i of the result is the power
@@ -145,6 +147,58 @@ fn integer_form(a: &[Rational]) -> (Vec<Integer>, Integer) {
     (nums, den)
 }
 
+/// A polynomial part P(x) = sum_k A_k L_k(x) in the Laguerre polynomials
+/// L_k (orthonormal under e^(-x) on [0, inf)), with
+/// A_k = (-1)^k alpha_k / (k! den) (from x^p = p! sum_k (-1)^k C(p, k) L_k,
+/// so that alpha_k = sum_p x_p p! p!/(p - k)! for P = sum_p x_p x^p / den):
+/// the inner product of two functions of the chain is then a single sum.
+#[derive(Debug, Clone)]
+struct Laguerre {
+    alpha: Vec<Integer>,
+    den: Integer,
+}
+
+impl Laguerre {
+    /// int_0^inf f g dr / rho = (n/2) int_0^inf e^(-x) P Q dx
+    /// = (n/2) sum_k A_k B_k, summed in integers over the common
+    /// denominator (K!)^2 den_f den_g (Horner in k: each step multiplies by
+    /// k^2).
+    fn inner(&self, other: &Laguerre, n: u32) -> Rational {
+        let top = self.alpha.len().min(other.alpha.len());
+        let mut t = Integer::new();
+        let mut kf = Integer::from(1);
+        for k in 0..top {
+            if k > 0 {
+                t *= (k * k) as u64;
+                kf *= k as u32;
+            }
+            t += Integer::from(&self.alpha[k] * &other.alpha[k]);
+        }
+        let den = Integer::from(&kf * &kf) * &self.den * &other.den;
+        Rational::from((t, den)) * Rational::from((n, 2u32))
+    }
+
+    /// self - c other (exact).
+    fn minus(&self, c: &Rational, other: &Laguerre) -> Laguerre {
+        // A_k - c B_k = (alpha_k den_o c_den - c_num beta_k den) / (k! den den_o c_den)
+        let len = self.alpha.len().max(other.alpha.len());
+        let f_self = Integer::from(&other.den * c.denom());
+        let f_other = Integer::from(c.numer() * &self.den);
+        let zero = Integer::new();
+        let alpha = (0..len)
+            .map(|k| {
+                let a = self.alpha.get(k).unwrap_or(&zero);
+                let b = other.alpha.get(k).unwrap_or(&zero);
+                Integer::from(a * &f_self) - Integer::from(b * &f_other)
+            })
+            .collect();
+        Laguerre {
+            alpha,
+            den: Integer::from(&f_self * &self.den),
+        }
+    }
+}
+
 fn trim(mut f: XPoly) -> XPoly {
     while f.a.last().is_some_and(|c| *c == 0) {
         f.a.pop();
@@ -181,6 +235,8 @@ impl StateChains {
     pub fn new(n: u32, l: u32, depth: u32) -> Result<Self, BetheError> {
         let st = BoundState::hydrogen(i64::from(n), i64::from(l))?;
         let mut chains = Vec::new();
+        // the Laguerre forms of phi_0 .. phi_depth, channel by channel
+        let mut lags: Vec<Vec<Laguerre>> = Vec::new();
         // factorials up to the largest degree sum: 2 (n + depth + 2)
         let top = 2 * (n + depth + 4) as usize;
         let mut fact = Vec::with_capacity(top + 1);
@@ -194,8 +250,9 @@ impl StateChains {
             let g = gradient_function(&st, dir)?;
             let rho = g.radicand.clone();
             let phi0 = trim(XPoly::from_polyexp(&g, n));
+            let mut lag = vec![phi0.laguerre()];
             let mut phi = vec![phi0];
-            if big_l < n {
+            let same_n = if big_l < n {
                 let u = trim(XPoly::from_polyexp(
                     &reduced_radial_function(&BoundState::hydrogen(
                         i64::from(n),
@@ -203,19 +260,26 @@ impl StateChains {
                     )?),
                     n,
                 ));
-                let uu = u.inner(&u, n, &fact);
-                for _ in 0..depth {
-                    let src = phi.last().expect("phi_0");
-                    let next = solve(src, big_l, n, Some((&u, &uu)), &fact)?;
-                    phi.push(next);
-                }
+                let u_lag = u.laguerre();
+                let uu = u_lag.inner(&u_lag, n);
+                Some((u, u_lag, uu))
             } else {
-                for _ in 0..depth {
-                    let src = phi.last().expect("phi_0");
-                    let next = solve(src, big_l, n, None, &fact)?;
-                    phi.push(next);
-                }
+                None
+            };
+            for _ in 0..depth {
+                let src = phi.last().expect("phi_0");
+                let src_lag = lag.last().expect("phi_0");
+                let (next, next_lag) = solve(
+                    src,
+                    src_lag,
+                    big_l,
+                    n,
+                    same_n.as_ref().map(|(u, ul, uu)| (u, ul, uu)),
+                )?;
+                phi.push(next);
+                lag.push(next_lag);
             }
+            lags.push(lag);
             chains.push(ChannelChain {
                 big_l,
                 weight: dir.weight(l),
@@ -238,11 +302,11 @@ impl StateChains {
         for a in 0..=depth as usize {
             let mut even = Rational::new();
             let mut odd = Rational::new();
-            for ch in &chains {
+            for (ch, lag) in chains.iter().zip(&lags) {
                 let w = Rational::from(&ch.rho * &ch.weight);
-                even += ch.phi[a].inner(&ch.phi[a], n, &fact) * &w;
+                even += lag[a].inner(&lag[a], n) * &w;
                 if a >= 1 {
-                    odd += ch.phi[a].inner(&ch.phi[a - 1], n, &fact) * &w;
+                    odd += lag[a].inner(&lag[a - 1], n) * &w;
                 }
             }
             if a >= 1 {
@@ -265,21 +329,22 @@ impl StateChains {
 }
 
 /// Solves (H_L - E_n) phi = src with phi orthogonal to u (the same-n state,
-/// when it exists in this partial wave).
+/// when it exists in this partial wave, given with its Laguerre form and
+/// <u|u>); returns phi and its Laguerre form.
 fn solve(
     src: &XPoly,
+    src_lag: &Laguerre,
     big_l: u32,
     n: u32,
-    same_n: Option<(&XPoly, &Rational)>,
-    fact: &[Integer],
-) -> Result<XPoly, BetheError> {
+    same_n: Option<(&XPoly, &Laguerre, &Rational)>,
+) -> Result<(XPoly, Laguerre), BetheError> {
     let internal = |what: String| {
         BetheError::Basis(kzero_basis::BasisError::InvalidArgument(format!(
             "resolvent chain of (n={n}, L={big_l}): {what}"
         )))
     };
-    if let Some((u, _)) = same_n {
-        if src.inner(u, n, fact) != 0 {
+    if let Some((_, u_lag, _)) = same_n {
+        if src_lag.inner(u_lag, n) != 0 {
             return Err(internal("source not orthogonal to the same-n state".into()));
         }
     }
@@ -287,7 +352,9 @@ fn solve(
     let scale = Rational::from((n * n, 2u32));
     let s: Vec<Rational> = src.a.iter().map(|c| Rational::from(c * &scale)).collect();
     if s.is_empty() {
-        return Ok(XPoly { a: vec![] });
+        let phi = XPoly { a: vec![] };
+        let lag = phi.laguerre();
+        return Ok((phi, lag));
     }
     let dmax = s.len() - 1; // highest power of the source
     let ll = i64::from(big_l) * i64::from(big_l + 1);
@@ -312,14 +379,16 @@ fn solve(
         return Err(internal("solution not regular at the origin".into()));
     }
     let mut phi = trim(XPoly { a: x });
-    if let Some((u, uu)) = same_n {
-        let c = phi.inner(u, n, fact) / uu.clone();
+    let mut lag = phi.laguerre();
+    if let Some((u, u_lag, uu)) = same_n {
+        let c = lag.inner(u_lag, n) / uu.clone();
         let len = phi.a.len().max(u.a.len());
         phi.a.resize(len, Rational::new());
         for (p, v) in u.a.iter().enumerate() {
             phi.a[p] -= Rational::from(v * &c);
         }
         phi = trim(phi);
+        lag = lag.minus(&c, u_lag);
     }
     // check the equation exactly
     let back = phi.apply_offset(big_l, n);
@@ -333,5 +402,5 @@ fn solve(
     if !matches {
         return Err(internal("solution does not satisfy the equation".into()));
     }
-    Ok(phi)
+    Ok((phi, lag))
 }

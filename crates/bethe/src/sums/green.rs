@@ -29,14 +29,13 @@
 //! the absolute scale of its L(k)) before a panel is accepted.
 
 use super::chain::StateChains;
+use crate::green::integrand::phi_from_upper;
 use crate::green::meixner::{channel_j_sources, JValue, NuPoint};
 use crate::green::meter::Meter;
 use crate::green::panels::{panel_layout, Panel};
+use crate::green::pilot::{profile, PilotPoint};
 use crate::green::quad;
-use crate::green::rates::{
-    even_nodes, finer_nodes, nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE,
-    MAX_NODES, MAX_RATE,
-};
+use crate::green::refine::{integrate_panels, ByPrecision};
 use crate::green::scale::{exp2_of, quantize};
 use crate::BetheError;
 use kzero_basis::gordon::radial_dipole;
@@ -46,11 +45,6 @@ use rayon::prelude::*;
 use rug::{Assign, Float, Rational};
 
 const METHOD: &str = "green";
-
-/// Most pairs of rules tried on one panel.
-const MAX_TRIES: u32 = 8;
-/// Bits on top of the worst pilot loss near a panel.
-const GUARD_MARGIN: i32 = 24;
 
 /// The integrals of one state: for each requested k, the logarithmic sum
 /// sum_m c_m d_m^(k-1) ln(2|d_m|) (hartree, velocity form) and its error
@@ -329,14 +323,7 @@ impl Integrand {
         let top_l = self.chans.last().map_or(0, |c| c.big_l);
         for ch in self.chans.iter().rev() {
             let hint = match (&phi_up, ch.big_l + 2 == top_l) {
-                (Some(pu), true) => {
-                    let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, nu));
-                    let a1 = Float::with_val(prec, &a + 1u32);
-                    let mut v = Float::with_val(prec, &pt.zp.z * &pt.zp.z) * pu;
-                    v += Float::with_val(prec, &pt.zp.z / &a1);
-                    v += Float::with_val(prec, a.recip_ref());
-                    Some(v)
-                }
+                (Some(pu), true) => Some(phi_from_upper(ch.big_l, nu, &pt.zp.z, pu)),
                 _ => None,
             };
             let mut m = Meter::new();
@@ -390,26 +377,22 @@ impl Integrand {
             meters.push(meter);
         }
         // the poles of the lower states: 1/(n' - nu) once per state, shared
-        // by every component
+        // by every component (each term enters its component's meter)
         let mut acc = vec![Float::with_val(prec, 0); nc];
-        let mut biggest = vec![Float::with_val(prec, 0); nc];
         let mut r = Float::new(prec);
         let mut t = Float::new(prec);
         for (np, amps) in &self.lower {
             r.assign(np - nu);
             r.recip_mut();
-            for ((a, b), amp) in acc.iter_mut().zip(biggest.iter_mut()).zip(amps) {
+            for ((a, meter), amp) in acc.iter_mut().zip(&mut meters).zip(amps) {
                 t.assign(&r * amp);
-                if t.cmp_abs(b) == Some(std::cmp::Ordering::Greater) {
-                    b.assign(&t);
-                }
+                meter.term(&t);
                 *a += &t;
             }
         }
         let mut losses = Vec::with_capacity(nc);
-        for (((value, meter), a), b) in values.iter_mut().zip(&mut meters).zip(&acc).zip(&biggest) {
+        for ((value, meter), a) in values.iter_mut().zip(&mut meters).zip(&acc) {
             meter.term(value);
-            meter.term(b);
             *value -= a;
             meter.result(value);
             losses.push(meter.loss_bits);
@@ -486,15 +469,6 @@ fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i
     (sums.into_iter().map(|s| s * &h).collect(), loss)
 }
 
-/// One pilot point: nu, loss bits, and the exponent of the largest
-/// contribution scale factor nu |I| over the components.
-#[derive(Debug, Clone, Copy)]
-struct PilotPoint {
-    nu: f64,
-    loss: i32,
-    mag: i32,
-}
-
 /// The integrand at 24 log-spaced photon energies at two precisions: the
 /// loss of every component on the absolute scale of its L(k).
 fn pilot(ex: &Exact, bits: u32) -> Vec<PilotPoint> {
@@ -502,196 +476,31 @@ fn pilot(ex: &Exact, bits: u32) -> Vec<PilotPoint> {
     let p_hi = p_lo + 128;
     let lo = ex.at(p_lo);
     let hi = ex.at(p_hi);
-    let nf = f64::from(ex.n);
-    let count = 24;
-    let (lo_nu, hi_nu) = (1e-5, 0.99 * nf);
-    let points: Vec<f64> = (0..count)
-        .map(|i| {
-            let t = f64::from(i) / f64::from(count - 1);
-            lo_nu * (hi_nu / lo_nu).powf(t) * 0.998_7
-        })
-        .collect();
-    let found: Vec<(i32, i32)> = points
-        .par_iter()
-        .map(|&x| {
-            let a = lo.sample(&Float::with_val(p_lo, x));
-            let b = hi.sample(&Float::with_val(p_hi, x));
-            let mut loss = i32::MIN;
-            let mut mag = i32::MIN;
-            for (c, comp) in lo.comps.iter().enumerate() {
-                let (va, vb) = (&a.values[c], &b.values[c]);
-                if !va.is_finite() || !vb.is_finite() {
-                    return (p_lo as i32 + 64, 0);
-                }
-                let weight = Float::with_val(p_hi, x) * 2f64.powi(comp.factor_exp);
-                let m = exp2_of(&Float::with_val(p_hi, vb * &weight));
-                let log_part = Float::with_val(p_hi, &b.logs[c] * x.ln()) * &weight;
-                let metered = a.losses[c] + m.max(exp2_of(&log_part));
-                let d = Float::with_val(p_hi, Float::with_val(p_hi, va) - vb).abs();
-                let seen = if d.is_zero() {
-                    i32::MIN
-                } else {
-                    p_lo as i32 + exp2_of(&Float::with_val(p_hi, &d * &weight))
-                };
-                loss = loss.max(seen.max(metered));
-                mag = mag.max(m);
+    profile(ex.n, |x| {
+        let a = lo.sample(&Float::with_val(p_lo, x));
+        let b = hi.sample(&Float::with_val(p_hi, x));
+        let mut loss = i32::MIN;
+        let mut mag = i32::MIN;
+        for (c, comp) in lo.comps.iter().enumerate() {
+            let (va, vb) = (&a.values[c], &b.values[c]);
+            if !va.is_finite() || !vb.is_finite() {
+                return (p_lo as i32 + 64, 0);
             }
-            (loss, mag)
-        })
-        .collect();
-    points
-        .into_iter()
-        .zip(found)
-        .map(|(nu, (loss, mag))| PilotPoint { nu, loss, mag })
-        .collect()
-}
-
-/// (guard bits, magnitude exponent) of a panel from the pilot points within
-/// a factor 2 of it (all points below 2 nu1 for the first panel), else the
-/// nearest one.
-fn panel_plan(profile: &[PilotPoint], panel: &Panel) -> (u32, i32) {
-    let (lo, hi) = (panel.start / 2.0, panel.end * 2.0);
-    let mut pts: Vec<PilotPoint> = profile
-        .iter()
-        .filter(|p| (lo..=hi).contains(&p.nu) || (panel.first && p.nu <= hi))
-        .copied()
-        .collect();
-    if pts.is_empty() {
-        let mid = 0.5 * (panel.start + panel.end);
-        if let Some(p) = profile.iter().min_by(|a, b| {
-            (a.nu - mid)
-                .abs()
-                .partial_cmp(&(b.nu - mid).abs())
-                .unwrap_or(std::cmp::Ordering::Equal)
-        }) {
-            pts.push(*p);
+            let weight = Float::with_val(p_hi, x) * 2f64.powi(comp.factor_exp);
+            let m = exp2_of(&Float::with_val(p_hi, vb * &weight));
+            let log_part = Float::with_val(p_hi, &b.logs[c] * x.ln()) * &weight;
+            let metered = a.losses[c] + m.max(exp2_of(&log_part));
+            let d = Float::with_val(p_hi, Float::with_val(p_hi, va) - vb).abs();
+            let seen = if d.is_zero() {
+                i32::MIN
+            } else {
+                p_lo as i32 + exp2_of(&Float::with_val(p_hi, &d * &weight))
+            };
+            loss = loss.max(seen.max(metered));
+            mag = mag.max(m);
         }
-    }
-    let worst = pts.iter().map(|p| p.loss).max().unwrap_or(0);
-    let mag = pts.iter().map(|p| p.mag).max().unwrap_or(0) + 1;
-    ((worst.max(0) + GUARD_MARGIN) as u32, mag)
-}
-
-struct PanelResult {
-    values: Vec<Float>,
-    errs: Vec<f64>,
-    nodes: usize,
-    prec: u32,
-    rate: f64,
-}
-
-/// Integrands at several precisions, built on first use.
-struct ByPrec<'a> {
-    ex: &'a Exact,
-    built: Vec<Integrand>,
-}
-
-impl ByPrec<'_> {
-    fn at(&mut self, prec: u32) -> &Integrand {
-        let i = match self.built.iter().position(|p| p.prec == prec) {
-            Some(i) => i,
-            None => {
-                self.built.push(self.ex.at(prec));
-                self.built.len() - 1
-            }
-        };
-        &self.built[i]
-    }
-}
-
-/// Integrates one panel until every component's pair of rules agrees to
-/// `tol` on the scale of its L(k) (the ln k0 driver's rule, applied to the
-/// vector). `Err(best)` when it does not within [`MAX_TRIES`] pairs.
-fn converge_panel(
-    probs: &mut ByPrec,
-    panel: &Panel,
-    bits: u32,
-    mut guard: u32,
-    mut nodes_a: usize,
-    tol: f64,
-) -> Result<PanelResult, f64> {
-    let factors: Vec<f64> = probs.ex.comps.iter().map(|c| c.factor).collect();
-    let mut best = f64::INFINITY;
-    let mut last_err = f64::INFINITY;
-    let mut a_high = false;
-    let mut coarse: Option<(Vec<Float>, i32)> = None;
-    let short_of_bits = |loss: i32, v: &[Float], guard: u32| {
-        (loss + 16 > guard as i32 || v.iter().any(|x| !x.is_finite()))
-            .then(|| (loss.max(guard as i32) + GUARD_MARGIN) as u32)
-    };
-    for _ in 0..MAX_TRIES {
-        let base = quantize(bits + guard);
-        let (prec_a, prec_b) = if a_high {
-            (base + 32, base)
-        } else {
-            (base, base + 32)
-        };
-        let (va, loss_a) = match coarse.take() {
-            Some(c) => c,
-            None => panel_integral(probs.at(prec_a), panel, nodes_a),
-        };
-        if let Some(g) = short_of_bits(loss_a, &va, guard) {
-            guard = g;
-            a_high = false;
-            continue;
-        }
-        let nodes_b = finer_nodes(nodes_a);
-        let (vb, loss_b) = panel_integral(probs.at(prec_b), panel, nodes_b);
-        let loss = loss_a.max(loss_b);
-        if let Some(g) = short_of_bits(loss, &vb, guard) {
-            guard = g;
-            a_high = false;
-            continue;
-        }
-        let floor = 2f64.powi(loss - base as i32);
-        let errs: Vec<f64> = va
-            .iter()
-            .zip(&vb)
-            .zip(&factors)
-            .map(|((x, y), f)| {
-                let d = Float::with_val(prec_a.max(prec_b), x - y).abs().to_f64() * f;
-                d.max(floor) * 2.0
-            })
-            .collect();
-        let err = errs.iter().copied().fold(0.0f64, f64::max);
-        best = best.min(err);
-        if err < tol {
-            let size = vb
-                .iter()
-                .zip(&factors)
-                .map(|(v, f)| v.to_f64().abs() * f)
-                .fold(0.0f64, f64::max);
-            let rate = (size.max(err).log2() - err.log2()) / nodes_a as f64;
-            return Ok(PanelResult {
-                values: vb,
-                errs,
-                nodes: nodes_b,
-                prec: prec_a.max(prec_b),
-                rate,
-            });
-        }
-        if nodes_b >= MAX_NODES {
-            break;
-        }
-        if err > last_err * 2f64.powi(-8) {
-            // more nodes did not help: rounding sets the difference
-            last_err = f64::INFINITY;
-            guard += 32;
-            a_high = false;
-            continue;
-        }
-        last_err = err;
-        let gained = BITS_PER_NODE * (nodes_b - nodes_a) as f64;
-        if err.log2() - gained < tol.log2() - 4.0 {
-            coarse = Some((vb, loss_b));
-            nodes_a = nodes_b;
-            a_high = !a_high;
-        } else {
-            let more = (err.log2() - tol.log2() + 4.0) / BITS_PER_NODE;
-            nodes_a = even_nodes(nodes_a as f64 + more).max(finer_nodes(nodes_b));
-        }
-    }
-    Err(best)
+        (loss, mag)
+    })
 }
 
 /// The logarithmic sums of the powers `ks` (sorted, in range) for the state
@@ -706,45 +515,24 @@ pub(crate) fn log_sums(sc: &StateChains, ks: &[i32], digits: u32) -> Result<Out,
     let profile = pilot(&ex, bits);
     let panels = panel_layout(ex.n, ex.first_lower());
     let tol = goal / panels.len() as f64;
-    let mut probs = ByPrec {
-        ex: &ex,
-        built: Vec::new(),
-    };
-    let nc = ex.comps.len();
-    let mut integrals: Vec<Vec<Float>> = Vec::with_capacity(panels.len());
-    let mut errs = vec![0.0f64; nc];
-    let (mut nodes, mut prec) = (0usize, 0u32);
-    let mut rate = FIRST_GUESS_RATE;
-    for panel in &panels {
-        let (guard, mag) = panel_plan(&profile, panel);
-        let start = if panel.first {
-            nodes_for(mag, tol, FIRST_PANEL_RATE, 4.0)
-        } else {
-            nodes_for(mag, tol, rate, 4.0)
-        };
-        match converge_panel(&mut probs, panel, bits, guard, start, tol) {
-            Ok(r) => {
-                if !panel.first {
-                    rate = r.rate.clamp(BITS_PER_NODE, MAX_RATE);
-                }
-                for (e, x) in errs.iter_mut().zip(&r.errs) {
-                    *e += x;
-                }
-                nodes += r.nodes;
-                prec = prec.max(r.prec);
-                integrals.push(r.values);
-            }
-            Err(best) => {
-                return Err(BetheError::NoConvergence {
-                    method: METHOD,
-                    n: sc.n,
-                    l: sc.l,
-                    achieved: best * panels.len() as f64,
-                    goal,
-                })
-            }
-        }
-    }
+    let mut probs = ByPrecision::new(|prec| ex.at(prec));
+    let factors: Vec<f64> = ex.comps.iter().map(|c| c.factor).collect();
+    let done = integrate_panels(
+        &panels,
+        &profile,
+        bits,
+        tol,
+        &factors,
+        &mut |panel, prec, nodes| panel_integral(probs.at(prec), panel, nodes),
+    )
+    .map_err(|best| BetheError::NoConvergence {
+        method: METHOD,
+        n: sc.n,
+        l: sc.l,
+        achieved: best * panels.len() as f64,
+        goal,
+    })?;
+    let (errs, nodes, prec, integrals) = (done.errs, done.nodes, done.prec, done.values);
     let worst = errs.iter().copied().fold(0.0f64, f64::max);
     if worst >= goal {
         return Err(BetheError::NoConvergence {

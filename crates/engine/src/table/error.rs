@@ -22,6 +22,34 @@ impl std::fmt::Display for Place {
     }
 }
 
+/// One row of a table: its state, and its power k in a table of the
+/// dipole sums (one row per state and k). Shown as `(n=2, l=1)` or
+/// `(n=2, l=1, k=0)`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct RowId {
+    /// The state (n, l).
+    pub key: Key,
+    /// The power k of a dipole-sum row.
+    pub k: Option<i32>,
+}
+
+impl RowId {
+    /// The row of state `key` in an ln k0 table.
+    pub fn state(key: Key) -> RowId {
+        RowId { key, k: None }
+    }
+}
+
+impl std::fmt::Display for RowId {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let (n, l) = self.key;
+        match self.k {
+            None => write!(f, "(n={n}, l={l})"),
+            Some(k) => write!(f, "(n={n}, l={l}, k={k})"),
+        }
+    }
+}
+
 /// What is wrong with the text of a table file.
 #[derive(Debug, Clone, PartialEq, Eq, Error)]
 #[non_exhaustive]
@@ -44,28 +72,28 @@ pub enum FormatProblem {
     OldFormat,
     /// A row whose checksum does not match its fields: changed after it
     /// was written.
-    #[error("row (n={}, l={}) was changed after it was written (its check {found} does not match)", .key.0, .key.1)]
+    #[error("row {row} was changed after it was written (its check {found} does not match)")]
     RowChanged {
-        /// The state of the row.
-        key: Key,
+        /// The row.
+        row: RowId,
         /// The checksum found in the file.
         found: String,
     },
     /// A row whose error estimate is negative.
-    #[error("row (n={}, l={}): {column} {value} is negative", .key.0, .key.1)]
+    #[error("row {row}: {column} {value} is negative")]
     RowErrorNegative {
-        /// The state of the row.
-        key: Key,
+        /// The row.
+        row: RowId,
         /// The error column.
         column: &'static str,
         /// The error as written.
         value: String,
     },
     /// A row whose error estimate is above the goal of its digits.
-    #[error("row (n={}, l={}): {column} {value} is above the goal of {digits} digits of the table", .key.0, .key.1)]
+    #[error("row {row}: {column} {value} is above the goal of {digits} digits of the table")]
     RowErrorAboveGoal {
-        /// The state of the row.
-        key: Key,
+        /// The row.
+        row: RowId,
         /// The error column.
         column: &'static str,
         /// The error as written.
@@ -175,12 +203,10 @@ pub enum FormatProblem {
     #[error("row field 'method' is not a method")]
     RowMethod,
     /// A row of the dipole sums with only one of ln_I and ln_I_err.
-    #[error("row (n={}, l={}, k={k}): ln_I and ln_I_err must both be given or both be empty", .key.0, .key.1)]
+    #[error("row {row}: ln_I and ln_I_err must both be given or both be empty")]
     LnIHalf {
-        /// The state of the row.
-        key: Key,
-        /// Its power k.
-        k: i32,
+        /// The row.
+        row: RowId,
     },
     /// The rows of one state of a dipole-sum table do not hold the
     /// table's powers k, once each and in order.

@@ -2,8 +2,8 @@
 
 use super::sums::{self, PowerRow, ReadLine, SumsEntry};
 use super::{
-    row_check, FormatProblem, Place, Quantity, Row, Table, TableError, TableSettings, CHECK_COLUMN,
-    FORMAT_VERSION, JSON_FORMAT, MAGIC, PROV_KEYS,
+    row_check, FormatProblem, Place, Quantity, Row, RowId, Table, TableError, TableSettings,
+    CHECK_COLUMN, FORMAT_VERSION, JSON_FORMAT, MAGIC, PROV_KEYS,
 };
 use crate::method::MethodChoice;
 use crate::shard::{Key, Shard};
@@ -207,7 +207,14 @@ fn parse_sums_csv_row(line: &str, settings: &TableSettings) -> Result<ReadLine, 
         .map_err(|_| FormatProblem::NotNumber(f[2].to_string()))?;
     let ln_i = match (f[7], f[8]) {
         ("", "") => None,
-        ("", _) | (_, "") => return Err(FormatProblem::LnIHalf { key: (n, l), k }),
+        ("", _) | (_, "") => {
+            return Err(FormatProblem::LnIHalf {
+                row: RowId {
+                    key: (n, l),
+                    k: Some(k),
+                },
+            })
+        }
         _ => Some((decimal(7)?, decimal(8)?)),
     };
     let spectral = if settings.method == MethodChoice::Both {
@@ -264,7 +271,12 @@ fn json_sums_row(v: &Value, settings: &TableSettings) -> Result<ReadLine, Format
     let ln_i = match (o.get("ln_I"), o.get("ln_I_err")) {
         (Some(Value::Null), Some(Value::Null)) => None,
         (Some(Value::Null), _) | (_, Some(Value::Null)) => {
-            return Err(FormatProblem::LnIHalf { key: (n, l), k })
+            return Err(FormatProblem::LnIHalf {
+                row: RowId {
+                    key: (n, l),
+                    k: Some(k),
+                },
+            })
         }
         _ => Some((text("ln_I")?, text("ln_I_err")?)),
     };
@@ -311,9 +323,10 @@ fn json_sums_row(v: &Value, settings: &TableSettings) -> Result<ReadLine, Format
 fn check_sums_line(read: &ReadLine, settings: &TableSettings) -> Result<(), FormatProblem> {
     let (h, p) = (&read.head, &read.row);
     let key = read.key();
+    let row = RowId { key, k: Some(p.k) };
     if row_check(&h.fields(p)) != read.check {
         return Err(FormatProblem::RowChanged {
-            key,
+            row,
             found: read.check.clone(),
         });
     }
@@ -335,9 +348,9 @@ fn check_sums_line(read: &ReadLine, settings: &TableSettings) -> Result<(), Form
         errors.push(("S_err_spectral", s[1].as_str(), s[0].as_str()));
         errors.push(("L_err_spectral", s[3].as_str(), s[2].as_str()));
     }
-    check_errors(key, h.digits, settings.goal, &errors)?;
+    check_errors(row, h.digits, settings.goal, &errors)?;
     if let Some((_, e)) = &p.ln_i {
-        error_value(key, "ln_I_err", e)?;
+        error_value(row, "ln_I_err", e)?;
     }
     Ok(())
 }
@@ -348,7 +361,7 @@ fn check_row(read: &ReadRow, settings: &TableSettings) -> Result<(), FormatProbl
     let r = &read.row;
     if r.check() != read.check {
         return Err(FormatProblem::RowChanged {
-            key: r.key(),
+            row: RowId::state(r.key()),
             found: read.check.clone(),
         });
     }
@@ -357,7 +370,7 @@ fn check_row(read: &ReadRow, settings: &TableSettings) -> Result<(), FormatProbl
     if let Some((v, e, _)) = &r.both {
         errors.push(("abs_err_spectral", e.as_str(), v.as_str()));
     }
-    check_errors(r.key(), r.digits, settings.goal, &errors)
+    check_errors(RowId::state(r.key()), r.digits, settings.goal, &errors)
 }
 
 /// A row's state selected by the settings, with their digits and method.
@@ -377,10 +390,10 @@ fn check_place(
     Ok(())
 }
 
-/// Checks error columns `(column, error text, value text)` of the row of
-/// `key`: each a finite number, not negative, not above the goal.
+/// Checks error columns `(column, error text, value text)` of `row`: each
+/// a finite number, not negative, not above the goal.
 fn check_errors(
-    key: Key,
+    row: RowId,
     digits: u32,
     goal: Goal,
     errors: &[(&'static str, &str, &str)],
@@ -395,9 +408,9 @@ fn check_errors(
             Goal::Significant => unit * value_text.parse::<f64>().unwrap_or(0.0).abs(),
             _ => unit,
         };
-        if error_value(key, column, text)? > bound {
+        if error_value(row, column, text)? > bound {
             return Err(FormatProblem::RowErrorAboveGoal {
-                key,
+                row,
                 column,
                 value: text.to_string(),
                 digits,
@@ -409,7 +422,7 @@ fn check_errors(
 
 /// The error estimate `text` of column `column`: a finite number, not
 /// negative.
-fn error_value(key: Key, column: &'static str, text: &str) -> Result<f64, FormatProblem> {
+fn error_value(row: RowId, column: &'static str, text: &str) -> Result<f64, FormatProblem> {
     let value = text.to_string();
     let e: f64 = text
         .parse()
@@ -418,7 +431,7 @@ fn error_value(key: Key, column: &'static str, text: &str) -> Result<f64, Format
         return Err(FormatProblem::NotNumber(value));
     }
     if e < 0.0 || text.starts_with('-') {
-        return Err(FormatProblem::RowErrorNegative { key, column, value });
+        return Err(FormatProblem::RowErrorNegative { row, column, value });
     }
     Ok(e)
 }

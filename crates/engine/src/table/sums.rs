@@ -93,9 +93,11 @@ impl SumsEntry {
             .iter()
             .map(|r| {
                 let t = row_text(p, r, None);
-                let sp = spectral.and_then(|s| s.row(r.k)).map(|sr| {
-                    let st = row_text(spectral.unwrap_or(p), sr, None);
-                    [st.s, st.s_err, st.l, st.l_err]
+                let sp = spectral.and_then(|s| {
+                    s.row(r.k).map(|sr| {
+                        let st = row_text(s, sr, None);
+                        [st.s, st.s_err, st.l, st.l_err]
+                    })
                 });
                 PowerRow {
                     k: t.k,
@@ -291,7 +293,7 @@ pub fn render_powers(ks: &[i32]) -> String {
 #[cfg(test)]
 mod tests {
     use super::super::tests::table;
-    use super::super::{parse_table, Quantity, Table, TableSettings};
+    use super::super::{parse_table, Quantity, StateValues, Table, TableSettings};
     use super::*;
     use crate::build_info::Provenance;
     use crate::shard::Shard;
@@ -445,7 +447,10 @@ mod tests {
         let mut t2 = t.clone();
         t2.sums[0] = e.clone();
         let p = parse_table(&t2.to_csv()).unwrap_err().problem.to_string();
-        assert!(p.contains("ln_I_err -1e-3 is negative"), "{p}");
+        assert!(
+            p.contains("row (n=1, l=0, k=0): ln_I_err -1e-3 is negative"),
+            "{p}"
+        );
         // ln I's error is not bounded by the goal (S may be small)
         e.powers[0].ln_i = Some(("0.1".into(), "1e-3".into()));
         t2.sums[0] = e.clone();
@@ -472,6 +477,31 @@ mod tests {
         );
         let p = parse_table(&csv).unwrap_err().problem.to_string();
         assert!(p.contains("ln_I and ln_I_err must both be given"), "{p}");
+    }
+
+    /// With `both`, a sum where the methods differ beyond their estimates
+    /// is named (the table then ends with exit code 3); agreeing methods
+    /// are not. The disagreement is made by moving one spectral L(k).
+    #[test]
+    fn a_disagreement_of_the_methods_is_reported() {
+        let s = TableSettings::new(2, 2, None, None, 8, MethodChoice::Both, Gauge::Length)
+            .unwrap()
+            .with_sums(&[-1, 0])
+            .unwrap();
+        let StateValues::Sums(c) = s.compute(2, 1).unwrap() else {
+            panic!("a dipole-sum table computes sums");
+        };
+        assert!(StateValues::Sums(c.clone()).disagreement().is_none());
+        let mut spectral = c.spectral().unwrap().clone();
+        spectral.rows[1].log_sum += 1e-6;
+        let moved = ComputedSums::from_parts(c.green().cloned(), Some(spectral));
+        let d = StateValues::Sums(moved.clone()).disagreement().unwrap();
+        assert!(d.starts_with("(n=2, l=1): L(0) green "), "{d}");
+        assert!(d.contains("differ beyond their error estimates"), "{d}");
+        // the rows still carry both values, as computed
+        let e = SumsEntry::from_computed(&moved, MethodChoice::Both);
+        let sp = e.powers[1].spectral.as_ref().unwrap();
+        assert_ne!(sp[2], e.powers[1].log_sum);
     }
 
     #[test]
