@@ -28,7 +28,7 @@ pub(crate) struct PilotPoint {
 
 /// Loss profile of the integrand: evaluates it at [`PILOT_POINTS`]
 /// log-spaced photon energies (nu from 1e-5 to 0.99 n) at two precisions
-/// and compares. Returns the points with nu increasing.
+/// (bits + 64 rounded up to 32, and 64 more but at least 256) and compares. Returns the points with nu increasing.
 ///
 /// The loss is measured on the absolute scale of ln k0 (as in
 /// [`super::panels::panel_integral`]): the difference of the two
@@ -38,7 +38,11 @@ pub(crate) struct PilotPoint {
 /// relative digits without costing any bits of ln k0.
 pub(crate) fn pilot_profile(state: &ExactState, bits: u32) -> Vec<PilotPoint> {
     let p_lo = quantize(bits + 64);
-    let p_hi = p_lo + 128;
+    // the higher evaluation only has to be far more accurate than the lower
+    // one (by 2^64: the loss is a property of the computation, the same at
+    // both precisions); at least 256 bits, so that losses up to about 200
+    // bits stay measurable at few digits
+    let p_hi = (p_lo + 64).max(256);
     let lo = state.integrand(p_lo);
     let hi = state.integrand(p_hi);
     let scale = ln_k0_scale(state.n);
