@@ -94,10 +94,7 @@ pub fn refuse_unused_gauge<T>(method: MethodChoice, gauge: Option<T>) -> Result<
 /// with other items.
 pub fn powers(list: &[String]) -> Result<Vec<i64>, AppError> {
     if list.len() == 1 && list[0].trim() == "all" {
-        return Ok(kzero_bethe::sums::all_powers()
-            .into_iter()
-            .map(i64::from)
-            .collect());
+        return Ok(kzero_engine::sums::requested_powers(None));
     }
     list.iter()
         .map(|x| {

@@ -4,7 +4,7 @@ from decimal import Decimal
 from typing import TYPE_CHECKING, Any, Dict, Iterable, List, Optional, Union
 
 if TYPE_CHECKING:
-    from ._sums import SumRow
+    from ._sums import SumRow, Sums
 
 __all__ = ["Exact", "Value", "to_rows"]
 
@@ -171,7 +171,7 @@ class Value:
         return f"ln k0({self.n},{self.l}) = {self.value} +- {err}"
 
 
-def to_rows(values: "Iterable[Union[Value, SumRow]]") -> List[Dict[str, Any]]:
+def to_rows(values: "Iterable[Union[Value, SumRow, Sums]]") -> List[Dict[str, Any]]:
     """Plain dicts, one per value, for ``pandas.DataFrame(kzero.to_rows(vs))``.
 
     The keys are those of the command line's ``--json`` output: ``n``,
@@ -182,12 +182,21 @@ def to_rows(values: "Iterable[Union[Value, SumRow]]") -> List[Dict[str, Any]]:
     ``consistent``. pandas is not needed by kzero.
 
     Given the dipole sums (a ``kzero.Sums``, which iterates over its rows,
-    or any iterable of ``kzero.SumRow``), one dict per k with ``n``, ``l``
-    and the keys of a row of ``kzero sums --json``: ``k``, ``S``,
+    a list of them such as ``kzero.table(..., sums=...)`` returns, or any
+    iterable of ``kzero.SumRow``), one dict per state and k with ``n``,
+    ``l`` and the keys of a row of ``kzero sums --json``: ``k``, ``S``,
     ``S_err``, ``L``, ``L_err``, ``ln_I``, ``ln_I_err``, ``I_eV``,
     ``I_eV_err``.
     """
-    return [v.as_dict() for v in values]
+    from ._sums import Sums
+
+    rows: List[Dict[str, Any]] = []
+    for v in values:
+        if isinstance(v, Sums):
+            rows.extend(r.as_dict() for r in v)
+        else:
+            rows.append(v.as_dict())
+    return rows
 
 
 class Exact:

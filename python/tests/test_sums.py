@@ -410,6 +410,10 @@ def test_table_of_sums_equals_single_calls():
         one = kzero.sums(s.n, s.l, k=[0, -1], digits=12, nucleus="D")
         assert kzero.to_rows(s) == kzero.to_rows(one)
         assert (s.nucleus, s.energy_unit_eV) == ("D", one.energy_unit_eV)
+    # One plain dict per state and k, in table order.
+    rows = kzero.to_rows(tables)
+    assert [(r["n"], r["l"], r["k"]) for r in rows] == [
+        (n, l, k) for n, l in [(1, 0), (2, 1), (3, 2)] for k in (-1, 0)]
 
 
 def test_table_of_sums_bad_input(kzero_bin):

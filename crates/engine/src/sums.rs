@@ -369,7 +369,7 @@ pub fn rows_text(sums: &DipoleSums, nucleus: &Nucleus) -> Vec<RowText> {
 /// `energy_unit_eV_err` (Z^2 Ry of the nucleus in eV, [`EnergyUnit::printed`]), `rows` (one [`row_json`] per k, of
 /// the primary result), with both methods `rows_spectral` and `consistent`
 /// (no disagreement, see [`ComputedSums::disagreements`]), `bits` and
-/// `nodes` (of the primary result) and `seconds` (all methods).
+/// `nodes` (of the primary result) and `seconds` (all methods, a decimal string as in every JSON output).
 ///
 /// Every front end prints the sums through this function, so the same
 /// request gives the same strings everywhere.
@@ -399,7 +399,7 @@ pub fn sums_json(c: &ComputedSums, nucleus: &Nucleus) -> Value {
     }
     m.insert("bits".into(), json!(p.bits));
     m.insert("nodes".into(), json!(p.nodes));
-    m.insert("seconds".into(), json!(c.seconds()));
+    m.insert("seconds".into(), json!(format!("{:.3}", c.seconds())));
     Value::Object(m)
 }
 

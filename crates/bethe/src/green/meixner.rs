@@ -382,8 +382,10 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
         MILLER_DECISION_BITS as u32,
     );
     let coef_ops = OPS_PER_COEF * m as f64;
+    // a forward loss raises the precision of the whole node (of the whole
+    // panel, in fact), m(a) included
     let chosen_cost = match decision_top {
-        None => stieltjes + coef_ops * precision_factor(forward_loss),
+        None => (stieltjes + coef_ops) * precision_factor(forward_loss),
         Some(top) => stieltjes + coef_ops + OPS_PER_MILLER_STEP * top as f64,
     };
     let steps_affordable = (chosen_cost - coef_ops) / (OPS_PER_MILLER_STEP + OPS_PER_HORNER_STEP);

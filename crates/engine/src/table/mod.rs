@@ -381,6 +381,30 @@ impl TableSettings {
     /// [`kzero_bethe::sums::K_MIN`]..=[`kzero_bethe::sums::K_MAX`],
     /// [`SelectionError::NoPowers`] for an empty list,
     /// [`SelectionError::SumsGoal`] with a significant-digit goal.
+    ///
+    /// # Example
+    /// A whole table of the dipole sums through library calls (what
+    /// `kzero table --n-max 2 --sums -2,0 --digits 8` writes):
+    /// ```
+    /// use kzero_engine::{Gauge, MethodChoice, Shard, Table, TableSettings};
+    /// let s = TableSettings::new(1, 2, None, None, 8, MethodChoice::Green, Gauge::Length)
+    ///     .unwrap()
+    ///     .with_sums(&[0, -2])
+    ///     .unwrap();
+    /// let mut t = Table::new(s.clone(), Shard::WHOLE, "example", 1);
+    /// for ((n, l), _cost) in s.plan(Shard::WHOLE) {
+    ///     let lines = t.add(&s.compute(n, l).unwrap());
+    ///     assert_eq!(lines.lines().count(), 2); // one row per k
+    /// }
+    /// t.sort();
+    /// let csv = t.to_csv();
+    /// assert!(csv.contains("# setting.k: -2,0\n"));
+    /// // 1s: S(-2) = 9/8, a quarter of the static polarizability 9/2 bohr^3
+    /// // (Bethe & Salpeter 1957)
+    /// assert!(csv.contains("\n1,0,-2,1.1250000000,"));
+    /// let back = kzero_engine::table::parse_table(&csv).unwrap();
+    /// assert_eq!(back.sums, t.sums);
+    /// ```
     pub fn with_sums(mut self, ks: &[i64]) -> Result<TableSettings, SelectionError> {
         use kzero_bethe::BetheError;
         let ks = kzero_bethe::sums::validate_powers(ks).map_err(|e| match e {
