@@ -84,14 +84,22 @@ use std::time::Instant;
 
 pub use green::cost_estimate as green_cost_estimate;
 
-/// Relative cost of [`spectral_sums`] for (n, l) at `digits` with `count`
-/// powers (arbitrary units comparable with
-/// [`crate::spectral::cost_estimate`] of the same state; load balancing
-/// only). Measured: about 1.5 times one ln k0 for small n, growing with n
-/// (the absolute goal on sums of size n^(3(1-k)) asks for more digits).
+/// Estimated single-core CPU seconds of [`spectral_sums`] for (n, l) at
+/// `digits` with `count` powers, on the reference machine of
+/// benches/README.md (as [`crate::spectral::cost_estimate`], used for shard
+/// plans and estimates).
+///
+/// # Accuracy
+/// The powers share the matrix elements and densities of every node; what
+/// they add is the bits and quadrature levels of the largest sums, which
+/// weigh most at small n (the continuum closed forms dominate the cost at
+/// large n). The factor over one ln k0, 1 + (count/7)/(1 + (n/30)^1.5), is
+/// within 20 % of measured instruction counts of the whole set k = -4..2 at
+/// 20 digits (ratios 1.9 to 1.2 for n = 2 to 200).
 pub fn spectral_cost_estimate(n: u32, l: u32, digits: u32, count: usize) -> f64 {
-    let extra = (15.0 * f64::from(n.max(1)).log10()).min(40.0);
-    crate::spectral::cost_estimate(n, l, digits + extra as u32) * (1.0 + 0.1 * count as f64)
+    let share = count.min(7) as f64 / 7.0;
+    let factor = 1.0 + share / (1.0 + (f64::from(n) / 30.0).powf(1.5));
+    crate::spectral::cost_estimate(n, l, digits) * factor
 }
 
 /// Smallest supported power k.
