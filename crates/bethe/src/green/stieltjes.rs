@@ -177,7 +177,37 @@ pub(crate) fn stieltjes_log_coef(beta: u32, a: &Float, pt: &ZPoint) -> Float {
     r * y_beta * chi
 }
 
-/// Direct summation of the defining series (fast for small z).
+/// Guard bits of the tail of a direct series above the bits its terms
+/// still need (see [`tail_prec`]).
+const TAIL_GUARD: u32 = 24;
+
+/// Working precision of a term of a direct series once its terms decrease
+/// monotonically: a term 2^-d below the largest term of the sum (binary
+/// exponents `max_exp` and `term_exp`) needs only prec - d bits for an
+/// absolute error of 2^-prec times the largest term. Returns
+/// prec + [`TAIL_GUARD`] - d rounded up to a multiple of 64 bits (the limb
+/// size, which sets the cost of an MPFR operation), at least 64 and at most
+/// `prec`.
+///
+/// # Accuracy
+/// Term j of the tail carries a relative error of about
+/// 3 sum_{k<=j} 2^-p_k from the rounded recurrence of its numerator, each
+/// 2^-p_k at most 2^(max_exp - term_exp_k - prec - TAIL_GUARD); as the
+/// terms decrease by r >= 0.15 bits a step (z <= 0.9) and there are at
+/// most about prec / r of them, their errors add up to less than
+/// 3 prec / (r^2 ln 2) 2^-TAIL_GUARD < 2^-8 times 2^(max_exp - prec) for
+/// prec <= 1000 (2^-5 at 8000 bits): below the rounding of the sum itself.
+fn tail_prec(prec: u32, max_exp: i32, term_exp: i32) -> u32 {
+    let drop = i64::from(max_exp) - i64::from(term_exp);
+    let need = i64::from(prec) + i64::from(TAIL_GUARD) - drop.max(0);
+    let tier = ((need.max(1) + 63) / 64) * 64;
+    tier.clamp(64, i64::from(prec).max(64)) as u32
+}
+
+/// Direct summation of the defining series (fast for small z). Past its
+/// peak and past the pole of 1/(k + a), the terms decrease monotonically
+/// and are formed at the lower precision [`tail_prec`] (the sum stays at
+/// full precision).
 fn series(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let prec = a.prec();
     let mut c = Float::with_val(prec, 1); // z^k (beta)_k / k!
@@ -187,11 +217,20 @@ fn series(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let mut k = 0usize;
     let mut den = Float::new(prec);
     let mut t = Float::new(prec);
+    let mut max_exp = i32::MIN;
+    let mut wp = prec;
+    // z and a at the working precision (rounded copies in the tail)
+    let mut z_w = pt.z.clone();
+    let mut a_w = a.clone();
     loop {
-        den.assign(a + k as u32);
+        den.assign(&a_w + k as u32);
         t.assign(&c / &den);
         meter.term(&t);
         sum += &t;
+        let te = t.get_exp();
+        if let Some(e) = te {
+            max_exp = max_exp.max(e);
+        }
         let beyond_pole = (k as f64) > -ar + 1.0;
         if k > peak && beyond_pole && !sum.is_zero() {
             let small = t.is_zero()
@@ -199,8 +238,19 @@ fn series(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
             if small {
                 break;
             }
+            if let Some(e) = te {
+                let p = tail_prec(prec, max_exp, e);
+                if p < wp {
+                    wp = p;
+                    c.set_prec(wp);
+                    den.set_prec(wp);
+                    t.set_prec(wp);
+                    z_w.set_prec(wp);
+                    a_w.set_prec(wp);
+                }
+            }
         }
-        c *= &pt.z;
+        c *= &z_w;
         c *= beta + k as u32;
         c /= (k + 1) as u32;
         k += 1;
@@ -272,7 +322,9 @@ pub(crate) fn lerch_phi(a: &Float, pt: &ZPoint, meter: &mut Meter, with_log: boo
     WithLog { value, log_coef }
 }
 
-/// Phi(z, 1, a) = sum_k z^k/(k+a) by direct summation.
+/// Phi(z, 1, a) = sum_k z^k/(k+a) by direct summation; past the pole of
+/// 1/(k + a) the terms decrease monotonically and are formed at the lower
+/// precision [`tail_prec`] (the sum stays at full precision).
 fn phi_series(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let prec = a.prec();
     let mut zk = Float::with_val(prec, 1);
@@ -281,18 +333,38 @@ fn phi_series(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     let mut k = 0u32;
     let mut den = Float::new(prec);
     let mut t = Float::new(prec);
+    let mut max_exp = i32::MIN;
+    let mut wp = prec;
+    let mut z_w = pt.z.clone();
+    let mut a_w = a.clone();
     loop {
-        den.assign(a + k);
+        den.assign(&a_w + k);
         t.assign(&zk / &den);
         meter.term(&t);
         sum += &t;
-        if f64::from(k) > -ar + 1.0
-            && (t.is_zero()
-                || t.get_exp().unwrap_or(i32::MIN) < sum.get_exp().unwrap_or(0) - prec as i32 - 8)
-        {
-            break;
+        let te = t.get_exp();
+        if let Some(e) = te {
+            max_exp = max_exp.max(e);
         }
-        zk *= &pt.z;
+        if f64::from(k) > -ar + 1.0 {
+            if t.is_zero()
+                || t.get_exp().unwrap_or(i32::MIN) < sum.get_exp().unwrap_or(0) - prec as i32 - 8
+            {
+                break;
+            }
+            if let Some(e) = te {
+                let p = tail_prec(prec, max_exp, e);
+                if p < wp {
+                    wp = p;
+                    zk.set_prec(wp);
+                    den.set_prec(wp);
+                    t.set_prec(wp);
+                    z_w.set_prec(wp);
+                    a_w.set_prec(wp);
+                }
+            }
+        }
+        zk *= &z_w;
         k += 1;
         if k > 50_000_000 {
             break;
