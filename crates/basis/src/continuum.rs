@@ -465,7 +465,10 @@ impl BoundFreeKernel {
         };
         let mut work = prec + guess;
         let mut last = None;
-        for _ in 0..4 {
+        // up to 4 steps by the measured loss; a start far below the loss
+        // (a hint carried from a node that cancelled much less) measures
+        // only part of it, so 4 more steps at least double the precision
+        for attempt in 0..8 {
             let (v, mag) = f(work);
             let lost = if v.is_zero() {
                 f64::from(work)
@@ -482,8 +485,13 @@ impl BoundFreeKernel {
                 });
             }
             last = Some((v, lost, work));
-            work = (f64::from(prec) + lost + 48.0).ceil() as u32;
-            work = work.max(prec + 64).min(8 * prec + 8 * guess);
+            let next = (f64::from(prec) + lost + 48.0).ceil() as u32;
+            work = if attempt < 3 {
+                next.max(prec + 64).min(8 * prec + 8 * guess)
+            } else {
+                next.max(2 * work)
+                    .min(8 * prec + 8 * guess.max(lost.ceil() as u32))
+            };
         }
         // Total cancellation (the integral vanishes at this energy, as near a
         // zero of the photo-ionization amplitude): the value is returned with

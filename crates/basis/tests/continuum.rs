@@ -301,3 +301,32 @@ fn evaluations_do_not_depend_on_earlier_calls() {
         }
     }
 }
+
+/// A hint carried from an evaluation that lost few bits must not spoil one
+/// that loses many (about 1,480 bits for the continued 1000 l=500 state above
+/// the split point of the spectral tail): the result equals a fresh-hint
+/// evaluation to the requested precision.
+#[test]
+fn a_low_hint_before_a_large_loss_still_converges() {
+    let s = BoundState::hydrogen(1000, 500).unwrap();
+    let prec = 161;
+    for ch in [Channel::Down, Channel::Up] {
+        let kern = BoundFreeKernel::new(&s, ch, DipoleForm::Velocity).unwrap();
+        for low in [0.5f64, 2.0, 10.0] {
+            let mut hint = LossHint::new();
+            kern.continuum_k_hinted(&Float::with_val(prec, low), prec, &mut hint)
+                .unwrap();
+            let nu = Float::with_val(prec, 1305.0776455943292);
+            let carried = kern.bound_continued_hinted(&nu, prec, &mut hint).unwrap();
+            let fresh = kern.bound_continued(&nu, prec).unwrap();
+            let d = Float::with_val(prec, &carried.value - &fresh.value).abs();
+            let scale = Float::with_val(prec, fresh.value.clone().abs()) >> (prec - 16);
+            assert!(
+                d <= scale,
+                "{ch:?} after k = {low}: carried {} vs fresh {}",
+                carried.value.to_f64(),
+                fresh.value.to_f64()
+            );
+        }
+    }
+}
