@@ -36,7 +36,7 @@
 //! while the difference misses the share.
 //!
 //! Working bits p = goal bits + guard, per panel. The guard is the loss to
-//! cancellation measured by a pilot (the integrand at 16 log-spaced photon
+//! cancellation measured by a pilot (the integrand at 24 log-spaced photon
 //! energies at two precisions), on the absolute scale of ln k0, plus a
 //! margin; the meter of every node raises it when it sees more, and the
 //! 32-bit offset within a pair exposes rounding errors both missed. A panel

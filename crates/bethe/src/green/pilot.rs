@@ -1,5 +1,5 @@
 //! The pilot: the loss to cancellation of the integrand, measured before
-//! the quadrature at 16 log-spaced photon energies, and the starting plan
+//! the quadrature at 24 log-spaced photon energies, and the starting plan
 //! (guard bits, size) of each panel drawn from it.
 
 use super::exact_part::ExactState;
@@ -9,13 +9,8 @@ use super::scale::{exp2_of, ln_k0_scale, quantize};
 use rayon::prelude::*;
 use rug::Float;
 
-/// Number of pilot points. The pilot only sets each panel's starting plan;
-/// the meter of every node and the 32-bit offset within each pair of rules
-/// raise the guard where it missed a loss. 16 points (about 2.5 a decade of
-/// nu at n = 20) cost a third less than 24 and leave the working precision
-/// of every state of the n <= 20 table at 30 digits unchanged
-/// (benches/README.md).
-pub(crate) const PILOT_POINTS: u32 = 16;
+/// Number of pilot points.
+pub(crate) const PILOT_POINTS: u32 = 24;
 
 /// Safety margin (bits) on top of the worst pilot loss of a panel. The pair
 /// of rules of [`super::refine::converge_panel`] differs by 32 bits, so

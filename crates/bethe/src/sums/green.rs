@@ -469,9 +469,8 @@ fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i
     (sums.into_iter().map(|s| s * &h).collect(), loss)
 }
 
-/// The integrand at the log-spaced photon energies of the ln k0 pilot (16)
-/// at two precisions: the loss of every component on the absolute scale of
-/// its L(k).
+/// The integrand at 24 log-spaced photon energies at two precisions: the
+/// loss of every component on the absolute scale of its L(k).
 fn pilot(ex: &Exact, bits: u32) -> Vec<PilotPoint> {
     let p_lo = quantize(bits + 64);
     let p_hi = p_lo + 128;
