@@ -93,60 +93,107 @@ impl Row {
     }
 }
 
-fn parse_csv_row(line: &str, settings: &TableSettings) -> Result<ReadRow, FormatProblem> {
-    let f: Vec<&str> = line.split(',').collect();
-    let want = settings.columns().len();
-    if f.len() != want {
-        return Err(FormatProblem::FieldCount {
-            want,
-            found: f.len(),
-        });
-    }
-    let int = |i: usize| -> Result<u32, FormatProblem> {
-        f[i].parse()
-            .map_err(|_| FormatProblem::NotInteger(f[i].to_string()))
-    };
-    let decimal = |i: usize| -> Result<String, FormatProblem> {
-        if is_number(f[i]) {
-            Ok(f[i].to_string())
-        } else {
-            Err(FormatProblem::NotNumber(f[i].to_string()))
+/// The comma-separated fields of one CSV row, their count checked against
+/// the table's columns; typed readers by column index.
+struct CsvFields<'a>(Vec<&'a str>);
+
+impl<'a> CsvFields<'a> {
+    fn split(line: &'a str, settings: &TableSettings) -> Result<Self, FormatProblem> {
+        let f: Vec<&str> = line.split(',').collect();
+        let want = settings.columns().len();
+        if f.len() != want {
+            return Err(FormatProblem::FieldCount {
+                want,
+                found: f.len(),
+            });
         }
-    };
-    Ok(Row {
-        n: int(0)?,
-        l: int(1)?,
-        ln_k0: decimal(2)?,
-        abs_err: decimal(3)?,
-        method: f[4]
+        Ok(CsvFields(f))
+    }
+
+    fn uint(&self, i: usize) -> Result<u32, FormatProblem> {
+        self.0[i]
             .parse()
-            .map_err(|_| FormatProblem::NotMethod(f[4].to_string()))?,
-        digits: int(5)?,
-        bits: int(6)?,
-        seconds: decimal(7)?,
-        both: if want > 9 {
-            Some((decimal(8)?, decimal(9)?, int(10)?))
+            .map_err(|_| FormatProblem::NotInteger(self.0[i].to_string()))
+    }
+
+    fn decimal(&self, i: usize) -> Result<String, FormatProblem> {
+        if is_number(self.0[i]) {
+            Ok(self.0[i].to_string())
+        } else {
+            Err(FormatProblem::NotNumber(self.0[i].to_string()))
+        }
+    }
+
+    fn method(&self, i: usize) -> Result<MethodChoice, FormatProblem> {
+        self.0[i]
+            .parse()
+            .map_err(|_| FormatProblem::NotMethod(self.0[i].to_string()))
+    }
+
+    /// The last field, the row checksum.
+    fn check(&self) -> &'a str {
+        self.0[self.0.len() - 1]
+    }
+}
+
+/// The fields of one JSON row object; typed readers by key.
+struct JsonFields<'a>(&'a serde_json::Map<String, Value>);
+
+impl<'a> JsonFields<'a> {
+    fn of(v: &'a Value) -> Result<Self, FormatProblem> {
+        v.as_object()
+            .map(JsonFields)
+            .ok_or(FormatProblem::RowNotObject)
+    }
+
+    fn uint(&self, k: &'static str) -> Result<u32, FormatProblem> {
+        self.0
+            .get(k)
+            .and_then(Value::as_u64)
+            .and_then(|x| u32::try_from(x).ok())
+            .ok_or(FormatProblem::RowFieldNotInteger(k))
+    }
+
+    fn text(&self, k: &'static str) -> Result<String, FormatProblem> {
+        self.0
+            .get(k)
+            .and_then(Value::as_str)
+            .map(str::to_string)
+            .ok_or(FormatProblem::RowFieldNotString(k))
+    }
+
+    fn method(&self) -> Result<MethodChoice, FormatProblem> {
+        self.text("method")?
+            .parse()
+            .map_err(|_| FormatProblem::RowMethod)
+    }
+}
+
+fn parse_csv_row(line: &str, settings: &TableSettings) -> Result<ReadRow, FormatProblem> {
+    let f = CsvFields::split(line, settings)?;
+    Ok(Row {
+        n: f.uint(0)?,
+        l: f.uint(1)?,
+        ln_k0: f.decimal(2)?,
+        abs_err: f.decimal(3)?,
+        method: f.method(4)?,
+        digits: f.uint(5)?,
+        bits: f.uint(6)?,
+        seconds: f.decimal(7)?,
+        both: if f.0.len() > 9 {
+            Some((f.decimal(8)?, f.decimal(9)?, f.uint(10)?))
         } else {
             None
         },
     }
-    .with_check(f[want - 1]))
+    .with_check(f.check()))
 }
 
 fn json_row(v: &Value, settings: &TableSettings) -> Result<ReadRow, FormatProblem> {
-    let o = v.as_object().ok_or(FormatProblem::RowNotObject)?;
-    let int = |k: &'static str| -> Result<u32, FormatProblem> {
-        o.get(k)
-            .and_then(Value::as_u64)
-            .and_then(|x| u32::try_from(x).ok())
-            .ok_or(FormatProblem::RowFieldNotInteger(k))
-    };
-    let text = |k: &'static str| -> Result<String, FormatProblem> {
-        o.get(k)
-            .and_then(Value::as_str)
-            .map(str::to_string)
-            .ok_or(FormatProblem::RowFieldNotString(k))
-    };
+    let f = JsonFields::of(v)?;
+    let o = f.0;
+    let int = |k| f.uint(k);
+    let text = |k| f.text(k);
     // a decimal string (a number in files of earlier versions)
     let secs = o
         .get("seconds")
@@ -160,9 +207,7 @@ fn json_row(v: &Value, settings: &TableSettings) -> Result<ReadRow, FormatProble
         l: int("l")?,
         ln_k0: text("ln_k0")?,
         abs_err: text("abs_err")?,
-        method: text("method")?
-            .parse()
-            .map_err(|_| FormatProblem::RowMethod)?,
+        method: f.method()?,
         digits: int("digits")?,
         bits: int("bits")?,
         seconds: format!("{secs:.3}"),
@@ -182,25 +227,10 @@ fn json_row(v: &Value, settings: &TableSettings) -> Result<ReadRow, FormatProble
 /// A row of a dipole-sum table from its CSV fields (the shared fields of
 /// its state, its power row, the checksum).
 fn parse_sums_csv_row(line: &str, settings: &TableSettings) -> Result<ReadLine, FormatProblem> {
-    let f: Vec<&str> = line.split(',').collect();
-    let want = settings.columns().len();
-    if f.len() != want {
-        return Err(FormatProblem::FieldCount {
-            want,
-            found: f.len(),
-        });
-    }
-    let uint = |i: usize| -> Result<u32, FormatProblem> {
-        f[i].parse()
-            .map_err(|_| FormatProblem::NotInteger(f[i].to_string()))
-    };
-    let decimal = |i: usize| -> Result<String, FormatProblem> {
-        if is_number(f[i]) {
-            Ok(f[i].to_string())
-        } else {
-            Err(FormatProblem::NotNumber(f[i].to_string()))
-        }
-    };
+    let fields = CsvFields::split(line, settings)?;
+    let uint = |i| fields.uint(i);
+    let decimal = |i| fields.decimal(i);
+    let f = &fields.0;
     let (n, l) = (uint(0)?, uint(1)?);
     let k: i32 = f[2]
         .parse()
@@ -226,9 +256,7 @@ fn parse_sums_csv_row(line: &str, settings: &TableSettings) -> Result<ReadLine, 
         head: SumsEntry {
             n,
             l,
-            method: f[9]
-                .parse()
-                .map_err(|_| FormatProblem::NotMethod(f[9].to_string()))?,
+            method: fields.method(9)?,
             digits: uint(10)?,
             bits: uint(11)?,
             seconds: decimal(12)?,
@@ -243,25 +271,16 @@ fn parse_sums_csv_row(line: &str, settings: &TableSettings) -> Result<ReadLine, 
             ln_i,
             spectral,
         },
-        check: f[want - 1].to_string(),
+        check: fields.check().to_string(),
     })
 }
 
 /// A row of a dipole-sum table from its JSON object.
 fn json_sums_row(v: &Value, settings: &TableSettings) -> Result<ReadLine, FormatProblem> {
-    let o = v.as_object().ok_or(FormatProblem::RowNotObject)?;
-    let int = |k: &'static str| -> Result<u32, FormatProblem> {
-        o.get(k)
-            .and_then(Value::as_u64)
-            .and_then(|x| u32::try_from(x).ok())
-            .ok_or(FormatProblem::RowFieldNotInteger(k))
-    };
-    let text = |k: &'static str| -> Result<String, FormatProblem> {
-        o.get(k)
-            .and_then(Value::as_str)
-            .map(str::to_string)
-            .ok_or(FormatProblem::RowFieldNotString(k))
-    };
+    let f = JsonFields::of(v)?;
+    let o = f.0;
+    let int = |k| f.uint(k);
+    let text = |k| f.text(k);
     let (n, l) = (int("n")?, int("l")?);
     let k = o
         .get("k")
@@ -294,9 +313,7 @@ fn json_sums_row(v: &Value, settings: &TableSettings) -> Result<ReadLine, Format
         head: SumsEntry {
             n,
             l,
-            method: text("method")?
-                .parse()
-                .map_err(|_| FormatProblem::RowMethod)?,
+            method: f.method()?,
             digits: int("digits")?,
             bits: int("bits")?,
             seconds: text("seconds")?,
