@@ -107,8 +107,12 @@ impl Rec {
     /// X_{i-1} from X_i, X_{i+1} (backward): (b_i X_i - z (i+beta) X_{i+1}) / i,
     /// written into `out`.
     fn backward_into(&mut self, i: usize, xi: &Float, xip1: &Float, out: &mut Float) {
-        let ib = i as u32 + self.beta;
-        self.t2.assign(&self.z * ib);
+        self.t2.assign(&self.z * (i as u32 + self.beta));
+        self.backward_rest(i, xi, xip1, out);
+    }
+
+    /// The rest of a backward step, with t2 = z (i+beta) already set.
+    fn backward_rest(&mut self, i: usize, xi: &Float, xip1: &Float, out: &mut Float) {
         self.t1.assign(&self.t2 + &self.c1);
         self.t1 += i as u32;
         self.t1 *= xi;
@@ -127,17 +131,11 @@ impl Rec {
         out: &mut Float,
         h: &mut Float,
     ) {
-        let ib = i as u32 + self.beta;
-        self.t2.assign(&self.z * ib);
+        self.t2.assign(&self.z * (i as u32 + self.beta));
         *h *= &self.t2;
         *h /= i as u32 + 1;
         *h += xi;
-        self.t1.assign(&self.t2 + &self.c1);
-        self.t1 += i as u32;
-        self.t1 *= xi;
-        self.t2 *= xip1;
-        self.t1 -= &self.t2;
-        out.assign(&self.t1 / i as u32);
+        self.backward_rest(i, xi, xip1, out);
     }
 }
 
