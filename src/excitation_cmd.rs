@@ -62,16 +62,7 @@ pub fn run(a: &ExcitationArgs) -> Result<(), AppError> {
     let unit = EnergyUnit::of(&nucleus);
     kzero_bethe::sums::validate_powers(&[a.k]).map_err(|e| AppError::BadInput(e.to_string()))?;
     if let Some(p) = &a.plot {
-        use kzero_engine::table::files::{check_outputs, OutputKind, PlannedOutput};
-        check_outputs(
-            &[PlannedOutput {
-                option: "--plot",
-                path: p,
-                kind: OutputKind::Plot,
-                refuse_existing: (!a.force).then_some("use --force to replace it"),
-            }],
-            &[],
-        )?;
+        kzero_engine::table::files::check_plot(p, a.force)?;
     }
     let max_n = kzero_bethe::settings::MAX_N;
     if a.n_max < 1 || a.n_max > max_n {

@@ -61,16 +61,7 @@ pub fn run(a: &SweepArgs) -> Result<(), AppError> {
     kzero_engine::sweep::validate(a.n, a.l, a.method)?;
     let gauge = a.gauge.unwrap_or(Gauge::Velocity);
     if let Some(p) = &a.plot {
-        use kzero_engine::table::files::{check_outputs, OutputKind, PlannedOutput};
-        check_outputs(
-            &[PlannedOutput {
-                option: "--plot",
-                path: p,
-                kind: OutputKind::Plot,
-                refuse_existing: (!a.force).then_some("use --force to replace it"),
-            }],
-            &[],
-        )?;
+        kzero_engine::table::files::check_plot(p, a.force)?;
     }
     let (ladder, goal) = match (&a.digits, &a.significant) {
         (_, Some(s)) => (s.clone(), Goal::Significant),

@@ -350,16 +350,7 @@ fn check_table_outputs(a: &TableArgs, format: TableFormat) -> Result<(), AppErro
         });
     }
     if let Some(p) = &a.plot {
-        outputs.push(PlannedOutput {
-            option: "--plot",
-            path: p,
-            kind: OutputKind::Plot,
-            refuse_existing: if a.force || a.resume {
-                None
-            } else {
-                Some("use --force to replace it")
-            },
-        });
+        outputs.push(PlannedOutput::plot(p, a.force || a.resume));
     }
     Ok(check_outputs(&outputs, &[])?)
 }

@@ -58,6 +58,28 @@ pub struct PlannedOutput<'a> {
     pub refuse_existing: Option<&'static str>,
 }
 
+impl<'a> PlannedOutput<'a> {
+    /// The SVG plot named by `--plot`; an existing file is replaced only
+    /// when `replace` (`--force`, or a table run continued by `--resume`).
+    pub fn plot(path: &'a Path, replace: bool) -> Self {
+        PlannedOutput {
+            option: "--plot",
+            path,
+            kind: OutputKind::Plot,
+            refuse_existing: (!replace).then_some("use --force to replace it"),
+        }
+    }
+}
+
+/// [`check_outputs`] for a command whose only output file is its `--plot`
+/// (see [`PlannedOutput::plot`]).
+///
+/// # Errors
+/// As [`check_outputs`].
+pub fn check_plot(path: &Path, replace: bool) -> Result<(), TableError> {
+    check_outputs(&[PlannedOutput::plot(path, replace)], &[])
+}
+
 /// Checks every output of one command before any work (nothing is touched):
 /// each name ends in the extension of what is written there (compared
 /// without regard to case), its folder exists and takes new files, it is
