@@ -205,6 +205,14 @@ fn tail_prec(prec: u32, max_exp: i32, term_exp: i32) -> u32 {
     tier.clamp(64, i64::from(prec).max(64)) as u32
 }
 
+/// Rounds each working variable of a series tail to `prec` bits (the step
+/// down to [`tail_prec`] of both direct series).
+fn set_precs<const N: usize>(prec: u32, xs: [&mut Float; N]) {
+    for x in xs {
+        x.set_prec(prec);
+    }
+}
+
 /// Direct summation of the defining series (fast for small z). Past its
 /// peak and past the pole of 1/(k + a), the terms decrease monotonically
 /// and are formed at the lower precision [`tail_prec`] (the sum stays at
@@ -243,11 +251,7 @@ fn series(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
                 let p = tail_prec(prec, max_exp, e);
                 if p < wp {
                     wp = p;
-                    c.set_prec(wp);
-                    den.set_prec(wp);
-                    t.set_prec(wp);
-                    z_w.set_prec(wp);
-                    a_w.set_prec(wp);
+                    set_precs(wp, [&mut c, &mut den, &mut t, &mut z_w, &mut a_w]);
                 }
             }
         }
@@ -357,11 +361,7 @@ fn phi_series(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
                 let p = tail_prec(prec, max_exp, e);
                 if p < wp {
                     wp = p;
-                    zk.set_prec(wp);
-                    den.set_prec(wp);
-                    t.set_prec(wp);
-                    z_w.set_prec(wp);
-                    a_w.set_prec(wp);
+                    set_precs(wp, [&mut zk, &mut den, &mut t, &mut z_w, &mut a_w]);
                 }
             }
         }
