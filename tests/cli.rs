@@ -1297,9 +1297,11 @@ fn sums_tables_are_deterministic_sharded_and_tied_to_ln_k0() {
         );
         let num = |i: usize| -> f64 { f[i].parse().unwrap() };
         match k {
+            // S(0) = 1: Thomas-Reiche-Kuhn sum rule (exact)
             0 => assert!((num(3) - 1.0).abs() <= num(4) + 1e-15, "S(0) {r}"),
             2 => {
                 let (v, e) = ln_k0[state];
+                // exact identity L(2) = 16 ln k0 / (3 n^3) (docs/physics.md, section 8)
                 let want = 16.0 * v / (3.0 * n * n * n);
                 let tol = num(6) + 16.0 * e / (3.0 * n * n * n) + 1e-15;
                 assert!((num(5) - want).abs() <= tol, "L(2) {r} vs ln k0 {v}");
