@@ -19,11 +19,14 @@
 //! Sturmian sum, summed in closed form through Meixner polynomials. The
 //! integral runs over nu in (0, n]: a first panel [0, nu1] with a
 //! logarithmic product rule (the integrand is analytic plus analytic times
-//! ln nu there), then Gauss–Legendre panels graded toward the pole of the
-//! first upper state at nu = n + 1. The derivations are in docs/physics.md:
+//! ln nu there), then Gauss–Legendre panels in u = ln(nu / (n + 1 - nu)),
+//! which sends nu = 0 and the pole of the first upper state at nu = n + 1
+//! to infinity and leaves the integrand analytic in the strip
+//! |Im u| < pi, so that a few panels of length up to 4 in u cover the rest.
+//! The derivations are in docs/physics.md:
 //! section 3 (the integral, the lower states, the variable nu, the units),
-//! section 4 (the Sturmian Green's function and its closed form) and
-//! section 6 (the error estimate).
+//! section 3.6 (the panels), section 4 (the Sturmian Green's function and
+//! its closed form) and section 6 (the error estimate).
 //!
 //! ## Error estimate
 //! Panel by panel: a pair of Gauss rules (N nodes at p bits, and about
@@ -32,8 +35,8 @@
 //! for the value kept as long as the rule converges. Each panel must meet an
 //! equal share of the goal; the estimate returned is the sum over panels. N
 //! starts from the panel's size (seen by the pilot) and the convergence rate
-//! seen on the previous panel, and grows (at an assumed 4 bits per node)
-//! while the difference misses the share.
+//! the panel's length in u predicts, and grows (at that rate, at most 4 bits
+//! per node) while the difference misses the share.
 //!
 //! Working bits p = goal bits + guard, per panel. The guard is the loss to
 //! cancellation measured by a pilot (the integrand at 24 log-spaced photon

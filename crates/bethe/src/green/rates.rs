@@ -1,11 +1,12 @@
 //! Node counts of the Gauss rules: the assumed and observed convergence
 //! rates (bits of accuracy gained per node) and the rounding of node counts.
 
-/// Assumed convergence rate of Gauss–Legendre on a panel, in bits per node:
-/// with the nearest singularity one panel width beyond an end (the panel
-/// layout of [`super::panels::panel_layout`]) the error falls like
-/// (3 + sqrt 8)^(-2N), about 5.1 bits per node; 4 leaves room for the
-/// logarithmic first panel and for constants.
+/// Largest convergence rate assumed for a Gauss rule on a panel, in bits
+/// per node, when a pair of rules misses its tolerance and more nodes are
+/// planned: the mapped panels of [`super::panels::panel_layout`] expect
+/// 3.5 bits per node or more ([`super::panels::Panel::expected_rate`]) and
+/// use their own rate when it is lower; the first panel (logarithmic
+/// product rule) uses this one.
 pub(crate) const BITS_PER_NODE: f64 = 4.0;
 
 /// Fewest nodes on one panel.
@@ -13,14 +14,10 @@ pub(crate) const MIN_NODES: usize = 4;
 /// Most nodes on one panel.
 pub(crate) const MAX_NODES: usize = 600;
 
-/// Default rate (bits per node) for the first guess on a panel; later
-/// panels use the rate seen on the previous one (geometrically alike panels
-/// converge alike), within [`BITS_PER_NODE`] and [`MAX_RATE`].
-pub(crate) const FIRST_GUESS_RATE: f64 = 5.0;
-/// The first guess on the first panel (logarithmic product rule, slower).
+/// The first guess of the rate (bits per node) on the first panel
+/// (logarithmic product rule); the mapped panels start from their expected
+/// rate.
 pub(crate) const FIRST_PANEL_RATE: f64 = 3.5;
-/// Largest rate carried over from one panel to the next.
-pub(crate) const MAX_RATE: f64 = 12.0;
 
 /// Rounds a node count up to an even number (no node at a panel midpoint)
 /// within [MIN_NODES, MAX_NODES].

@@ -5,8 +5,7 @@
 use super::panels::Panel;
 use super::pilot::{panel_plan, PilotPoint, GUARD_MARGIN};
 use super::rates::{
-    even_nodes, finer_nodes, nodes_for, BITS_PER_NODE, FIRST_GUESS_RATE, FIRST_PANEL_RATE,
-    MAX_NODES, MAX_RATE,
+    even_nodes, finer_nodes, nodes_for, BITS_PER_NODE, FIRST_PANEL_RATE, MAX_NODES,
 };
 use super::scale::quantize;
 use rug::Float;
@@ -55,25 +54,41 @@ pub(crate) struct PanelResult {
     pub(crate) errs: Vec<f64>,
     pub(crate) nodes: usize,
     pub(crate) prec: u32,
-    /// Bits per node the cruder rule of the accepted pair reached relative
-    /// to the panel's size (a lower bound of the convergence rate).
+}
+
+/// Where the pairs of rules on one panel start and what they aim at.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct PairPlan {
+    /// Goal bits of the reported quantity (the working precision is
+    /// `bits + guard`).
+    pub(crate) bits: u32,
+    /// Guard bits to start with (the pilot's plan).
+    pub(crate) guard: u32,
+    /// Nodes of the cruder rule of the first pair.
+    pub(crate) coarse_nodes: usize,
+    /// Bits of accuracy assumed per added node when a pair misses the
+    /// tolerance (at most [`BITS_PER_NODE`]).
     pub(crate) rate: f64,
+    /// The panel's share of the goal, on the scale of the reported
+    /// quantities.
+    pub(crate) tol: f64,
 }
 
 /// Integrates one panel until every component's error (on the scale of its
 /// reported quantity: the integral times its entry of `scales`) is below
-/// `tol`, starting with `guard` bits on top of `bits` and `coarse_nodes`
-/// nodes in the cruder rule. `integrate(prec, nodes)` gives the integrals of
-/// every component over the panel with the `nodes`-node rule at `prec` bits
-/// and the loss (bits) on the scale of the reported quantities.
+/// `plan.tol`, starting with `plan.guard` bits on top of `plan.bits` and
+/// `plan.coarse_nodes` nodes in the cruder rule. `integrate(prec, nodes)`
+/// gives the integrals of every component over the panel with the
+/// `nodes`-node rule at `prec` bits and the loss (bits) on the scale of the
+/// reported quantities.
 ///
 /// A pair of rules is compared: the cruder (N nodes, p bits) and the finer
 /// ([`finer_nodes`], p + 32 bits); their difference estimates the error of
 /// the cruder rule, and the finer value is returned. While the estimate
-/// misses `tol` on some component, the next pair reuses the finer rule as
-/// its cruder one when its error is expected to meet the tolerance (at
-/// [`BITS_PER_NODE`]), and otherwise starts from the node count that rate
-/// predicts.
+/// misses the tolerance on some component, the next pair reuses the finer
+/// rule as its cruder one when its error is expected to meet the tolerance
+/// (at `plan.rate` bits per node), and otherwise starts from the node count
+/// that rate predicts.
 ///
 /// # Errors
 /// `Err(best)` with the smallest error estimate (the largest over the
@@ -82,11 +97,15 @@ pub(crate) struct PanelResult {
 pub(crate) fn converge_panel(
     integrate: &mut dyn FnMut(u32, usize) -> PanelIntegrals,
     scales: &[f64],
-    bits: u32,
-    mut guard: u32,
-    mut coarse_nodes: usize,
-    tol: f64,
+    plan: PairPlan,
 ) -> Result<PanelResult, f64> {
+    let PairPlan {
+        bits,
+        mut guard,
+        mut coarse_nodes,
+        rate,
+        tol,
+    } = plan;
     let mut best = f64::INFINITY;
     let mut last_err = f64::INFINITY;
     // the two rules of a pair are at base = bits + guard and base + 32 bits,
@@ -142,18 +161,11 @@ pub(crate) fn converge_panel(
         let err = errs.iter().copied().fold(0.0f64, f64::max);
         best = best.min(err);
         if err < tol {
-            let size = fine_value
-                .iter()
-                .zip(scales)
-                .map(|(f, scale)| Float::with_val(fine_prec, f.abs_ref()).to_f64() * scale)
-                .fold(0.0f64, f64::max);
-            let rate = (size.max(err).log2() - err.log2()) / coarse_nodes as f64;
             return Ok(PanelResult {
                 values: fine_value,
                 errs,
                 nodes: fine_nodes,
                 prec: coarse_prec.max(fine_prec),
-                rate,
             });
         }
         if fine_nodes >= MAX_NODES {
@@ -169,13 +181,13 @@ pub(crate) fn converge_panel(
         }
         last_err = err;
         // expected error of the finer rule at the assumed rate
-        let gained = BITS_PER_NODE * (fine_nodes - coarse_nodes) as f64;
+        let gained = rate * (fine_nodes - coarse_nodes) as f64;
         if err.log2() - gained < tol.log2() - 4.0 {
             reused_coarse = Some((fine_value, fine_loss));
             coarse_nodes = fine_nodes;
             coarse_at_higher_prec = !coarse_at_higher_prec;
         } else {
-            let more = (err.log2() - tol.log2() + 4.0) / BITS_PER_NODE;
+            let more = (err.log2() - tol.log2() + 4.0) / rate;
             coarse_nodes = even_nodes(coarse_nodes as f64 + more).max(finer_nodes(fine_nodes));
         }
     }
@@ -196,9 +208,9 @@ pub(crate) struct Panels {
 
 /// Integrates `panels` in order, each to an error below `tol` on every
 /// component (see [`converge_panel`]): a panel starts from the pilot's plan
-/// (its guard, and the nodes its size needs at the rate seen on the
-/// previous panel; the first panel, with its logarithmic product rule, at
-/// [`FIRST_PANEL_RATE`]). `integrate(panel, prec, nodes)` gives the
+/// (its guard, and the nodes its size needs at the panel's expected rate,
+/// [`Panel::expected_rate`]; the first panel, with its logarithmic product
+/// rule, at [`FIRST_PANEL_RATE`]). `integrate(panel, prec, nodes)` gives the
 /// integrals of every component over `panel` and the loss.
 ///
 /// # Errors
@@ -218,20 +230,25 @@ pub(crate) fn integrate_panels(
         nodes: 0,
         prec: 0,
     };
-    let mut rate = FIRST_GUESS_RATE;
     for panel in panels {
         let plan = panel_plan(profile, panel);
-        let start = if panel.first {
+        let (first_guess, rate) = if panel.first {
             // the product-rule panel converges more slowly (log factor)
-            nodes_for(plan.magnitude_exp, tol, FIRST_PANEL_RATE, 4.0)
+            (FIRST_PANEL_RATE, BITS_PER_NODE)
         } else {
-            nodes_for(plan.magnitude_exp, tol, rate, 4.0)
+            let expected = panel.expected_rate();
+            (expected, expected.min(BITS_PER_NODE))
         };
+        let start = nodes_for(plan.magnitude_exp, tol, first_guess, 4.0);
         let mut on_panel = |prec: u32, nodes: usize| integrate(panel, prec, nodes);
-        let done = converge_panel(&mut on_panel, scales, bits, plan.guard, start, tol)?;
-        if !panel.first {
-            rate = done.rate.clamp(BITS_PER_NODE, MAX_RATE);
-        }
+        let plan = PairPlan {
+            bits,
+            guard: plan.guard,
+            coarse_nodes: start,
+            rate,
+            tol,
+        };
+        let done = converge_panel(&mut on_panel, scales, plan)?;
         for (e, x) in out.errs.iter_mut().zip(&done.errs) {
             *e += x;
         }

@@ -411,11 +411,10 @@ impl Integrand {
 fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i32) {
     let prec = ig.prec;
     let r = quad::rule(nodes, prec);
-    let bf = Float::with_val(prec, panel.start);
-    let h = Float::with_val(prec, Float::with_val(prec, panel.end) - &bf);
-    let h_exp = exp2_of(&h);
     let nc = ig.comps.len();
     let parts: Vec<(Vec<Float>, i32)> = if panel.first {
+        let h = panel.end_at(prec);
+        let h_exp = exp2_of(&h);
         let ln_h = Float::with_val(prec, h.ln_ref());
         r.x.par_iter()
             .zip(r.w.par_iter().zip(r.wlog.par_iter()))
@@ -444,13 +443,14 @@ fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i
         r.x.par_iter()
             .zip(r.w.par_iter())
             .map(|(x, w)| {
-                let nu = Float::with_val(prec, &bf + Float::with_val(prec, x * &h));
+                let (nu, jac) = panel.node(x);
+                let wj = Float::with_val(prec, w * &jac);
                 let s = ig.sample(&nu);
                 let mut out = Vec::with_capacity(nc);
                 let mut loss = i32::MIN;
                 for c in 0..nc {
-                    let v = Float::with_val(prec, &s.values[c] * w);
-                    let big = exp2_of(&v) + h_exp + ig.comps[c].factor_exp;
+                    let v = Float::with_val(prec, &s.values[c] * &wj);
+                    let big = exp2_of(&v) + ig.comps[c].factor_exp;
                     loss = loss.max(s.losses[c] + big);
                     out.push(v);
                 }
@@ -466,7 +466,11 @@ fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i
         }
         loss = loss.max(*l);
     }
-    (sums.into_iter().map(|s| s * &h).collect(), loss)
+    if panel.first {
+        let h = panel.end_at(prec);
+        return (sums.into_iter().map(|s| s * &h).collect(), loss);
+    }
+    (sums, loss)
 }
 
 /// The integrand at 24 log-spaced photon energies at two precisions: the
