@@ -12,6 +12,10 @@
 //! G(t) = t e^(a t) / (e^t - 1), valid for 0 < mu < 2 pi. The coefficient of
 //! -ln mu is returned separately so that callers can integrate the
 //! logarithmic part of an integrand exactly.
+//!
+//! Phi itself takes the cheapest of three routes ([`lerch_route`]): its
+//! power series, the continued fraction of 2F1(1, a; a+1; z) = a Phi
+//! ([`phi_cf`], moderate z), or the form above (z near 1).
 
 use super::meter::Meter;
 use super::quad;
