@@ -12,6 +12,10 @@
 //! G(t) = t e^(a t) / (e^t - 1), valid for 0 < mu < 2 pi. The coefficient of
 //! -ln mu is returned separately so that callers can integrate the
 //! logarithmic part of an integrand exactly.
+//!
+//! Phi itself takes the cheapest of three routes ([`lerch_route`]): its
+//! power series, the continued fraction of 2F1(1, a; a+1; z) = a Phi
+//! ([`phi_cf`], moderate z), or the form above (z near 1).
 
 use super::meter::Meter;
 use super::quad;
@@ -138,13 +142,7 @@ pub(crate) fn stieltjes_cost(beta: u32, zf: f64, muf: f64, af: f64, prec: u32) -
         // coefficient
         return 5.5 * (series_terms + b * zf / (1.0 - zf)) + 4.0 * b + EXP_COST;
     }
-    let top = (8.0 / muf).max(1.0);
-    let nb = bernoulli_nodes(prec, muf, af.min(top)) as f64;
-    let lerch = if series_terms < 40.0 * nb {
-        3.75 * series_terms
-    } else {
-        (EXP_COST + 16.0) * nb + DIGAMMA_COST + 3.0 * EXP_COST
-    };
+    let lerch = lerch_route(prec, -(-muf).exp_m1(), muf, af).1;
     3.5 * b + lerch + EXP_COST
 }
 
@@ -268,40 +266,135 @@ fn series(beta: u32, a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
     sum * y_beta
 }
 
+/// The routes of Phi(z, 1, a) for z >= [`Z_SERIES`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum LerchRoute {
+    /// The power series ([`phi_series`]).
+    Series,
+    /// The continued fraction ([`phi_cf`]), after a shift of a to a + s > 0
+    /// when a <= 0.
+    Fraction,
+    /// The integral with the separated logarithm ([`phi_bernoulli`]), after
+    /// a shift of a into (0, max(1, 8/mu)] (or the power series where a
+    /// downward shift would amplify rounding errors too much).
+    Bernoulli,
+}
+
+/// Cost of a term of [`phi_series`] (or of a head term of a shift), in
+/// multiplications at the working precision.
+const SERIES_TERM_COST: f64 = 3.75;
+
+/// Cost of a level of [`phi_cf`], in multiplications at the working
+/// precision (the deep levels run at lower precision; measured against the
+/// power series and the Bernoulli route at 128 to 416 bits, benches/README.md).
+const CF_LEVEL_COST: f64 = 5.0;
+
+/// The cheapest route of Phi(z, 1, a) at `prec` bits and its estimated cost
+/// in multiplications, from z = `zf`, 1 - z = `yf`, mu = `muf`, a = `af`.
+fn lerch_route(prec: u32, yf: f64, muf: f64, af: f64) -> (LerchRoute, f64) {
+    let series_terms = f64::from(prec + 16) * std::f64::consts::LN_2 / muf + (-af).max(0.0);
+    let series = SERIES_TERM_COST * series_terms;
+    let head = if af <= 0.0 {
+        SERIES_TERM_COST * ((-af).floor() + 1.0)
+    } else {
+        0.0
+    };
+    let top = (8.0 / muf).max(1.0);
+    let nb = bernoulli_nodes(prec, muf, af.min(top)) as f64;
+    let bernoulli = (EXP_COST + 16.0) * nb + DIGAMMA_COST + 3.0 * EXP_COST + head;
+    let levels = cf_levels(prec, yf);
+    let fraction = if levels < CF_MAX_LEVELS as f64 {
+        CF_LEVEL_COST * levels + head
+    } else {
+        f64::INFINITY
+    };
+    [
+        (LerchRoute::Series, series),
+        (LerchRoute::Fraction, fraction),
+        (LerchRoute::Bernoulli, bernoulli),
+    ]
+    .into_iter()
+    .fold((LerchRoute::Series, f64::INFINITY), |best, r| {
+        if r.1 < best.1 {
+            r
+        } else {
+            best
+        }
+    })
+}
+
+/// Phi(z, 1, a) = sum_{k<s} z^k/(k+a) + z^s Phi(z, 1, a + s) for a <= 0,
+/// with s = floor(-a) + 1 (a + s in (0, 1]) and Phi(z, 1, a + s) from
+/// `base` (None when `base` gives none).
+fn shifted_up(
+    a: &Float,
+    pt: &ZPoint,
+    meter: &mut Meter,
+    base: impl FnOnce(&Float, &ZPoint, &mut Meter) -> Option<Float>,
+) -> Option<Float> {
+    let prec = a.prec();
+    let s = (-a.to_f64()).floor() as u32 + 1;
+    let ap = Float::with_val(prec, a + s);
+    let base = base(&ap, pt, meter)?;
+    let mut zk = Float::with_val(prec, 1);
+    let mut head = Float::with_val(prec, 0);
+    let mut t = Float::new(prec);
+    for k in 0..s {
+        t.assign(a + k);
+        t.recip_mut();
+        t *= &zk;
+        meter.term(&t);
+        head += &t;
+        zk *= &pt.z;
+    }
+    let mut value = Float::with_val(prec, &zk * &base);
+    meter.term(&value);
+    value += head;
+    Some(value)
+}
+
 /// Phi(z, 1, a) for z in [Z_SERIES, 1) with its logarithmic part separated:
-/// value = regular - log_coef ln(mu), log_coef = e^(a mu).
+/// value = regular - log_coef ln(mu), log_coef = e^(a mu). The route is the
+/// cheapest of [`lerch_route`].
 pub(crate) fn lerch_phi(a: &Float, pt: &ZPoint, meter: &mut Meter, with_log: bool) -> WithLog {
     let prec = a.prec();
     let mu = &pt.mu;
     let muf = mu.to_f64();
     let af = a.to_f64();
-    // choose a' in (0, max(1, 8/mu)] by shifting a by an integer s
+    let (route, _) = lerch_route(prec, pt.one_minus_z.to_f64(), muf, af);
+    let fraction = match route {
+        LerchRoute::Fraction if af > 0.0 => phi_cf(a, pt, meter),
+        LerchRoute::Fraction => shifted_up(a, pt, meter, phi_cf),
+        _ => None,
+    };
+    let mut value = match (route, fraction) {
+        (_, Some(v)) => v,
+        (LerchRoute::Series, _) => phi_series(a, pt, meter),
+        _ => lerch_bernoulli(a, pt, meter),
+    };
+    meter.result(&value);
+    let log_coef = if with_log {
+        Float::with_val(prec, Float::with_val(prec, a * mu).exp())
+    } else {
+        Float::with_val(prec, 0)
+    };
+    value.set_prec(prec);
+    WithLog { value, log_coef }
+}
+
+/// Phi(z, 1, a) by the Bernoulli route: a shifted into (0, max(1, 8/mu)],
+/// or the power series where a downward shift would amplify rounding
+/// errors by more than 30 bits (z < 0.9).
+fn lerch_bernoulli(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
+    let prec = a.prec();
+    let muf = pt.mu.to_f64();
+    let af = a.to_f64();
     let top = (8.0 / muf).max(1.0);
-    let mut value;
-    // the direct series costs about (prec ln 2 / mu) cheap terms; the
-    // Bernoulli route about nodes(prec, mu) exponentials (~40 terms each)
-    let direct_terms = f64::from(prec + 16) * std::f64::consts::LN_2 / muf + (-af).max(0.0);
-    if direct_terms < 40.0 * bernoulli_nodes(prec, muf, af.min(top)) as f64 {
-        value = phi_series(a, pt, meter);
-    } else if af <= 0.0 {
-        // shift up: Phi(a) = sum_{k<s} z^k/(k+a) + z^s Phi(a+s), a+s in (0,1]
-        let s = (-af).floor() as u32 + 1;
-        let ap = Float::with_val(prec, a + s);
-        let base = phi_bernoulli(&ap, pt, meter);
-        let mut zk = Float::with_val(prec, 1);
-        let mut head = Float::with_val(prec, 0);
-        for k in 0..s {
-            let t = Float::with_val(prec, &zk / Float::with_val(prec, a + k));
-            meter.term(&t);
-            head += t;
-            zk *= &pt.z;
-        }
-        value = Float::with_val(prec, &zk * &base);
-        meter.term(&value);
-        value += head;
+    if af <= 0.0 {
+        let base = |ap: &Float, pt: &ZPoint, m: &mut Meter| Some(phi_bernoulli(ap, pt, m));
+        shifted_up(a, pt, meter, base).unwrap_or_else(|| phi_series(a, pt, meter))
     } else if af > top && (af - top).ceil() * muf / std::f64::consts::LN_2 > 30.0 && pt.z < 0.9 {
-        // a shift would amplify rounding errors too much: sum the series
-        value = phi_series(a, pt, meter);
+        phi_series(a, pt, meter)
     } else if af > top {
         // shift down: Phi(a) = z^-s [Phi(a') - sum_{k<s} z^k/(k+a')], a' = a - s
         let s = (af - top).ceil() as u32;
@@ -314,17 +407,10 @@ pub(crate) fn lerch_phi(a: &Float, pt: &ZPoint, meter: &mut Meter, with_log: boo
             head += Float::with_val(prec, &zk / Float::with_val(prec, &ap + k));
             zk *= &pt.z;
         }
-        value = (base - head) / zk;
+        (base - head) / zk
     } else {
-        value = phi_bernoulli(a, pt, meter);
+        phi_bernoulli(a, pt, meter)
     }
-    meter.result(&value);
-    let log_coef = if with_log {
-        Float::with_val(prec, Float::with_val(prec, a * mu).exp())
-    } else {
-        Float::with_val(prec, 0)
-    };
-    WithLog { value, log_coef }
 }
 
 /// Phi(z, 1, a) = sum_k z^k/(k+a) by direct summation; past the pole of
@@ -372,6 +458,171 @@ fn phi_series(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Float {
         }
     }
     sum
+}
+
+/// Guard bits of the continued fraction [`phi_cf`] above the precision of
+/// the result: its truncation and the roundings of every level together
+/// stay below 2^-(prec + CF_GUARD) times a few units, relative.
+const CF_GUARD: u32 = 16;
+
+/// Most levels of the continued fraction (beyond them another route is
+/// cheaper by far; it also keeps m^2 within u32).
+const CF_MAX_LEVELS: usize = 100_000;
+
+/// Bits gained per level of the continued fraction of Phi(z, 1, a) at
+/// 1 - z = `yf`: log2((1 + sqrt y)/(1 - sqrt y)), from the rate
+/// ((1 - sqrt y)/(1 + sqrt y))^2 per two levels of its Pade approximants.
+fn cf_bits_per_level(yf: f64) -> f64 {
+    let s = yf.clamp(0.0, 1.0).sqrt().min(1.0 - 1e-15);
+    2.0 * s.atanh() / std::f64::consts::LN_2
+}
+
+/// Predicted levels of [`phi_cf`] at `prec` bits (a > 0; fewer are
+/// needed for large a).
+fn cf_levels(prec: u32, yf: f64) -> f64 {
+    f64::from(prec + CF_GUARD + 8) / cf_bits_per_level(yf).max(1e-300) + 8.0
+}
+
+/// The plan of one evaluation of [`phi_cf`], from a pass in double
+/// precision: the depth N, the precision of each level j = 0..N and the
+/// estimated rounding error of the result in units of 2^-prec (relative).
+struct CfPlan {
+    depth: usize,
+    precs: Vec<u32>,
+    error_units: f64,
+}
+
+/// The partial numerator P_k of the continued fraction (k >= 1):
+/// (a + m)^2 for k = 2m + 1, m^2 for k = 2m.
+fn cf_numerator(k: usize, af: f64) -> f64 {
+    let m = (k / 2) as f64;
+    if k % 2 == 1 {
+        (af + m) * (af + m)
+    } else {
+        m * m
+    }
+}
+
+/// Plans [`phi_cf`] for a = `af` > 0, z = `zf`, 1 - z = `yf` at `prec`
+/// bits. The levels are g_j = (a + j) - c_{j+1}/g_{j+1}, c_k = P_k z, and
+/// a relative error e in g_{j+1} becomes s_j e in g_j with
+/// s_j = c_{j+1}/(g_{j+1} g_j); with L_j = sum_{i<j} log2 s_i, the
+/// truncation at depth N (g_N = a + N) changes the result by 2^L_{N+1}
+/// relative, and a rounding at level j reaches the result multiplied by
+/// 2^L_j (2 |a + j| + 6 |c/g|)/|g_j| (the roundings of a + j, of c, of the
+/// quotient, of the difference, and of a and z at that level's precision).
+/// Level j is evaluated at prec + [`CF_GUARD`] + L_j + log2 of that factor
+/// bits (whole limbs, at least 64, at most prec, never falling towards
+/// level 0). None when the depth would pass [`CF_MAX_LEVELS`].
+fn cf_plan(af: f64, zf: f64, yf: f64, prec: u32) -> Option<CfPlan> {
+    let n0 = cf_levels(prec, yf).ceil() as usize;
+    let nf = n0 + n0 / 2 + 16;
+    if nf > CF_MAX_LEVELS {
+        return None;
+    }
+    // g_j in double precision from a start far below the depth needed (the
+    // levels contract, so the start does not matter at the levels used)
+    let mut g = vec![0.0f64; nf + 1];
+    g[nf] = af + nf as f64;
+    for j in (0..nf).rev() {
+        g[j] = (af + j as f64) - cf_numerator(j + 1, af) * zf / g[j + 1];
+    }
+    let target = -f64::from(prec + CF_GUARD);
+    let mut log_sens = 0.0f64; // L_j
+    let mut levels = Vec::with_capacity(n0 + 8);
+    let mut depth = None;
+    for j in 0..nf {
+        let q = cf_numerator(j + 1, af) * zf / g[j + 1];
+        let local = (2.0 * (af + j as f64).abs() + 6.0 * q.abs()) / g[j].abs() + 1.0;
+        levels.push((log_sens, local));
+        log_sens += (q / g[j]).abs().log2();
+        if !log_sens.is_finite() {
+            return None;
+        }
+        if log_sens < target {
+            depth = Some(j);
+            break;
+        }
+    }
+    let depth = depth?;
+    // precisions from the deepest level up, never falling towards level 0
+    let mut precs = vec![0u32; depth + 1];
+    let mut error_units = 0.0f64;
+    let mut p_prev = 64u32;
+    for j in (0..=depth).rev() {
+        let (l, local) = levels[j];
+        let need = f64::from(prec + CF_GUARD) + l + local.log2();
+        let tier = ((need.max(1.0) / 64.0).ceil() as u32 * 64).clamp(64, prec.max(64));
+        let p = tier.max(p_prev);
+        p_prev = p;
+        precs[j] = p;
+        error_units += local * (l + f64::from(prec) - f64::from(p)).exp2();
+    }
+    Some(CfPlan {
+        depth,
+        precs,
+        error_units,
+    })
+}
+
+/// Phi(z, 1, a) for a > 0 by the continued fraction of the hypergeometric
+/// function 2F1(1, a; a + 1; z) = a Phi(z, 1, a):
+///
+/// ```text
+/// Phi(z, 1, a) = 1 / (a - P_1 z / (a + 1 - P_2 z / (a + 2 - P_3 z / ...))),
+/// P_{2m+1} = (a + m)^2,  P_{2m} = m^2,
+/// ```
+///
+/// evaluated from the depth of [`cf_plan`] upwards, each level at the
+/// precision the plan gives it. About log2((1 + sqrt y)/(1 - sqrt y)) bits
+/// per level (y = 1 - z): far fewer levels than terms of the power series
+/// once z is not small. None when the plan finds the depth too large.
+///
+/// # Accuracy
+/// Truncation below 2^-(prec + [`CF_GUARD`]) relative; the estimated
+/// rounding error of all levels (a bound from the double-precision pass of
+/// [`cf_plan`]) is recorded in `meter` as a loss when it exceeds 2^-prec.
+fn phi_cf(a: &Float, pt: &ZPoint, meter: &mut Meter) -> Option<Float> {
+    let prec = a.prec();
+    let plan = cf_plan(a.to_f64(), pt.z.to_f64(), pt.one_minus_z.to_f64(), prec)?;
+    let depth = plan.depth;
+    let mut wp = plan.precs[depth];
+    let mut z_w = Float::with_val(wp, &pt.z);
+    let mut a_w = Float::with_val(wp, a);
+    let mut g = Float::with_val(wp, &a_w + depth as u32);
+    let mut t = Float::new(wp);
+    let mut b = Float::new(wp);
+    for j in (0..depth).rev() {
+        let p = plan.precs[j];
+        if p != wp {
+            wp = p;
+            z_w.set_prec(wp);
+            z_w.assign(&pt.z);
+            a_w.set_prec(wp);
+            a_w.assign(a);
+            t.set_prec(wp);
+            b.set_prec(wp);
+            g.set_prec(wp);
+        }
+        let k = j + 1;
+        let m = (k / 2) as u32;
+        if k % 2 == 1 {
+            t.assign(&a_w + m);
+            t.square_mut();
+            t *= &z_w;
+        } else {
+            t.assign(&z_w * (m * m));
+        }
+        t /= &g;
+        b.assign(&a_w + j as u32);
+        b -= &t;
+        std::mem::swap(&mut g, &mut b);
+    }
+    let loss = (plan.error_units.max(1.0)).log2().ceil() as i32;
+    if loss > 0 {
+        meter.loss(loss);
+    }
+    Some(Float::with_val(prec, g.recip_ref()))
 }
 
 /// Gauss nodes for the integral of the Bernoulli route at `prec` bits,
@@ -658,6 +909,48 @@ mod tests {
                     assert!(
                         rel <= allowed,
                         "phi prec={prec} z={zs} a={aval}: {rel:e} > {allowed:e}"
+                    );
+                }
+            }
+        }
+    }
+
+    /// The continued fraction (levels at the precisions of its plan)
+    /// against the same function at 256 more bits by an independent route:
+    /// the power series where it converges in 200000 terms, the Bernoulli
+    /// route nearer to z = 1. The error stays within a few units of 2^-prec
+    /// times 2^loss (the loss the plan records in the meter); negative a
+    /// goes through the upward shift of [`lerch_phi`].
+    #[test]
+    fn continued_fraction_keeps_the_accuracy() {
+        for prec in [128u32, 224, 704] {
+            for zs in ["0.25", "0.6", "0.9", "0.99", "0.9999"] {
+                for aval in ["0.0013", "0.37", "3.6", "41.25", "400.5", "-7.5"] {
+                    let pt = point(zs, prec);
+                    let a = Float::with_val(prec, Float::parse(aval).unwrap());
+                    let mut m = Meter::new();
+                    let v = if a > 0 {
+                        phi_cf(&a, &pt, &mut m).expect("a plan")
+                    } else {
+                        shifted_up(&a, &pt, &mut m, phi_cf).expect("a plan")
+                    };
+                    m.result(&v);
+                    let hp = prec + 256;
+                    let pt_hi = same_point(&pt, hp);
+                    let a_hi = Float::with_val(hp, &a);
+                    let r = if pt.z < 0.95 {
+                        phi_series(&a_hi, &pt_hi, &mut Meter::new())
+                    } else {
+                        lerch_bernoulli(&a_hi, &pt_hi, &mut Meter::new())
+                    };
+                    let rel = Float::with_val(hp, (Float::with_val(hp, &v) - &r) / &r)
+                        .abs()
+                        .to_f64();
+                    let allowed = 2f64.powi(m.loss_bits - prec as i32 + 2);
+                    assert!(
+                        rel <= allowed,
+                        "cf prec={prec} z={zs} a={aval}: {rel:e} > {allowed:e} (loss {})",
+                        m.loss_bits
                     );
                 }
             }
