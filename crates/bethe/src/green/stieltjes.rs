@@ -127,8 +127,9 @@ pub(crate) fn meixner_stieltjes(
 /// in multiplications at that precision, from z = `zf`, mu = `muf` and
 /// a = `af`; it follows the routes taken there. The unit costs were
 /// measured with MPFR at 192 to 416 bits (benches/README.md): an
-/// exponential costs about 60 multiplications, [`digamma`] about 400, a term
-/// of a series with one division about 4 to 5.5.
+/// exponential costs about 60 multiplications, [`digamma_parts`] with its
+/// logarithm about 400, a term of a series with one division about 4 to
+/// 5.5, a level of the continued fraction about 5.
 ///
 /// # Accuracy
 /// A rough model (within a factor of about 2), used only to choose the
@@ -149,8 +150,8 @@ pub(crate) fn stieltjes_cost(beta: u32, zf: f64, muf: f64, af: f64, prec: u32) -
 /// (measured, 192 to 416 bits).
 const EXP_COST: f64 = 60.0;
 
-/// Cost of [`digamma`], in multiplications at the same precision
-/// (measured, 192 to 416 bits).
+/// Cost of [`digamma_parts`] with its logarithm, in multiplications at the
+/// same precision (measured, 192 to 416 bits).
 const DIGAMMA_COST: f64 = 400.0;
 
 /// The coefficient of -ln(mu) in m(a):
@@ -273,9 +274,10 @@ enum LerchRoute {
     /// The continued fraction ([`phi_cf`]), after a shift of a to a + s > 0
     /// when a <= 0.
     Fraction,
-    /// The integral with the separated logarithm ([`phi_bernoulli`]), after
-    /// a shift of a into (0, max(1, 8/mu)] (or the power series where a
-    /// downward shift would amplify rounding errors too much).
+    /// The form with the separated logarithm, its integral a series in mu
+    /// ([`phi_bernoulli`]), after a shift of a into (0, max(1, 8/mu)] (or
+    /// the power series where a downward shift would amplify rounding
+    /// errors too much).
     Bernoulli,
 }
 
@@ -641,7 +643,7 @@ struct BernoulliPlan {
 }
 
 /// See [`BernoulliPlan`]. A term b_j mu^j T_j of the series is below
-/// 2 (mu / 2 pi)^j (|B_j| / j! <= 2.2 (2 pi)^-j and T_j <= 1/j), so
+/// 2 (mu / 2 pi)^j for j >= 2 (|B_j| / j! <= 3.3 (2 pi)^-j and T_j <= 1/j), so
 /// k = (prec + 25) / log2(2 pi / mu) powers make it smaller than
 /// 2^-(prec + 24). The backward recurrence of T_j damps the error of its
 /// start T_J = e^-x / J (relative error below x / (J + 1 - x)) by x / j per
@@ -837,11 +839,11 @@ fn coefficients_at(kind: Coefficients, prec: u32, count: usize) -> Arc<Vec<Float
         (1..=count)
             .map(|k| {
                 let q = match kind {
-                    Coefficients::Digamma => Rational::from(&b[2 * k] / Rational::from(2 * k)),
+                    Coefficients::Digamma => &b[2 * k] / Rational::from(2 * k),
                     Coefficients::Taylor => {
                         fact *= (2 * k - 1) as u32;
                         fact *= (2 * k) as u32;
-                        Rational::from(&b[2 * k] / Rational::from(&fact))
+                        &b[2 * k] / Rational::from(&fact)
                     }
                 };
                 Float::with_val(prec, &q)
