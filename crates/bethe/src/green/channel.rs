@@ -6,6 +6,7 @@ use kzero_basis::gordon::radial_dipole;
 use kzero_basis::gradient::{gradient_function, Channel as Dir};
 use kzero_basis::sturmian::matched_expansion;
 use kzero_basis::BoundState;
+use rayon::prelude::*;
 use rug::{Float, Rational};
 
 use crate::BetheError;
@@ -46,37 +47,48 @@ pub(crate) struct ChannelData {
 /// Propagates basis-crate errors (none for valid states).
 pub(crate) fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
     let st = BoundState::hydrogen(i64::from(n), i64::from(l))?;
-    let mut out = Vec::new();
-    for dir in Dir::open(l) {
-        let big_l = dir.big_l(l);
-        let g = gradient_function(&st, dir)?;
-        let exp = matched_expansion(&g, big_l)?;
-        let alpha = 2 * big_l + 1;
-        let s2 = &exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha));
-        let mut lower_states = Vec::new();
-        for np in (big_l + 1)..n {
+    // the two channels are independent: formed in parallel
+    let out = Dir::open(l)
+        .into_par_iter()
+        .map(|dir| channel_data(&st, n, l, dir))
+        .collect::<Result<Vec<_>, BetheError>>()?;
+    Ok(out)
+}
+
+/// The exact data of the channel `dir` of |n l> (`st`).
+fn channel_data(st: &BoundState, n: u32, l: u32, dir: Dir) -> Result<ChannelData, BetheError> {
+    let big_l = dir.big_l(l);
+    let g = gradient_function(st, dir)?;
+    let exp = matched_expansion(&g, big_l)?;
+    let alpha = 2 * big_l + 1;
+    let s2 = &exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha));
+    // exact and independent of each other: formed in parallel (the
+    // big-number work of Gordon's formula grows like n^2 per lower
+    // state and dominates single states near n = 1000)
+    let lower_states = ((big_l + 1)..n)
+        .into_par_iter()
+        .map(|np| {
             let lower = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
             // exact <n' L| r |n l> by Gordon's closed formula
-            let r = radial_dipole(&lower, &st)?;
+            let r = radial_dipole(&lower, st)?;
             let d = lower.energy() - st.energy();
             // |p|^2 = D^2 |r|^2 (radial), times the angular weight
             let c = Rational::from(&d * &d) * r.square() * dir.weight(l);
-            lower_states.push(LowerState {
+            Ok(LowerState {
                 nprime: np,
                 weighted_p2: c,
                 energy_diff: d,
-            });
-        }
-        out.push(ChannelData {
-            big_l,
-            beta: 2 * big_l + 2,
-            weight: dir.weight(l),
-            coef: exp.coef,
-            s2,
-            lower_states,
-        });
-    }
-    Ok(out)
+            })
+        })
+        .collect::<Result<Vec<_>, BetheError>>()?;
+    Ok(ChannelData {
+        big_l,
+        beta: 2 * big_l + 2,
+        weight: dir.weight(l),
+        coef: exp.coef,
+        s2,
+        lower_states,
+    })
 }
 
 /// The channel data rounded to a working precision.

@@ -62,16 +62,23 @@ impl ExactState {
             .min()
     }
 
-    /// The integrand rounded to `prec` bits.
+    /// The integrand rounded to `prec` bits. The two channels put their
+    /// lower-state poles at the same n' (n' > l + 1): their residues are
+    /// added (both negative, so without cancellation) and each pole is
+    /// sampled once.
     pub(crate) fn integrand(&self, prec: u32) -> Integrand {
-        let lower_poles = self
-            .channels
-            .iter()
-            .flat_map(|ch| ch.lower_states.iter())
-            .zip(&self.residues)
-            .map(|(low, a)| LowerPole {
-                nprime: Float::with_val(prec, low.nprime),
-                residue: Float::with_val(prec, a),
+        let mut by_level: std::collections::BTreeMap<u32, Float> = Default::default();
+        let lows = self.channels.iter().flat_map(|ch| ch.lower_states.iter());
+        for (low, a) in lows.zip(&self.residues) {
+            *by_level
+                .entry(low.nprime)
+                .or_insert_with(|| Float::with_val(prec, 0)) += a;
+        }
+        let lower_poles = by_level
+            .into_iter()
+            .map(|(nprime, residue)| LowerPole {
+                nprime: Float::with_val(prec, nprime),
+                residue,
             })
             .collect();
         Integrand {
