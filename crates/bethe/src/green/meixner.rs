@@ -69,6 +69,12 @@ struct Rec {
     beta: u32,
     t1: Float,
     t2: Float,
+    /// b_i = z (i+beta) + (1-z) a + i, when both solutions take a step.
+    b: Float,
+    /// The step index i as a Float of the working precision: adding it is
+    /// the same correctly rounded operation as adding the integer, and
+    /// cheaper in MPFR than an addition of an unsigned integer.
+    index: Float,
 }
 
 impl Rec {
@@ -80,7 +86,15 @@ impl Rec {
             beta,
             t1: Float::new(prec),
             t2: Float::new(prec),
+            b: Float::new(prec),
+            index: Float::new(prec),
         }
+    }
+
+    /// t1 <- t1 + i (one rounding, as `t1 += i`).
+    fn add_index(&mut self, i: usize) {
+        self.index.assign(i as u32);
+        self.t1 += &self.index;
     }
 
     /// X_{i+1} from X_i, X_{i-1} (forward).
@@ -97,11 +111,39 @@ impl Rec {
         // t2 = z (i + beta); t1 = (t2 + i + c1) X_i - i X_{i-1}
         self.t2.assign(&self.z * ib);
         self.t1.assign(&self.t2 + &self.c1);
-        self.t1 += i as u32;
+        self.add_index(i);
         self.t1 *= xi;
         out.assign(xim1 * i as u32);
         self.t1 -= &*out;
         out.assign(&self.t1 / &self.t2);
+    }
+
+    /// One forward step of two solutions at once, X_{i+1} into `out` and
+    /// Y_{i+1} into `out_y`, with the coefficients formed once: each value
+    /// is the same as that of [`Rec::forward_into`] (the same operations on
+    /// the same roundings; the outputs must have the working precision).
+    #[allow(clippy::too_many_arguments)]
+    fn forward_pair(
+        &mut self,
+        i: usize,
+        xi: &Float,
+        xim1: &Float,
+        out: &mut Float,
+        yi: &Float,
+        yim1: &Float,
+        out_y: &mut Float,
+    ) {
+        let ib = i as u32 + self.beta;
+        self.t2.assign(&self.z * ib);
+        self.b.assign(&self.t2 + &self.c1);
+        self.index.assign(i as u32);
+        self.b += &self.index;
+        for (x, xm1, o) in [(xi, xim1, out), (yi, yim1, out_y)] {
+            self.t1.assign(&self.b * x);
+            o.assign(xm1 * i as u32);
+            self.t1 -= &*o;
+            o.assign(&self.t1 / &self.t2);
+        }
     }
 
     /// X_{i-1} from X_i, X_{i+1} (backward): (b_i X_i - z (i+beta) X_{i+1}) / i,
@@ -114,7 +156,7 @@ impl Rec {
     /// The rest of a backward step, with t2 = z (i+beta) already set.
     fn backward_rest(&mut self, i: usize, xi: &Float, xip1: &Float, out: &mut Float) {
         self.t1.assign(&self.t2 + &self.c1);
-        self.t1 += i as u32;
+        self.add_index(i);
         self.t1 *= xi;
         self.t2 *= xip1;
         self.t1 -= &self.t2;
@@ -177,6 +219,13 @@ pub(crate) fn channel_j_with(
     }
     let mut rec = Rec::new(beta, &a, zp);
     let sk = second_kind(&mut rec, &a, zp, m, meter, phi_hint, with_log);
+    // the forward route runs its recurrence here, in step with that of M_j
+    // (the same coefficients); the other routes have stored every rho_j
+    let (stored, mut forward) = match sk.rho {
+        Rho::Stored(rho) => (rho, None),
+        // (rho_{j-1}, rho_j, rho_{j+1}) before step j = 0
+        Rho::Forward(rho0, rho1) => (Vec::new(), Some([Float::new(prec), rho0, rho1])),
+    };
     // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i,
     // with eta_j = coef_j (-tau)^j and M_j = M_j(-a) (forward recurrence,
     // M_0 = 1, M_1 = 1 + a (1-z)/(z beta)), both formed on the way
@@ -191,20 +240,37 @@ pub(crate) fn channel_j_with(
     let mut em = Float::new(prec);
     let mut inner = Float::new(prec);
     let mut biggest = Float::with_val(prec, 0);
-    for (j, (c, rho_j)) in ch.coef.iter().zip(&sk.rho).enumerate() {
+    for (j, c) in ch.coef.iter().enumerate() {
         if j == 1 {
             let zb = Float::with_val(prec, &zp.z * beta);
             m_cur.assign(&rec.c1 / &zb);
             m_cur += 1u32;
         } else if j > 1 {
-            rec.forward_into(j - 1, &m_cur, &m_prev, &mut m_next);
+            match forward.as_mut() {
+                None => rec.forward_into(j - 1, &m_cur, &m_prev, &mut m_next),
+                Some([r_prev, r_cur, r_next]) => {
+                    if r_next.prec() != prec {
+                        r_next.set_prec(prec);
+                    }
+                    rec.forward_pair(j - 1, &m_cur, &m_prev, &mut m_next, r_cur, r_prev, r_next);
+                }
+            }
             std::mem::swap(&mut m_prev, &mut m_cur);
             std::mem::swap(&mut m_cur, &mut m_next);
         }
+        let rho_j = match forward.as_mut() {
+            None => &stored[j],
+            Some(r) => {
+                if j > 0 {
+                    r.rotate_left(1);
+                }
+                &r[1]
+            }
+        };
         eta.assign(c * &pw);
         pw *= &mtau;
         em.assign(&eta * &m_cur);
-        inner.assign(&s_prev * 2u32);
+        inner.assign(&s_prev << 1u32);
         inner += &em;
         inner *= &eta;
         inner *= rho_j;
@@ -276,7 +342,7 @@ pub(crate) fn channel_j_sources(
         mm.push(next);
     }
     let sk = second_kind(&mut rec, &a, zp, m, meter, phi_hint, true);
-    let rho = &sk.rho;
+    let rho = &sk.rho.stored(&mut rec, m);
     let mtau = Float::with_val(prec, -&p.tau);
     let scale = Float::with_val(prec, ws2 * &p.nu);
     let mut out = Vec::with_capacity(coefs.len());
@@ -295,7 +361,7 @@ pub(crate) fn channel_j_sources(
             eta.assign(c * &pw);
             pw *= &mtau;
             em.assign(&eta * &mm[j]);
-            inner.assign(&s_prev * 2u32);
+            inner.assign(&s_prev << 1u32);
             inner += &em;
             inner *= &eta;
             inner *= &rho[j];
@@ -319,11 +385,31 @@ pub(crate) fn channel_j_sources(
 /// The functions of the second kind rho_j (j < m) at one node, the
 /// coefficient of -ln(mu) in rho_0 = m(a), and the Lerch value used.
 struct SecondKind {
-    rho: Vec<Float>,
+    rho: Rho,
     /// Coefficient of -ln mu in m(a) (0 when it was not asked for).
     log_coef: Float,
     /// Phi(z, 1, a) when the route computed it.
     phi: Option<Float>,
+}
+
+/// rho_0..rho_{m-1} as [`second_kind`] leaves them.
+enum Rho {
+    /// All of them.
+    Stored(Vec<Float>),
+    /// The forward route with m >= 2: rho_0 and rho_1 ([`forward_start`]);
+    /// the rest follow by the forward recurrence ([`forward_rho`]), which
+    /// [`channel_j_with`] runs together with that of M_j(-a).
+    Forward(Float, Float),
+}
+
+impl Rho {
+    /// All of rho_0..rho_{m-1}.
+    fn stored(self, rec: &mut Rec, m: usize) -> Vec<Float> {
+        match self {
+            Rho::Stored(rho) => rho,
+            Rho::Forward(rho0, rho1) => forward_rho(rec, rho0, rho1, m),
+        }
+    }
 }
 
 /// How the functions of the second kind are computed at one node.
@@ -352,24 +438,25 @@ enum Route {
 /// route as the quadrature and measures its loss.
 fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> Route {
     let forward_loss: f64 = (1..m).map(|i| growth.bits(i)).sum();
+    // the local growth summed once, whatever thresholds are asked of it
+    let mut scan = Scan::new(growth, m);
     // the first index above m where the dominant solution has died out by
     // 2^-need (accumulated local ratios; the asymptotic ratio 1/z bounds
     // it), or None when that takes more than `limit` extra steps
-    let miller_top = |need: f64, limit: usize| {
+    let miller_top = |scan: &mut Scan, need: f64, limit: usize| {
         let cap = m + ((need / lz.max(1e-9)).ceil() as usize).min(limit + 1) + 16;
-        let mut top = m;
-        let mut acc = 0.0;
-        while acc < need && top < cap {
-            acc += growth.bits(top);
-            top += 1;
-        }
+        let top = m + scan.damping_reaches(need, cap - m);
         let top = (top + 16).min(cap);
         (top - m <= limit).then_some(top)
     };
     let decision_top = if forward_loss <= FORWARD_LOSS_MAX {
         None
     } else {
-        miller_top(MILLER_DECISION_BITS, miller_budget(forward_loss, m))
+        miller_top(
+            &mut scan,
+            MILLER_DECISION_BITS,
+            miller_budget(forward_loss, m),
+        )
     };
     // costs in multiplications (see `miller_budget`)
     let stieltjes = stieltjes_cost(
@@ -389,19 +476,19 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
     let steps_affordable = (chosen_cost - coef_ops) / (OPS_PER_MILLER_STEP + OPS_PER_HORNER_STEP);
     if steps_affordable >= m as f64 {
         let limit = steps_affordable as usize;
-        let normalized_top = miller_top(MILLER_DECISION_BITS, limit - m)
-            .and_then(|from| growth.sum_top(MILLER_DECISION_BITS, from, limit));
+        let normalized_top = miller_top(&mut scan, MILLER_DECISION_BITS, limit - m)
+            .and_then(|from| scan.sum_top(MILLER_DECISION_BITS, from, limit));
         if normalized_top.is_some() {
             let need = f64::from(prec) + 40.0;
-            let from = miller_top(need, usize::MAX / 2).unwrap_or(m);
-            if let Some(top) = growth.sum_top(need, from, usize::MAX / 2) {
+            let from = miller_top(&mut scan, need, usize::MAX / 2).unwrap_or(m);
+            if let Some(top) = scan.sum_top(need, from, usize::MAX / 2) {
                 return Route::MillerNormalized(top);
             }
         }
     }
     match decision_top {
         None => Route::Forward(forward_loss),
-        Some(_) => match miller_top(f64::from(prec) + 40.0, usize::MAX / 2) {
+        Some(_) => match miller_top(&mut scan, f64::from(prec) + 40.0, usize::MAX / 2) {
             Some(top) => Route::Miller(top),
             None => Route::Forward(forward_loss),
         },
@@ -409,7 +496,7 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
 }
 
 /// rho_i, i = 0..m, by the route of [`choose_route`]: forward from
-/// rho_0 = m(a), or backward (Miller) normalized by the generating-function
+/// rho_0 = m(a) (only started here, see [`Rho::Forward`]), or backward (Miller) normalized by the generating-function
 /// identity (no m(a) then; its logarithmic coefficient is formed alone, when
 /// `with_log` asks for it).
 fn second_kind(
@@ -428,7 +515,12 @@ fn second_kind(
     match choose_route(&growth, m, lz, zp.mu.to_f64(), prec) {
         Route::Forward(forward_loss) => {
             let (st, phi) = meixner_stieltjes(beta, a, zp, meter, phi_hint, with_log);
-            let rho = forward_rho(rec, a, zp, st.value, m, forward_loss, meter);
+            let rho = if m == 1 {
+                Rho::Stored(vec![st.value])
+            } else {
+                let (rho0, rho1) = forward_start(rec, a, zp, st.value, forward_loss, meter);
+                Rho::Forward(rho0, rho1)
+            };
             SecondKind {
                 rho,
                 log_coef: st.log_coef,
@@ -445,7 +537,7 @@ fn second_kind(
                 *v *= &norm;
             }
             SecondKind {
-                rho,
+                rho: Rho::Stored(rho),
                 log_coef: st.log_coef,
                 phi,
             }
@@ -458,7 +550,7 @@ fn second_kind(
                 Float::with_val(prec, 0)
             };
             SecondKind {
-                rho,
+                rho: Rho::Stored(rho),
                 log_coef,
                 phi: None,
             }
@@ -466,25 +558,19 @@ fn second_kind(
     }
 }
 
-/// rho_0..rho_{m-1} by the forward recurrence from rho_0 = m(a); the
-/// estimated loss of the pass is recorded in `meter`.
-fn forward_rho(
-    rec: &mut Rec,
+/// rho_0 and rho_1 = rho_0 - (1-z)(1 - a rho_0)/(z beta), the start of the
+/// forward recurrence from rho_0 = m(a) (m >= 2); the estimated loss of the
+/// forward pass is recorded in `meter`.
+fn forward_start(
+    rec: &Rec,
     a: &Float,
     zp: &ZPoint,
     rho0: Float,
-    m: usize,
     forward_loss: f64,
     meter: &mut Meter,
-) -> Vec<Float> {
+) -> (Float, Float) {
     let prec = a.prec();
-    let mut rho = Vec::with_capacity(m);
-    if m == 1 {
-        rho.push(rho0);
-        return rho;
-    }
     meter.loss(forward_loss.ceil() as i32);
-    // rho_1 = rho_0 - (1-z)(1 - a rho_0)/(z beta)
     let zb = Float::with_val(prec, &zp.z * rec.beta);
     let one_m_arho = Float::with_val(prec, 1u32 - Float::with_val(prec, a * &rho0));
     let r1 = Float::with_val(
@@ -493,8 +579,15 @@ fn forward_rho(
     );
     meter.term(&rho0);
     meter.result(&r1);
+    (rho0, r1)
+}
+
+/// rho_0..rho_{m-1} by the forward recurrence from rho_0 and rho_1
+/// ([`forward_start`]).
+fn forward_rho(rec: &mut Rec, rho0: Float, rho1: Float, m: usize) -> Vec<Float> {
+    let mut rho = Vec::with_capacity(m);
     rho.push(rho0);
-    rho.push(r1);
+    rho.push(rho1);
     for i in 1..m - 1 {
         let next = rec.forward(i, &rho[i], &rho[i - 1]);
         rho.push(next);
@@ -665,36 +758,25 @@ impl RootRatio {
     /// As [`RootRatio::bits`]: a local estimate, used only to choose a
     /// starting index.
     fn minimal_log2(&self, i: usize) -> f64 {
+        match self.minimal_root(i) {
+            MinimalRoot::Real(t) => t.log2(),
+            MinimalRoot::Complex(t2) => 0.5 * t2.log2(),
+        }
+    }
+
+    /// |t-| at step i >= 1, or |t-|^2 where the roots are complex: the
+    /// number whose log2 (half of it in the complex case) is
+    /// [`RootRatio::minimal_log2`].
+    #[inline]
+    fn minimal_root(&self, i: usize) -> MinimalRoot {
         let i = i as f64;
         let q = self.z * (i + self.beta);
         let b = i + q + self.one_minus_z * self.a;
         let disc = b * b - 4.0 * q * i;
         if disc <= 0.0 {
-            return 0.5 * (i / q).log2();
+            return MinimalRoot::Complex(i / q);
         }
-        (2.0 * i / (b.abs() + disc.sqrt())).log2()
-    }
-
-    /// The first index j >= `from` at which the terms
-    /// (beta)_j/j! z^j rho_j of the normalization sum of [`miller_rho`]
-    /// have fallen 2^-need below the largest term seen, plus 16; None when
-    /// that index is above `limit`.
-    fn sum_top(&self, need: f64, from: usize, limit: usize) -> Option<usize> {
-        let mut log2_term = 0.0f64;
-        let mut peak = 0.0f64;
-        let mut j = 1usize;
-        loop {
-            if j >= from && log2_term < peak - need {
-                return (j + 16 <= limit).then_some(j + 16);
-            }
-            if j > limit {
-                return None;
-            }
-            log2_term +=
-                (self.z * (self.beta + j as f64) / (j + 1) as f64).log2() + self.minimal_log2(j);
-            peak = peak.max(log2_term);
-            j += 1;
-        }
+        MinimalRoot::Real(2.0 * i / (b.abs() + disc.sqrt()))
     }
 
     /// log2(t+/t-) at step i >= 1 (0 where the roots are complex).
@@ -704,17 +786,338 @@ impl RootRatio {
     /// growth when the coefficients vary slowly with i, and is used only to
     /// choose a route and a starting index, never in a value.
     fn bits(&self, i: usize) -> f64 {
+        self.root_ratio(i).map_or(0.0, |x| x.log2().max(0.0))
+    }
+
+    /// t+/t- at step i (None where the roots are complex or i = 0): the
+    /// number whose log2, clamped at 0, is [`RootRatio::bits`].
+    #[inline]
+    fn root_ratio(&self, i: usize) -> Option<f64> {
         let i = i as f64;
         let q = self.z * (i + self.beta);
         let b = i + q + self.one_minus_z * self.a;
         let disc = b * b - 4.0 * q * i;
         if disc <= 0.0 || i <= 0.0 {
-            return 0.0;
+            return None;
         }
         let r = disc.sqrt();
         // t+ / t- = (b + r)^2 / (4 q i), written without cancellation
         let big = b.abs() + r;
-        (big * big / (4.0 * q * i)).log2().max(0.0)
+        Some(big * big / (4.0 * q * i))
+    }
+}
+
+/// The minimal root of [`RootRatio`] at one step.
+enum MinimalRoot {
+    /// |t-| (real roots).
+    Real(f64),
+    /// |t-|^2 = i / (z (i + beta)) (complex roots).
+    Complex(f64),
+}
+
+/// The f64 sequences behind the route decision of one node, each formed
+/// once and kept, however many thresholds [`choose_route`] asks of them.
+///
+/// The decision is defined by sums of f64 logarithms taken step by step
+/// (`damping_exact`, `term_exact`). Those sums are what the thresholds are
+/// compared with, but they cost one or two logarithms per step; the
+/// searches first run on products of the same f64 numbers, rescaled by
+/// powers of two ([`Prod`]), whose logarithm equals the sum to within a
+/// bound of a few units in the last place per step. Only a comparison that
+/// this bound cannot settle (or a product that leaves the normal range)
+/// falls back to the sums themselves, so the answer is always that of the
+/// sums.
+struct Scan<'g> {
+    growth: &'g RootRatio,
+    m: usize,
+    /// damping[k] = bits(m) + ... + bits(m + k - 1), summed in this order
+    /// (damping[0] = 0): the damping (bits) of the dominant solution over a
+    /// backward run from m + k down to m. Formed only where needed.
+    damping: Vec<f64>,
+    /// The products of t+/t- (clamped at 1) over the same steps, as far as
+    /// they are normal numbers.
+    damping_prod: Vec<Prod>,
+    /// For j = 1, 2, ... at index j - 1: (log2 of the j-th term
+    /// (beta)_j/j! z^j rho_j of the normalization sum of [`miller_rho`]
+    /// relative to the first, the largest of these up to j), each term's
+    /// logarithm summed in this order. Formed only where needed.
+    terms: Vec<(f64, f64)>,
+    /// The same by products, as far as they are normal numbers.
+    terms_prod: Vec<TermProd>,
+}
+
+/// One entry of [`Scan::terms_prod`].
+#[derive(Clone, Copy)]
+struct TermProd {
+    /// The product of the ratios of successive terms.
+    term: Prod,
+    /// The largest `term` up to here.
+    peak: Prod,
+    /// A bound on the sum over the steps so far of the magnitudes of the
+    /// logarithms that the step-by-step sum rounds (both of each step's
+    /// ratios, and the partial sum).
+    size: f64,
+}
+
+/// Relative bound (generous) on the rounding of one f64 operation or one
+/// libm logarithm, used for the distance between a sum of logarithms and
+/// the logarithm of the product: 2^-40, against 2^-52 per step actually
+/// reached.
+const ROUNDING_BOUND: f64 = 1.0 / 1_099_511_627_776.0;
+
+/// A positive f64 product kept as `mant` 2^`exp` with `mant` in [1, 2),
+/// rescaled exactly at every step so that it cannot overflow.
+#[derive(Clone, Copy)]
+struct Prod {
+    mant: f64,
+    exp: i64,
+}
+
+impl Prod {
+    const ONE: Prod = Prod { mant: 1.0, exp: 0 };
+
+    /// self * x (one rounding), or None when that is not a positive normal
+    /// number.
+    #[inline]
+    fn times(self, x: f64) -> Option<Prod> {
+        let y = self.mant * x;
+        if !(y.is_normal() && y > 0.0) {
+            return None;
+        }
+        let bits = y.to_bits();
+        let e = ((bits >> 52) & 0x7ff) as i64 - 1023;
+        let mant = f64::from_bits((bits & ((1u64 << 52) - 1)) | (1023u64 << 52));
+        Some(Prod {
+            mant,
+            exp: self.exp + e,
+        })
+    }
+
+    /// log2 of the product (the logarithm of `mant` in [0, 1) plus `exp`).
+    fn log2(self) -> f64 {
+        self.exp as f64 + self.mant.log2()
+    }
+
+    /// Whether self > other.
+    fn above(self, other: Prod) -> bool {
+        self.exp > other.exp || (self.exp == other.exp && self.mant > other.mant)
+    }
+}
+
+/// |log2 x| + 1 bounded from above through the exponent of x (positive,
+/// normal).
+fn log2_size(x: f64) -> f64 {
+    let e = ((x.to_bits() >> 52) & 0x7ff) as i64 - 1023;
+    (e.abs() + 2) as f64
+}
+
+/// Where a sum of logarithms stands against a threshold, when the
+/// logarithm `approx` of the product is within `margin` of the sum.
+#[derive(PartialEq)]
+enum Side {
+    Below,
+    AtOrAbove,
+    Unsure,
+}
+
+fn side(approx: f64, threshold: f64, margin: f64) -> Side {
+    if approx < threshold - margin {
+        Side::Below
+    } else if approx >= threshold + margin {
+        Side::AtOrAbove
+    } else {
+        Side::Unsure
+    }
+}
+
+impl<'g> Scan<'g> {
+    fn new(growth: &'g RootRatio, m: usize) -> Self {
+        Scan {
+            growth,
+            m,
+            damping: vec![0.0],
+            damping_prod: vec![Prod::ONE],
+            terms: vec![(0.0, 0.0)],
+            terms_prod: vec![TermProd {
+                term: Prod::ONE,
+                peak: Prod::ONE,
+                size: 0.0,
+            }],
+        }
+    }
+
+    /// bits(m) + ... + bits(m + k - 1) (0 for k = 0), summed in this order.
+    fn damping_exact(&mut self, k: usize) -> f64 {
+        while self.damping.len() <= k {
+            let last = self.damping[self.damping.len() - 1];
+            let i = self.m + self.damping.len() - 1;
+            self.damping.push(last + self.growth.bits(i));
+        }
+        self.damping[k]
+    }
+
+    /// Extends `damping_prod` by up to `steps` entries (fewer when a
+    /// product leaves the normal range; it stays short then).
+    fn extend_damping_prod(&mut self, steps: usize) {
+        let len = self.damping_prod.len();
+        let mut last = self.damping_prod[len - 1];
+        self.damping_prod.reserve(steps);
+        for i in self.m + len - 1..self.m + len - 1 + steps {
+            // bits(i) is the log2 of the same number, clamped at 0 (0 also
+            // where it is NaN, like f64::max)
+            let x = self.growth.root_ratio(i).map_or(1.0, |x| x.max(1.0));
+            match last.times(x) {
+                Some(p) => {
+                    self.damping_prod.push(p);
+                    last = p;
+                }
+                None => return,
+            }
+        }
+    }
+
+    /// The first k in 0..kmax with damping_exact(k) >= need, or kmax.
+    fn damping_reaches(&mut self, need: f64, kmax: usize) -> usize {
+        const BLOCK: usize = 32;
+        let mut k = 0;
+        while k < kmax {
+            if k == self.damping_prod.len() {
+                self.extend_damping_prod(BLOCK.min(kmax - k));
+                if k == self.damping_prod.len() {
+                    // a product left the normal range
+                    return self.damping_reaches_exact(need, kmax);
+                }
+            }
+            let end = self.damping_prod.len().min(kmax);
+            // the sum of k nonnegative logarithms against `need`, and the
+            // logarithm of their product, are within `margin` of each
+            // other (the largest over this stretch of k)
+            let margin = ROUNDING_BOUND * (end as f64 + 4.0) * (need.abs() + 8.0);
+            // log2 of a product lies in [exp, exp + 1)
+            let clear = need - margin - 1.0;
+            while k < end {
+                let p = self.damping_prod[k];
+                if (p.exp as f64) >= clear {
+                    match side(p.log2(), need, margin) {
+                        Side::Below => {}
+                        Side::AtOrAbove => return k,
+                        Side::Unsure => return self.damping_reaches_exact(need, kmax),
+                    }
+                }
+                k += 1;
+            }
+        }
+        kmax
+    }
+
+    /// [`Scan::damping_reaches`] by the sums themselves.
+    fn damping_reaches_exact(&mut self, need: f64, kmax: usize) -> usize {
+        let mut k = 0;
+        while k < kmax && self.damping_exact(k) < need {
+            k += 1;
+        }
+        k
+    }
+
+    /// (log2 of the j-th term of the normalization sum relative to the
+    /// first, the largest of these up to j), j >= 1, summed step by step.
+    fn term_exact(&mut self, j: usize) -> (f64, f64) {
+        while self.terms.len() < j {
+            let k = self.terms.len();
+            let (log2_term, peak) = self.terms[k - 1];
+            let g = self.growth;
+            let log2_term = log2_term
+                + ((g.z * (g.beta + k as f64) / (k + 1) as f64).log2() + g.minimal_log2(k));
+            self.terms.push((log2_term, peak.max(log2_term)));
+        }
+        self.terms[j - 1]
+    }
+
+    /// The same as [`Scan::term_exact`] by products, None when they leave
+    /// the normal range.
+    fn term_prod(&mut self, j: usize) -> Option<TermProd> {
+        while self.terms_prod.len() < j {
+            let k = self.terms_prod.len();
+            let last = self.terms_prod[k - 1];
+            let g = self.growth;
+            let ratio = g.z * (g.beta + k as f64) / (k + 1) as f64;
+            let root = match g.minimal_root(k) {
+                MinimalRoot::Real(t) => t,
+                MinimalRoot::Complex(t2) => t2.sqrt(),
+            };
+            if !(ratio.is_normal() && root.is_normal()) {
+                return None;
+            }
+            let term = last.term.times(ratio)?.times(root)?;
+            let peak = if term.above(last.peak) {
+                term
+            } else {
+                last.peak
+            };
+            let size =
+                last.size + log2_size(ratio) + log2_size(root) + (term.exp.abs() + 2) as f64 + 2.0;
+            self.terms_prod.push(TermProd { term, peak, size });
+        }
+        Some(self.terms_prod[j - 1])
+    }
+
+    /// The first index j >= `from` at which the terms
+    /// (beta)_j/j! z^j rho_j of the normalization sum of [`miller_rho`]
+    /// have fallen 2^-need below the largest term seen, plus 16; None when
+    /// that index is above `limit`.
+    fn sum_top(&mut self, need: f64, from: usize, limit: usize) -> Option<usize> {
+        let mut j = from.max(1);
+        loop {
+            if j > limit + 1 {
+                return None;
+            }
+            let Some(t) = self.term_prod(j) else {
+                return self.sum_top_exact(need, from, limit);
+            };
+            // log2 term - log2 peak against -need; each lies within
+            // `margin` of its step-by-step sum
+            let margin = 2.0 * ROUNDING_BOUND * (t.size + j as f64 + 4.0);
+            let de = (t.term.exp - t.peak.exp) as f64;
+            // the difference lies in (de - 1, de + 1)
+            let coarse = if de + 1.0 < -need - margin {
+                Side::Below
+            } else if de - 1.0 >= -need + margin {
+                Side::AtOrAbove
+            } else {
+                side(
+                    de + (t.term.mant.log2() - t.peak.mant.log2()),
+                    -need,
+                    margin,
+                )
+            };
+            match coarse {
+                Side::Below => return (j + 16 <= limit).then_some(j + 16),
+                Side::AtOrAbove => {}
+                Side::Unsure => return self.sum_top_exact(need, from, limit),
+            }
+            if j > limit {
+                return None;
+            }
+            j += 1;
+        }
+    }
+
+    /// [`Scan::sum_top`] by the sums themselves.
+    fn sum_top_exact(&mut self, need: f64, from: usize, limit: usize) -> Option<usize> {
+        let mut j = from.max(1);
+        loop {
+            if j > limit + 1 {
+                return None;
+            }
+            let (log2_term, peak) = self.term_exact(j);
+            if log2_term < peak - need {
+                return (j + 16 <= limit).then_some(j + 16);
+            }
+            if j > limit {
+                return None;
+            }
+            j += 1;
+        }
     }
 }
 
@@ -859,5 +1262,132 @@ mod normalization_tests {
                 "{kind:?}: route taken at {count} nodes only ({taken:?})"
             );
         }
+    }
+}
+
+#[cfg(test)]
+mod shortcut_tests {
+    use super::*;
+    use crate::green::channel::channels;
+
+    /// The searches of the route decision by products of the local ratios
+    /// ([`Scan::damping_reaches`], [`Scan::sum_top`]) return the same index
+    /// as the step-by-step sums of their logarithms that define the route,
+    /// at round thresholds and at thresholds equal to a partial sum (where
+    /// only the fallback to the sums can settle the comparison; it must be
+    /// taken there), over nodes of several states and both channels.
+    #[test]
+    fn product_searches_match_sums() {
+        let mut compared = 0;
+        for &(n, l) in &[
+            (8u32, 3u32),
+            (20, 0),
+            (60, 30),
+            (200, 1),
+            (200, 100),
+            (200, 190),
+        ] {
+            for big_l in [l + 1, l.wrapping_sub(1)] {
+                if big_l >= n {
+                    continue;
+                }
+                let beta = 2 * big_l + 2;
+                let m = (n - big_l) as usize;
+                for k in 1..40 {
+                    let nu = f64::from(n) * f64::from(k) / 40.0 * 0.998_7;
+                    let tau = (nu - f64::from(n)) / (nu + f64::from(n));
+                    let z = tau * tau;
+                    let omz = 4.0 * f64::from(n) * nu / ((f64::from(n) + nu) * (f64::from(n) + nu));
+                    let growth = RootRatio::new(beta, f64::from(big_l + 1) - nu, z, omz);
+                    let kmax = 20_000;
+                    let mut sums = Scan::new(&growth, m);
+                    let mut partial = vec![];
+                    for k in [1usize, 7, 40, 200] {
+                        let d = sums.damping_exact(k);
+                        if d > 0.0 {
+                            partial.push(d);
+                        }
+                    }
+                    let mut needs = vec![48.0, 300.0, 392.0, 1064.0];
+                    needs.extend(&partial);
+                    for need in needs {
+                        let mut products = Scan::new(&growth, m);
+                        let mut sums = Scan::new(&growth, m);
+                        assert_eq!(
+                            products.damping_reaches(need, kmax),
+                            sums.damping_reaches_exact(need, kmax),
+                            "({n},{l}) L={big_l} nu={nu} need={need}"
+                        );
+                        let from = m + 17;
+                        assert_eq!(
+                            products.sum_top(need, from, kmax),
+                            sums.sum_top_exact(need, from, kmax),
+                            "({n},{l}) L={big_l} nu={nu} need={need}"
+                        );
+                        compared += 1;
+                    }
+                    // a threshold equal to a partial sum of the normalization
+                    // terms' logarithms
+                    let (term, peak) = sums.term_exact(m + 40);
+                    let need = peak - term;
+                    if need > 0.0 {
+                        let mut products = Scan::new(&growth, m);
+                        assert_eq!(
+                            products.sum_top(need, m, kmax),
+                            sums.sum_top_exact(need, m, kmax),
+                            "({n},{l}) L={big_l} nu={nu} need={need}"
+                        );
+                    }
+                }
+            }
+        }
+        assert!(compared > 1000, "{compared}");
+    }
+
+    /// The forward route, whose recurrence runs in step with that of M_j
+    /// in [`channel_j_with`], gives bit for bit the value of the same
+    /// route with every rho_j stored first ([`channel_j_sources`] with one
+    /// source); the route must be taken at some nodes.
+    #[test]
+    fn forward_in_step_matches_stored() {
+        let prec = 256;
+        let mut forward_nodes = 0;
+        for &(n, l) in &[(6u32, 2u32), (20, 0), (60, 30)] {
+            for ch in &channels(n, l).unwrap() {
+                let cf = ChannelFloat::new(ch, prec);
+                for k in 1..40 {
+                    let nu = Float::with_val(prec, f64::from(n) * f64::from(k) / 40.0 * 0.998_7);
+                    let p = NuPoint::new(n, &nu);
+                    let mut meter = Meter::new();
+                    let (one, _) = channel_j_with(&cf, &p, &mut meter, None, true);
+                    let mut meter_s = Meter::new();
+                    let (many, _) = channel_j_sources(
+                        cf.big_l,
+                        cf.beta,
+                        &cf.ws2,
+                        std::slice::from_ref(&cf.coef),
+                        &p,
+                        &mut meter_s,
+                        None,
+                    );
+                    assert_eq!(one.j, many[0].j, "({n},{l}) L={} nu={nu}", cf.big_l);
+                    assert_eq!(one.log_coef, many[0].log_coef);
+                    assert_eq!(meter.loss_bits, meter_s.loss_bits);
+                    let a = Float::with_val(prec, (cf.big_l + 1) - Float::with_val(prec, &nu));
+                    let growth = RootRatio::new(
+                        cf.beta,
+                        a.to_f64(),
+                        p.zp.z.to_f64(),
+                        p.zp.one_minus_z.to_f64(),
+                    );
+                    let lz = -p.zp.z.to_f64().log2();
+                    let route = choose_route(&growth, cf.coef.len(), lz, p.zp.mu.to_f64(), prec);
+                    if matches!(route, Route::Forward(_)) && cf.coef.len() > 2 {
+                        forward_nodes += 1;
+                    }
+                }
+            }
+        }
+        assert!(forward_nodes >= 10, "{forward_nodes}");
     }
 }
