@@ -7,13 +7,13 @@
 //! the nodes the goal asks for (the loss grows slowly as nu -> 0, and
 //! points further down would measure losses no node sees); on the mapped
 //! panels, both ends of each panel and equally spaced points in u between
-//! them, at most [`MAX_U_SPACING`] apart (6 points in all at n = 1, 12 at
-//! n = 20, 13 at n = 60, 16 at n = 200, 20 at n = 1000). Each point is evaluated at two precisions,
-//! [`HIGHER_BY`] bits apart, and the difference is the loss; where the
-//! higher evaluation kept too few bits, it is repeated at twice its
-//! precision. A panel's guard is the worst loss of its own points (ends
-//! included) plus [`GUARD_MARGIN`]; the meter of every node of the
-//! quadrature raises it when it sees more.
+//! them, at most [`MAX_U_SPACING`] apart (6 points in all at n = 1, 10 at
+//! n = 20 and n = 60, 13 at n = 200, 16 at n = 1000). Each point is
+//! evaluated at two precisions, [`HIGHER_BY`] bits apart, and the
+//! difference is the loss; where the higher evaluation kept too few bits,
+//! it is repeated at twice its precision. A panel's guard is the worst loss
+//! of its own points (ends included) plus [`GUARD_MARGIN`]; the meter of
+//! every node of the quadrature raises it when it sees more.
 
 use super::exact_part::ExactState;
 use super::integrand::Integrand;
@@ -30,7 +30,7 @@ pub(crate) const FIRST_PANEL_POINTS: u32 = 4;
 
 /// Largest spacing in u of the pilot points on the mapped panels (the
 /// points include both ends of every mapped panel).
-pub(crate) const MAX_U_SPACING: f64 = 1.0;
+pub(crate) const MAX_U_SPACING: f64 = 1.5;
 
 /// Bits by which the higher evaluation of a pilot point exceeds the lower
 /// one: its rounding error is 2^-32 of the lower one's, so their difference
