@@ -30,7 +30,7 @@
 //!
 //! ## Error estimate
 //! Panel by panel: a pair of Gauss rules (N nodes at p bits, and about
-//! 1.25 N + 4 nodes at p +- 32 bits) is compared; the finer value is kept and
+//! N + max(N/8, 4) nodes at p +- 32 bits) is compared; the finer value is kept and
 //! |difference| estimates the error of the cruder one, so it is conservative
 //! for the value kept as long as the rule converges. Each panel must meet an
 //! equal share of the goal; the estimate returned is the sum over panels. N
