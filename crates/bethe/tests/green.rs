@@ -63,6 +63,16 @@ fn error_estimate_covers_higher_precision() {
         // and at small L, above nu = L + 1
         (20, 0),
         (60, 30),
+        // the panels in u: one, two and three of them past the first panel
+        // (the u-length, about 2 ln n + 0.7, crosses 4 between n = 5 and 6
+        // and 8 between n = 38 and 39)
+        (5, 2),
+        (6, 2),
+        (38, 10),
+        (39, 10),
+        // and a state whose small-nu panels run at the highest precision
+        // (the forward loss of the second-kind functions at mid l)
+        (200, 30),
     ];
     for (n, l) in states {
         let lo = value(n, l, 20);
