@@ -60,8 +60,8 @@ pub fn ln_k0(n: i64, l: i64, settings: &Settings) -> Result<BetheValue, BetheErr
     let goal = 10f64.powi(-(digits as i32));
     // goal bits on ln k0, plus one decimal of margin
     let bits = ((f64::from(digits) + 2.0) * std::f64::consts::LOG2_10).ceil() as u32 + 8;
-    let profile = pilot_profile(&state, bits);
     let panels = panel_layout(state.n, state.first_lower_state());
+    let profile = pilot_profile(&state, &panels, bits);
     // each panel gets an equal share of the error budget
     let tol = goal / panels.len() as f64;
     let mut integrands = ByPrecision::new(|prec| state.integrand(prec));

@@ -39,10 +39,14 @@
 //! per node) while the difference misses the share.
 //!
 //! Working bits p = goal bits + guard, per panel. The guard is the loss to
-//! cancellation measured by a pilot (the integrand at 24 log-spaced photon
-//! energies at two precisions), on the absolute scale of ln k0, plus a
-//! margin; the meter of every node raises it when it sees more, and the
-//! 32-bit offset within a pair exposes rounding errors both missed. A panel
+//! cancellation measured by a pilot, on the absolute scale of ln k0, plus a
+//! margin. The pilot evaluates the integrand at two precisions 32 bits apart
+//! at a few points per panel: in the first panel from about its smallest
+//! node up to nu1, on the mapped panels at both ends and at most 1 apart in
+//! u; where the higher evaluation kept too few bits, it is repeated at a
+//! higher precision. The meter of every node raises the guard when it
+//! sees more, and the 32-bit offset within a pair exposes rounding errors
+//! both missed. A panel
 //! that does not converge makes the call fail with
 //! [`BetheError::NoConvergence`](crate::BetheError::NoConvergence); no
 //! number is returned then.

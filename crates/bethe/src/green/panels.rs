@@ -81,15 +81,24 @@ impl Panel {
         (nu, jac)
     }
 
-    /// Bits per node a Gauss rule on this mapped panel is expected to gain
-    /// (2 log2 rho for the strip |Im u| < pi, see the type's docs).
-    pub(crate) fn expected_rate(&self) -> f64 {
-        let u1 = if self.at_n {
+    /// The right end in u in double precision (ln n for the last panel).
+    pub(crate) fn u1_f64(&self) -> f64 {
+        if self.at_n {
             f64::from(self.c - 1).ln()
         } else {
             self.u1
-        };
-        let h = 0.5 * (u1 - self.u0);
+        }
+    }
+
+    /// nu at `u` in double precision, for planning.
+    pub(crate) fn nu_f64(&self, u: f64) -> f64 {
+        nu_of_u(u, f64::from(self.c))
+    }
+
+    /// Bits per node a Gauss rule on this mapped panel is expected to gain
+    /// (2 log2 rho for the strip |Im u| < pi, see the type's docs).
+    pub(crate) fn expected_rate(&self) -> f64 {
+        let h = 0.5 * (self.u1_f64() - self.u0);
         let pi = std::f64::consts::PI;
         let rho = (pi + (pi * pi + h * h).sqrt()) / h;
         2.0 * rho.log2()

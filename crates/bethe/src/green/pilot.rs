@@ -1,21 +1,57 @@
 //! The pilot: the loss to cancellation of the integrand, measured before
-//! the quadrature at 24 log-spaced photon energies, and the starting plan
-//! (guard bits, size) of each panel drawn from it.
+//! the quadrature at a few photon energies placed by panel, and the
+//! starting plan (guard bits, size) of each panel drawn from it.
+//!
+//! The points: in the first panel [0, nu1], [`FIRST_PANEL_POINTS`]
+//! log-spaced from about the smallest node its rule would have with twice
+//! the nodes the goal asks for (the loss grows slowly as nu -> 0, and
+//! points further down would measure losses no node sees); on the mapped
+//! panels, both ends of each panel and equally spaced points in u between
+//! them, at most [`MAX_U_SPACING`] apart (6 points in all at n = 1, 12 at
+//! n = 20, 13 at n = 60, 16 at n = 200, 20 at n = 1000). Each point is evaluated at two precisions,
+//! [`HIGHER_BY`] bits apart, and the difference is the loss; where the
+//! higher evaluation kept too few bits, it is repeated at twice its
+//! precision. A panel's guard is the worst loss of its own points (ends
+//! included) plus [`GUARD_MARGIN`]; the meter of every node of the
+//! quadrature raises it when it sees more.
 
 use super::exact_part::ExactState;
+use super::integrand::Integrand;
 use super::meter::Meter;
 use super::panels::Panel;
+use super::rates::FIRST_PANEL_RATE;
 use super::scale::{exp2_of, ln_k0_scale, quantize};
 use rayon::prelude::*;
 use rug::Float;
 
-/// Number of pilot points.
-pub(crate) const PILOT_POINTS: u32 = 24;
+/// Pilot points in the first panel (log-spaced from about its smallest
+/// node to its right end).
+pub(crate) const FIRST_PANEL_POINTS: u32 = 4;
+
+/// Largest spacing in u of the pilot points on the mapped panels (the
+/// points include both ends of every mapped panel).
+pub(crate) const MAX_U_SPACING: f64 = 1.0;
+
+/// Bits by which the higher evaluation of a pilot point exceeds the lower
+/// one: its rounding error is 2^-32 of the lower one's, so their difference
+/// is the lower one's error (rounding errors grow linearly through the
+/// computation, so this holds even when the lower one kept no correct bit).
+pub(crate) const HIGHER_BY: u32 = 32;
 
 /// Safety margin (bits) on top of the worst pilot loss of a panel. The pair
 /// of rules of [`super::refine::converge_panel`] differs by 32 bits, so
 /// rounding errors the pilot missed show up in their difference.
 pub(crate) const GUARD_MARGIN: i32 = 24;
+
+/// Most times the higher evaluation of a pilot point is repeated at twice
+/// its precision when it kept fewer than [`SATURATION_BITS`] bits.
+const MAX_REMEASURE: u32 = 4;
+
+/// A higher evaluation that kept fewer bits than this (relative to the
+/// point's own size) gives no reliable size of the point, and its rounding
+/// may no longer be small against the lower one's: it is repeated at a
+/// higher precision.
+const SATURATION_BITS: i32 = 16;
 
 /// One point of the pilot: photon-energy variable, loss bits, and the binary
 /// exponent of the node's contribution scale (n^3/2) nu |I(nu)|.
@@ -26,9 +62,25 @@ pub(crate) struct PilotPoint {
     pub(crate) mag: i32,
 }
 
-/// Loss profile of the integrand: evaluates it at [`PILOT_POINTS`]
-/// log-spaced photon energies (nu from 1e-5 to 0.99 n) at two precisions
-/// (bits + 64 rounded up to 32, and 64 more but at least 256) and compares. Returns the points with nu increasing.
+/// What one pair of evaluations at a pilot point measured: the loss and
+/// magnitude of [`PilotPoint`], and whether the higher evaluation kept too
+/// few bits for them to be trusted (it must be repeated at a higher
+/// precision).
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Measured {
+    pub(crate) loss: i32,
+    pub(crate) mag: i32,
+    pub(crate) saturated: bool,
+}
+
+/// Loss profile of the integrand: evaluates it at the points of
+/// [`pilot_points`] at two precisions (p = bits + 64 rounded up to 32, and
+/// p + [`HIGHER_BY`]) and compares. Rounding errors grow linearly through
+/// the computation, so the difference is the lower evaluation's error even
+/// when that one kept no correct bit; but where the higher evaluation kept
+/// fewer than [`SATURATION_BITS`] bits, it is repeated at twice its
+/// precision (at most [`MAX_REMEASURE`] times), so that the size of every
+/// point is measured too. Returns the points with nu increasing.
 ///
 /// The loss is measured on the absolute scale of ln k0 (as in
 /// [`super::panels::panel_integral`]): the difference of the two
@@ -36,78 +88,168 @@ pub(crate) struct PilotPoint {
 /// is the absolute error the node would bring into ln k0 at the lower
 /// precision. A node whose value is far below the others may lose all its
 /// relative digits without costing any bits of ln k0.
-pub(crate) fn pilot_profile(state: &ExactState, bits: u32) -> Vec<PilotPoint> {
+pub(crate) fn pilot_profile(state: &ExactState, panels: &[Panel], bits: u32) -> Vec<PilotPoint> {
     let p_lo = quantize(bits + 64);
-    // the higher evaluation only has to be far more accurate than the lower
-    // one (by 2^64: the loss is a property of the computation, the same at
-    // both precisions); at least 256 bits, so that losses up to about 200
-    // bits stay measurable at few digits
-    let p_hi = (p_lo + 64).max(256);
     let lo = state.integrand(p_lo);
-    let hi = state.integrand(p_hi);
+    let hi = state.integrand(p_lo + HIGHER_BY);
     let scale = ln_k0_scale(state.n);
-    profile(state.n, |x| {
-        let mut meter = Meter::new();
-        let low_value = lo
-            .sample(&Float::with_val(p_lo, x), &mut meter, false)
-            .value;
-        let mut high_meter = Meter::new();
-        let high_sample = hi.sample(&Float::with_val(p_hi, x), &mut high_meter, true);
-        let high_value = high_sample.value;
-        if !low_value.is_finite() || !high_value.is_finite() {
-            return (p_lo as i32 + 64, 0);
+    profile(panels, bits, |x, first| {
+        let low = LowSample::at(&lo, x);
+        let mut at = measure_point(&low, &hi, x, first, scale);
+        let mut p_hi = p_lo + HIGHER_BY;
+        for _ in 0..MAX_REMEASURE {
+            if !at.saturated {
+                break;
+            }
+            p_hi *= 2;
+            at = measure_point(&low, &state.integrand(p_hi), x, first, scale);
         }
-        // contribution scale of the node: (n^3/2) nu |I| (log-spaced points)
-        let weight = Float::with_val(p_hi, x) * scale;
-        let mag = exp2_of(&Float::with_val(p_hi, &high_value * &weight));
-        let difference =
-            Float::with_val(p_hi, Float::with_val(p_hi, &low_value) - &high_value).abs();
-        // the first panel splits I into I_an + I_log ln nu: each part
-        // carries its own rounding
-        let log_part = Float::with_val(p_hi, &high_sample.log_coef * x.ln()) * &weight;
-        let metered = meter.loss_bits + mag.max(exp2_of(&log_part));
-        if difference.is_zero() {
-            return (metered, mag);
-        }
-        // absolute error on ln k0 at p_lo is |difference| (n^3/2) nu = 2^(loss - p_lo)
-        let seen = p_lo as i32 + exp2_of(&Float::with_val(p_hi, &difference * &weight));
-        (seen.max(metered), mag)
+        at
     })
 }
 
-/// The [`PILOT_POINTS`] photon-energy points of the pilot for principal
-/// quantum number `n`: log-spaced over [1e-5, 0.99 n] (down to the smallest
-/// nodes of the first panel), where the losses vary smoothly with nu; the
-/// odd factor keeps the points off the integers.
-fn pilot_points(n: u32) -> Vec<f64> {
-    let lo_nu = 1e-5;
-    let hi_nu = 0.99 * f64::from(n);
-    let count = PILOT_POINTS;
-    (0..count)
-        .map(|i| {
-            let t = f64::from(i) / f64::from(count - 1);
-            lo_nu * (hi_nu / lo_nu).powf(t) * 0.998_7
+/// The lower evaluation of a pilot point: I'(nu) at the precision of its
+/// integrand, and the loss its meter saw.
+struct LowSample {
+    value: Float,
+    meter_loss: i32,
+}
+
+impl LowSample {
+    fn at(lo: &Integrand, x: f64) -> Self {
+        let mut meter = Meter::new();
+        let value = lo
+            .sample(&Float::with_val(lo.prec(), x), &mut meter, false)
+            .value;
+        LowSample {
+            value,
+            meter_loss: meter.loss_bits,
+        }
+    }
+}
+
+/// The lower evaluation `low` at `x` against the higher one by `hi` (at
+/// least [`HIGHER_BY`] bits more); `first` asks for the logarithmic
+/// coefficient (the first panel splits I into I_an + I_log ln nu, and each
+/// part carries its own rounding). `scale` is n^3/2.
+fn measure_point(low: &LowSample, hi: &Integrand, x: f64, first: bool, scale: f64) -> Measured {
+    let (p_lo, p_hi) = (low.value.prec(), hi.prec());
+    let mut high_meter = Meter::new();
+    let high_sample = hi.sample(&Float::with_val(p_hi, x), &mut high_meter, first);
+    let high_value = high_sample.value;
+    if !low.value.is_finite() || !high_value.is_finite() {
+        return Measured {
+            loss: p_lo as i32 + 64,
+            mag: 0,
+            saturated: false,
+        };
+    }
+    // contribution scale of the node: (n^3/2) nu |I| (log-spaced points)
+    let weight = Float::with_val(p_hi, x) * scale;
+    let mag = exp2_of(&Float::with_val(p_hi, &high_value * &weight));
+    let log_part = Float::with_val(p_hi, &high_sample.log_coef * x.ln()) * &weight;
+    let size = mag.max(exp2_of(&log_part));
+    let metered = low.meter_loss + size;
+    let difference = Float::with_val(p_hi, Float::with_val(p_hi, &low.value) - &high_value).abs();
+    if difference.is_zero() {
+        return Measured {
+            loss: metered,
+            mag,
+            saturated: false,
+        };
+    }
+    // absolute error on ln k0 at p_lo is |difference| (n^3/2) nu = 2^(loss - p_lo)
+    let seen = p_lo as i32 + exp2_of(&Float::with_val(p_hi, &difference * &weight));
+    Measured {
+        loss: seen.max(metered),
+        mag,
+        // the higher evaluation's own relative error is 2^(seen - size - p_hi)
+        saturated: seen - size > p_hi as i32 - SATURATION_BITS,
+    }
+}
+
+/// The photon-energy points of the pilot for the panels `panels` (from
+/// [`super::panels::panel_layout`]) at a goal of `bits` bits, with a flag
+/// for the points of the first panel, nu increasing:
+///
+/// - in the first panel [0, nu1], [`FIRST_PANEL_POINTS`] points log-spaced
+///   from about the smallest node of its rule with twice the nodes the goal
+///   asks for (the loss grows slowly as nu -> 0, and no node lies further
+///   down) to nu1;
+/// - on the mapped panels, both ends of every panel and points equally
+///   spaced in u between them, at most [`MAX_U_SPACING`] apart (the last
+///   end just below nu = n).
+pub(crate) fn pilot_points(panels: &[Panel], bits: u32) -> Vec<(f64, bool)> {
+    let mut out = Vec::new();
+    let mut mapped = Vec::new();
+    for panel in panels {
+        if panel.first {
+            let nodes = 2.0 * f64::from(bits + 8) / FIRST_PANEL_RATE;
+            let low = panel.end * smallest_gauss_node(nodes);
+            let count = FIRST_PANEL_POINTS;
+            for i in 0..count {
+                let t = f64::from(i) / f64::from(count - 1);
+                out.push((low * (panel.end / low).powf(t), true));
+            }
+        } else {
+            mapped.push(panel);
+        }
+    }
+    for (k, panel) in mapped.iter().enumerate() {
+        let u1 = panel.u1_f64();
+        let steps = ((u1 - panel.u0) / MAX_U_SPACING).ceil().max(1.0) as u32;
+        // the left end of each mapped panel is the right end of the one
+        // before (or nu1, already a point of the first panel)
+        for i in 1..=steps {
+            let mut u = panel.u0 + (u1 - panel.u0) * f64::from(i) / f64::from(steps);
+            if k + 1 == mapped.len() && i == steps {
+                // just inside nu = n, where the Gauss nodes end
+                u -= 0.01 * (u1 - panel.u0) / f64::from(steps);
+            }
+            out.push((panel.nu_f64(u), false));
+        }
+    }
+    out
+}
+
+/// About the smallest node of the Gauss-Legendre rule of `nodes` nodes on
+/// [0, 1]: (j0 / (N + 1/2))^2 / 4, with j0 = 2.4048 the first zero of the
+/// Bessel function J0 (the usual asymptotic form of the first zero of the
+/// Legendre polynomial).
+fn smallest_gauss_node(nodes: f64) -> f64 {
+    let theta = 2.404_825_557_695_773 / (nodes + 0.5);
+    0.25 * theta * theta
+}
+
+/// A loss profile: `measure(nu, first)` measures each point of
+/// [`pilot_points`] (see [`pilot_profile`]; evaluated in parallel).
+/// Returns the points with nu increasing.
+pub(crate) fn profile(
+    panels: &[Panel],
+    bits: u32,
+    measure: impl Fn(f64, bool) -> Measured + Sync,
+) -> Vec<PilotPoint> {
+    let points = pilot_points(panels, bits);
+    let found: Vec<Measured> = points
+        .par_iter()
+        .map(|&(x, first)| measure(x, first))
+        .collect();
+    points
+        .into_iter()
+        .zip(found)
+        .map(|((nu, _), m)| PilotPoint {
+            nu,
+            loss: m.loss,
+            mag: m.mag,
         })
         .collect()
 }
 
-/// A loss profile: `measure(nu)` gives (loss bits, magnitude exponent) at
-/// each pilot point (see [`pilot_profile`]; evaluated in parallel). Returns
-/// the points with nu increasing.
-pub(crate) fn profile(n: u32, measure: impl Fn(f64) -> (i32, i32) + Sync) -> Vec<PilotPoint> {
-    let points = pilot_points(n);
-    let found: Vec<(i32, i32)> = points.par_iter().map(|&x| measure(x)).collect();
-    points
-        .into_iter()
-        .zip(found)
-        .map(|(nu, (loss, mag))| PilotPoint { nu, loss, mag })
-        .collect()
-}
-
-/// Pilot points that speak for a panel: those within a factor 2 of it (all
-/// points below 2 nu1 for the first panel), else the nearest one.
+/// Pilot points that speak for a panel: those inside it, ends included (for
+/// the first panel, every point up to nu1), else the nearest one.
 fn panel_points(profile: &[PilotPoint], panel: &Panel) -> Vec<PilotPoint> {
-    let (lo, hi) = (panel.start / 2.0, panel.end * 2.0);
+    // the ends are shared with the neighbours; allow for their rounding
+    let (lo, hi) = (panel.start * (1.0 - 1e-9), panel.end * (1.0 + 1e-9));
     let inside: Vec<PilotPoint> = profile
         .iter()
         .filter(|p| (lo..=hi).contains(&p.nu) || (panel.first && p.nu <= hi))
@@ -149,5 +291,99 @@ pub(crate) fn panel_plan(profile: &[PilotPoint], panel: &Panel) -> PanelPlan {
     PanelPlan {
         guard,
         magnitude_exp,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::green::panels::panel_layout;
+    use crate::green::quad;
+
+    /// The points reach down to the smallest node of the first panel's rule
+    /// with twice the nodes the goal asks for (checked against the rule
+    /// itself), end at nu1, and cover every mapped panel from end to end at
+    /// most MAX_U_SPACING apart in u.
+    #[test]
+    fn points_cover_every_panel() {
+        for (n, first_lower, bits) in [
+            (1, None, 40),
+            (2, Some(1), 82),
+            (60, None, 82),
+            (200, None, 148),
+            (1000, None, 148),
+        ] {
+            let panels = panel_layout(n, first_lower);
+            let points = pilot_points(&panels, bits);
+            assert!(points.windows(2).all(|w| w[0].0 < w[1].0), "n = {n}");
+            let nu1 = panels[0].end;
+            let nodes = (2.0 * f64::from(bits + 8) / FIRST_PANEL_RATE).round() as usize;
+            let smallest = quad::rule(nodes, 64).x[0].to_f64() * nu1;
+            assert!(
+                points[0].0 <= smallest * 1.05 && points[0].0 >= smallest * 0.8,
+                "n = {n}: lowest point {} against the smallest node {smallest}",
+                points[0].0
+            );
+            let first: Vec<f64> = points.iter().filter(|p| p.1).map(|p| p.0).collect();
+            assert_eq!(first.len() as u32, FIRST_PANEL_POINTS);
+            assert!((first[first.len() - 1] / nu1 - 1.0).abs() < 1e-12);
+            let c = f64::from(n + 1);
+            let u: Vec<f64> = points
+                .iter()
+                .filter(|p| !p.1)
+                .map(|p| (p.0 / (c - p.0)).ln())
+                .collect();
+            let mut previous = (nu1 / (c - nu1)).ln();
+            for &x in &u {
+                assert!(x - previous <= MAX_U_SPACING * (1.0 + 1e-9), "n = {n}");
+                previous = x;
+            }
+            for p in &panels[1..] {
+                let has = |nu: f64| points.iter().any(|q| (q.0 / nu - 1.0).abs() < 1e-9);
+                assert!(has(p.start), "n = {n}: no point at {}", p.start);
+                if !p.at_n {
+                    assert!(has(p.end), "n = {n}: no point at {}", p.end);
+                }
+            }
+            let top = points[points.len() - 1].0;
+            assert!(top < f64::from(n) && top > f64::from(n) * 0.99, "n = {n}");
+        }
+    }
+
+    /// A loss larger than the precisions of the pilot is measured, not cut
+    /// off: (60, 30) loses about 100 bits near nu = 0 (more than 120
+    /// relative to the size of I there). The pair at 96 and 128 bits, the
+    /// pilot's for a goal of 5 digits, flags its lowest point as saturated;
+    /// the pilot repeats the higher evaluation there and finds the losses
+    /// (within 8 bits) that a pair at 512 and 544 bits measures at each of
+    /// its points.
+    #[test]
+    fn losses_beyond_the_lower_precision_are_measured() {
+        let state = ExactState::new(60, 30).unwrap();
+        let panels = panel_layout(60, state.first_lower_state());
+        let bits = ((5.0 + 2.0) * std::f64::consts::LOG2_10).ceil() as u32 + 8;
+        assert_eq!(quantize(bits + 64), 96);
+        let profile = pilot_profile(&state, &panels, bits);
+        let scale = ln_k0_scale(60);
+        let x = profile[0].nu;
+        let low = LowSample::at(&state.integrand(96), x);
+        let lowest = measure_point(&low, &state.integrand(96 + HIGHER_BY), x, true, scale);
+        assert!(lowest.saturated, "{lowest:?}");
+        let (lo, hi) = (state.integrand(512), state.integrand(544));
+        let mut worst = i32::MIN;
+        for p in &profile {
+            let first = p.nu <= panels[0].end * (1.0 + 1e-9);
+            let reference = measure_point(&LowSample::at(&lo, p.nu), &hi, p.nu, first, scale);
+            assert!(!reference.saturated);
+            worst = worst.max(reference.loss);
+            assert!(
+                (p.loss - reference.loss).abs() <= 8,
+                "nu = {}: loss {} against {} at 512 bits",
+                p.nu,
+                p.loss,
+                reference.loss
+            );
+        }
+        assert!(worst > 96, "worst loss {worst}");
     }
 }

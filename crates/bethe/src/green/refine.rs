@@ -114,10 +114,13 @@ pub(crate) fn converge_panel(
     // the next)
     let mut coarse_at_higher_prec = false;
     let mut reused_coarse: Option<PanelIntegrals> = None;
-    // a loss that eats the guard (the meter saw more cancellation than the
-    // pilot), or a non-finite value: the guard to start again with
+    // a loss that eats the guard the pair actually has (the bits of its
+    // lower precision above `bits`, at least `guard`: the meter saw more
+    // cancellation than the pilot and the rounding up to whole words left
+    // room for), or a non-finite value: the guard to start again with
     let short_of_bits = |loss: i32, v: &[Float], guard: u32| {
-        (loss + 16 > guard as i32 || v.iter().any(|x| !x.is_finite()))
+        let room = quantize(bits + guard) - bits;
+        (loss + 16 > room as i32 || v.iter().any(|x| !x.is_finite()))
             .then(|| (loss.max(guard as i32) + GUARD_MARGIN) as u32)
     };
     for _ in 0..MAX_TRIES {

@@ -33,7 +33,7 @@ use crate::green::integrand::phi_from_upper;
 use crate::green::meixner::{channel_j_sources, JValue, NuPoint};
 use crate::green::meter::Meter;
 use crate::green::panels::{panel_layout, Panel};
-use crate::green::pilot::{profile, PilotPoint};
+use crate::green::pilot::{profile, Measured, PilotPoint};
 use crate::green::quad;
 use crate::green::refine::{integrate_panels, ByPrecision};
 use crate::green::scale::{exp2_of, quantize};
@@ -473,14 +473,15 @@ fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i
     (sums, loss)
 }
 
-/// The integrand at 24 log-spaced photon energies at two precisions: the
-/// loss of every component on the absolute scale of its L(k).
-fn pilot(ex: &Exact, bits: u32) -> Vec<PilotPoint> {
+/// The integrand at the pilot points of the panels (`pilot_points`) at two
+/// precisions: the loss of every component on the absolute scale of its
+/// L(k).
+fn pilot(ex: &Exact, panels: &[Panel], bits: u32) -> Vec<PilotPoint> {
     let p_lo = quantize(bits + 64);
     let p_hi = p_lo + 128;
     let lo = ex.at(p_lo);
     let hi = ex.at(p_hi);
-    profile(ex.n, |x| {
+    profile(panels, bits, |x, _first| {
         let a = lo.sample(&Float::with_val(p_lo, x));
         let b = hi.sample(&Float::with_val(p_hi, x));
         let mut loss = i32::MIN;
@@ -488,7 +489,11 @@ fn pilot(ex: &Exact, bits: u32) -> Vec<PilotPoint> {
         for (c, comp) in lo.comps.iter().enumerate() {
             let (va, vb) = (&a.values[c], &b.values[c]);
             if !va.is_finite() || !vb.is_finite() {
-                return (p_lo as i32 + 64, 0);
+                return Measured {
+                    loss: p_lo as i32 + 64,
+                    mag: 0,
+                    saturated: false,
+                };
             }
             let weight = Float::with_val(p_hi, x) * 2f64.powi(comp.factor_exp);
             let m = exp2_of(&Float::with_val(p_hi, vb * &weight));
@@ -503,7 +508,11 @@ fn pilot(ex: &Exact, bits: u32) -> Vec<PilotPoint> {
             loss = loss.max(seen.max(metered));
             mag = mag.max(m);
         }
-        (loss, mag)
+        Measured {
+            loss,
+            mag,
+            saturated: false,
+        }
     })
 }
 
@@ -516,8 +525,8 @@ pub(crate) fn log_sums(sc: &StateChains, ks: &[i32], digits: u32) -> Result<Out,
     let ex = Exact::new(sc, ks)?;
     let goal = 10f64.powi(-(digits as i32));
     let bits = ((f64::from(digits) + 2.0) * std::f64::consts::LOG2_10).ceil() as u32 + 8;
-    let profile = pilot(&ex, bits);
     let panels = panel_layout(ex.n, ex.first_lower());
+    let profile = pilot(&ex, &panels, bits);
     let tol = goal / panels.len() as f64;
     let mut probs = ByPrecision::new(|prec| ex.at(prec));
     let factors: Vec<f64> = ex.comps.iter().map(|c| c.factor).collect();
