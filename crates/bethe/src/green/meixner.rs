@@ -552,7 +552,7 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
         let normalized_top = miller_top(&mut scan, MILLER_DECISION_BITS, limit - m)
             .and_then(|from| scan.sum_top(MILLER_DECISION_BITS, from, limit));
         if normalized_top.is_some() {
-            let need = f64::from(prec) + 40.0;
+            let need = miller_need(prec);
             let from = miller_top(&mut scan, need, usize::MAX / 2).unwrap_or(m);
             if let Some(top) = scan.sum_top(need, from, usize::MAX / 2) {
                 return Route::MillerNormalized(top);
@@ -561,7 +561,7 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
     }
     match decision_top {
         None => Route::Forward(forward_loss),
-        Some(_) => match miller_top(&mut scan, f64::from(prec) + 40.0, usize::MAX / 2) {
+        Some(_) => match miller_top(&mut scan, miller_need(prec), usize::MAX / 2) {
             Some(top) => Route::Miller(top),
             None => Route::Forward(forward_loss),
         },
@@ -759,6 +759,28 @@ fn miller_rho(
         *v *= &h;
     }
     store
+}
+
+/// The damping (bits, by the local estimate [`RootRatio::bits`]) a
+/// backward run must reach above m for a working precision of `prec` bits:
+/// 1.5 prec + 40.
+///
+/// # Accuracy
+/// Measured, not assumed: the local estimate overstates the damping just
+/// above the turning point of the recurrence (where the roots of the
+/// characteristic equation are nearly equal, as happens above m for a < 0
+/// and moderate z). Aiming at prec + 40 left channel values whose error
+/// fell only like 2^(-0.6 prec) (the channel L = 1 of (200,0) at
+/// nu = 95.25: relative error 2^-153 at 192 bits, 2^-469 at 640, against a
+/// 1536-bit evaluation) and that the pilot then counted as cancellation;
+/// with 1.5 prec + 40 the same values are at the rounding level (2^-185,
+/// 2^-633), and so are the channels of (200,0), (200,100), (200,180) and
+/// (20,10) probed at 192 to 640 bits. Near n = 1000 the estimate is still
+/// short there (the channel of (1000,0) at nu = 400: 2^-(p - 78) at 192
+/// bits, 2^-(p - 197) at 640); the pilot and the pairs of rules measure
+/// what is left.
+fn miller_need(prec: u32) -> f64 {
+    1.5 * f64::from(prec) + 40.0
 }
 
 /// Largest estimated loss (bits) of the forward recurrence for rho before
