@@ -20,6 +20,45 @@ use super::meter::Meter;
 use super::scale::exp2_of;
 use super::stieltjes::{meixner_stieltjes, stieltjes_cost, stieltjes_log_coef, ZPoint};
 use rug::{Assign, Float};
+use std::cell::RefCell;
+
+thread_local! {
+    /// Floats kept between nodes on this thread for the stored second-kind
+    /// functions of [`miller_rho`], so that a node does not allocate and
+    /// free them anew. Only their storage is reused: every element is
+    /// written before it is read.
+    static SPARE: RefCell<Vec<Float>> = const { RefCell::new(Vec::new()) };
+}
+
+/// `m` Floats of precision `prec` (values unspecified), from the spare ones
+/// of this thread where there are any.
+fn take_floats(m: usize, prec: u32) -> Vec<Float> {
+    let mut v = SPARE.with(|s| {
+        let mut s = s.borrow_mut();
+        let keep = s.len().saturating_sub(m);
+        s.split_off(keep)
+    });
+    for f in v.iter_mut() {
+        if f.prec() != prec {
+            f.set_prec(prec);
+        }
+    }
+    v.resize_with(m, || Float::new(prec));
+    v
+}
+
+/// Returns Floats to the spare ones of this thread (at most
+/// [`SPARE_MAX`] are kept).
+fn give_back(v: Vec<Float>) {
+    SPARE.with(|s| {
+        let mut s = s.borrow_mut();
+        let room = SPARE_MAX.saturating_sub(s.len());
+        s.extend(v.into_iter().take(room));
+    });
+}
+
+/// Most spare Floats kept per thread (a few expansions of the largest n).
+const SPARE_MAX: usize = 4096;
 
 /// Photon-energy point data for the node nu (shared by both channels).
 #[derive(Debug, Clone)]
@@ -75,6 +114,11 @@ struct Rec {
     /// the same correctly rounded operation as adding the integer, and
     /// cheaper in MPFR than an addition of an unsigned integer.
     index: Float,
+    /// When not empty: z (i+beta) and b_i at index 2(i-1) and 2(i-1) + 1,
+    /// for the steps i a backward pass crosses, kept for the forward pass
+    /// of M_j(-a) (`saved_full` once the pass has filled them all).
+    saved: Vec<Float>,
+    saved_full: bool,
 }
 
 impl Rec {
@@ -88,6 +132,8 @@ impl Rec {
             t2: Float::new(prec),
             b: Float::new(prec),
             index: Float::new(prec),
+            saved: Vec::new(),
+            saved_full: false,
         }
     }
 
@@ -116,6 +162,16 @@ impl Rec {
         out.assign(xim1 * i as u32);
         self.t1 -= &*out;
         out.assign(&self.t1 / &self.t2);
+    }
+
+    /// As [`Rec::forward_into`], with z (i+beta) and b_i taken from
+    /// `saved` (the same values, formed by the backward pass).
+    fn forward_saved(&mut self, i: usize, xi: &Float, xim1: &Float, out: &mut Float) {
+        let k = 2 * (i - 1);
+        self.t1.assign(&self.saved[k + 1] * xi);
+        out.assign(xim1 * i as u32);
+        self.t1 -= &*out;
+        out.assign(&self.t1 / &self.saved[k]);
     }
 
     /// One forward step of two solutions at once, X_{i+1} into `out` and
@@ -157,6 +213,14 @@ impl Rec {
     fn backward_rest(&mut self, i: usize, xi: &Float, xip1: &Float, out: &mut Float) {
         self.t1.assign(&self.t2 + &self.c1);
         self.add_index(i);
+        let k = 2 * (i - 1);
+        if k + 1 < self.saved.len() {
+            self.saved[k].assign(&self.t2);
+            self.saved[k + 1].assign(&self.t1);
+            if i == 1 {
+                self.saved_full = true;
+            }
+        }
         self.t1 *= xi;
         self.t2 *= xip1;
         self.t1 -= &self.t2;
@@ -218,6 +282,11 @@ pub(crate) fn channel_j_with(
         return (zero, None);
     }
     let mut rec = Rec::new(beta, &a, zp);
+    if m > 2 {
+        // the coefficients of the steps 1..m-2 of the M_j recurrence, kept
+        // by a backward route of rho_j
+        rec.saved = take_floats(2 * (m - 2), prec);
+    }
     let sk = second_kind(&mut rec, &a, zp, m, meter, phi_hint, with_log);
     // the forward route runs its recurrence here, in step with that of M_j
     // (the same coefficients); the other routes have stored every rho_j
@@ -247,6 +316,7 @@ pub(crate) fn channel_j_with(
             m_cur += 1u32;
         } else if j > 1 {
             match forward.as_mut() {
+                None if rec.saved_full => rec.forward_saved(j - 1, &m_cur, &m_prev, &mut m_next),
                 None => rec.forward_into(j - 1, &m_cur, &m_prev, &mut m_next),
                 Some([r_prev, r_cur, r_next]) => {
                     if r_next.prec() != prec {
@@ -294,6 +364,8 @@ pub(crate) fn channel_j_with(
         j: Float::with_val(prec, &t * &scale),
         log_coef,
     };
+    give_back(stored);
+    give_back(std::mem::take(&mut rec.saved));
     (jv, sk.phi)
 }
 
@@ -342,7 +414,7 @@ pub(crate) fn channel_j_sources(
         mm.push(next);
     }
     let sk = second_kind(&mut rec, &a, zp, m, meter, phi_hint, true);
-    let rho = &sk.rho.stored(&mut rec, m);
+    let rho = sk.rho.stored(&mut rec, m);
     let mtau = Float::with_val(prec, -&p.tau);
     let scale = Float::with_val(prec, ws2 * &p.nu);
     let mut out = Vec::with_capacity(coefs.len());
@@ -379,6 +451,7 @@ pub(crate) fn channel_j_sources(
             log_coef: Float::with_val(prec, p2 * &sk.log_coef) * &scale,
         });
     }
+    give_back(rho);
     (out, sk.phi)
 }
 
@@ -479,7 +552,7 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
         let normalized_top = miller_top(&mut scan, MILLER_DECISION_BITS, limit - m)
             .and_then(|from| scan.sum_top(MILLER_DECISION_BITS, from, limit));
         if normalized_top.is_some() {
-            let need = f64::from(prec) + 40.0;
+            let need = miller_need(prec);
             let from = miller_top(&mut scan, need, usize::MAX / 2).unwrap_or(m);
             if let Some(top) = scan.sum_top(need, from, usize::MAX / 2) {
                 return Route::MillerNormalized(top);
@@ -488,7 +561,7 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
     }
     match decision_top {
         None => Route::Forward(forward_loss),
-        Some(_) => match miller_top(&mut scan, f64::from(prec) + 40.0, usize::MAX / 2) {
+        Some(_) => match miller_top(&mut scan, miller_need(prec), usize::MAX / 2) {
             Some(top) => Route::Miller(top),
             None => Route::Forward(forward_loss),
         },
@@ -630,7 +703,7 @@ fn miller_rho(
     let mut y_hi = Float::with_val(prec, 0); // y_{i+1}
     let mut y = Float::with_val(prec, 1); // y_i, starting at i = top
     let mut y_lo = Float::new(prec); // y_{i-1}
-    let mut store: Vec<Float> = vec![Float::new(prec); m];
+    let mut store = take_floats(m, prec);
     if !normalize {
         for i in (1..=top).rev() {
             if i < m {
@@ -686,6 +759,28 @@ fn miller_rho(
         *v *= &h;
     }
     store
+}
+
+/// The damping (bits, by the local estimate [`RootRatio::bits`]) a
+/// backward run must reach above m for a working precision of `prec` bits:
+/// 1.5 prec + 40.
+///
+/// # Accuracy
+/// Measured, not assumed: the local estimate overstates the damping just
+/// above the turning point of the recurrence (where the roots of the
+/// characteristic equation are nearly equal, as happens above m for a < 0
+/// and moderate z). Aiming at prec + 40 left channel values whose error
+/// fell only like 2^(-0.6 prec) (the channel L = 1 of (200,0) at
+/// nu = 95.25: relative error 2^-153 at 192 bits, 2^-469 at 640, against a
+/// 1536-bit evaluation) and that the pilot then counted as cancellation;
+/// with 1.5 prec + 40 the same values are at the rounding level (2^-185,
+/// 2^-633), and so are the channels of (200,0), (200,100), (200,180) and
+/// (20,10) probed at 192 to 640 bits. Near n = 1000 the estimate is still
+/// short there (the channel of (1000,0) at nu = 400: 2^-(p - 78) at 192
+/// bits, 2^-(p - 197) at 640); the pilot and the pairs of rules measure
+/// what is left.
+fn miller_need(prec: u32) -> f64 {
+    1.5 * f64::from(prec) + 40.0
 }
 
 /// Largest estimated loss (bits) of the forward recurrence for rho before
@@ -1033,22 +1128,27 @@ impl<'g> Scan<'g> {
         self.terms[j - 1]
     }
 
-    /// The same as [`Scan::term_exact`] by products, None when they leave
-    /// the normal range.
-    fn term_prod(&mut self, j: usize) -> Option<TermProd> {
-        while self.terms_prod.len() < j {
-            let k = self.terms_prod.len();
-            let last = self.terms_prod[k - 1];
-            let g = self.growth;
+    /// Extends `terms_prod` (the same as [`Scan::term_exact`] by products)
+    /// by up to `steps` entries (fewer when a product leaves the normal
+    /// range; it stays short then).
+    fn extend_terms_prod(&mut self, steps: usize) {
+        let len = self.terms_prod.len();
+        let mut last = self.terms_prod[len - 1];
+        self.terms_prod.reserve(steps);
+        let g = self.growth;
+        for k in len..len + steps {
             let ratio = g.z * (g.beta + k as f64) / (k + 1) as f64;
             let root = match g.minimal_root(k) {
                 MinimalRoot::Real(t) => t,
                 MinimalRoot::Complex(t2) => t2.sqrt(),
             };
             if !(ratio.is_normal() && root.is_normal()) {
-                return None;
+                return;
             }
-            let term = last.term.times(ratio)?.times(root)?;
+            // two roundings, as two factors
+            let Some(term) = last.term.times(ratio * root) else {
+                return;
+            };
             let peak = if term.above(last.peak) {
                 term
             } else {
@@ -1056,9 +1156,9 @@ impl<'g> Scan<'g> {
             };
             let size =
                 last.size + log2_size(ratio) + log2_size(root) + (term.exp.abs() + 2) as f64 + 2.0;
-            self.terms_prod.push(TermProd { term, peak, size });
+            last = TermProd { term, peak, size };
+            self.terms_prod.push(last);
         }
-        Some(self.terms_prod[j - 1])
     }
 
     /// The first index j >= `from` at which the terms
@@ -1066,39 +1166,49 @@ impl<'g> Scan<'g> {
     /// have fallen 2^-need below the largest term seen, plus 16; None when
     /// that index is above `limit`.
     fn sum_top(&mut self, need: f64, from: usize, limit: usize) -> Option<usize> {
+        const BLOCK: usize = 32;
         let mut j = from.max(1);
         loop {
             if j > limit + 1 {
                 return None;
             }
-            let Some(t) = self.term_prod(j) else {
-                return self.sum_top_exact(need, from, limit);
-            };
-            // log2 term - log2 peak against -need; each lies within
-            // `margin` of its step-by-step sum
-            let margin = 2.0 * ROUNDING_BOUND * (t.size + j as f64 + 4.0);
-            let de = (t.term.exp - t.peak.exp) as f64;
-            // the difference lies in (de - 1, de + 1)
-            let coarse = if de + 1.0 < -need - margin {
-                Side::Below
-            } else if de - 1.0 >= -need + margin {
-                Side::AtOrAbove
-            } else {
-                side(
-                    de + (t.term.mant.log2() - t.peak.mant.log2()),
-                    -need,
-                    margin,
-                )
-            };
-            match coarse {
-                Side::Below => return (j + 16 <= limit).then_some(j + 16),
-                Side::AtOrAbove => {}
-                Side::Unsure => return self.sum_top_exact(need, from, limit),
+            if j > self.terms_prod.len() {
+                let len = self.terms_prod.len();
+                self.extend_terms_prod(j - len + BLOCK);
+                if j > self.terms_prod.len() {
+                    // a product left the normal range
+                    return self.sum_top_exact(need, from, limit);
+                }
             }
-            if j > limit {
-                return None;
+            let end = self.terms_prod.len().min(limit + 1);
+            while j <= end {
+                let t = self.terms_prod[j - 1];
+                // log2 term - log2 peak against -need; each lies within
+                // `margin` of its step-by-step sum
+                let margin = 2.0 * ROUNDING_BOUND * (t.size + j as f64 + 4.0);
+                let de = (t.term.exp - t.peak.exp) as f64;
+                // the difference lies in (de - 1, de + 1)
+                let coarse = if de + 1.0 < -need - margin {
+                    Side::Below
+                } else if de - 1.0 >= -need + margin {
+                    Side::AtOrAbove
+                } else {
+                    side(
+                        de + (t.term.mant.log2() - t.peak.mant.log2()),
+                        -need,
+                        margin,
+                    )
+                };
+                match coarse {
+                    Side::Below => return (j + 16 <= limit).then_some(j + 16),
+                    Side::AtOrAbove => {}
+                    Side::Unsure => return self.sum_top_exact(need, from, limit),
+                }
+                if j > limit {
+                    return None;
+                }
+                j += 1;
             }
-            j += 1;
         }
     }
 
@@ -1344,10 +1454,12 @@ mod shortcut_tests {
         assert!(compared > 1000, "{compared}");
     }
 
-    /// The forward route, whose recurrence runs in step with that of M_j
-    /// in [`channel_j_with`], gives bit for bit the value of the same
-    /// route with every rho_j stored first ([`channel_j_sources`] with one
-    /// source); the route must be taken at some nodes.
+    /// [`channel_j_with`] gives bit for bit the value of
+    /// [`channel_j_sources`] with one source, which forms M_j(-a) alone and
+    /// stores every rho_j first: on the forward route, whose recurrence runs
+    /// in step with that of M_j, and on the backward routes, whose
+    /// coefficients the M_j recurrence reuses; the forward route must be
+    /// taken at some nodes.
     #[test]
     fn forward_in_step_matches_stored() {
         let prec = 256;

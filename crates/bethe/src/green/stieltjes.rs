@@ -534,36 +534,49 @@ fn cf_plan(af: f64, zf: f64, yf: f64, prec: u32) -> Option<CfPlan> {
     for j in (0..nf).rev() {
         g[j] = (af + j as f64) - cf_numerator(j + 1, af) * zf / g[j + 1];
     }
-    let target = -f64::from(prec + CF_GUARD);
-    let mut log_sens = 0.0f64; // L_j
+    // L_j = log2(sens) + sens_exp, kept as a product (no logarithm per level)
+    let target = -((prec + CF_GUARD) as i32);
+    let mut sens = 1.0f64;
+    let mut sens_exp = 0i32;
     let mut levels = Vec::with_capacity(n0 + 8);
     let mut depth = None;
     for j in 0..nf {
         let q = cf_numerator(j + 1, af) * zf / g[j + 1];
         let local = (2.0 * (af + j as f64).abs() + 6.0 * q.abs()) / g[j].abs() + 1.0;
-        levels.push((log_sens, local));
-        log_sens += (q / g[j]).abs().log2();
-        if !log_sens.is_finite() {
+        levels.push((sens, sens_exp, local));
+        sens *= (q / g[j]).abs();
+        if !(sens > 0.0 && sens.is_finite()) {
             return None;
         }
-        if log_sens < target {
+        if sens < pow2(-256) {
+            sens *= pow2(256);
+            sens_exp -= 256;
+        } else if sens > pow2(256) {
+            sens *= pow2(-256);
+            sens_exp += 256;
+        }
+        // L_{j+1} < target
+        let k = target - sens_exp;
+        if k > -1000 && (k >= 1000 || sens < pow2(k)) {
             depth = Some(j);
             break;
         }
     }
     let depth = depth?;
-    // precisions from the deepest level up, never falling towards level 0
+    // precisions from the deepest level up, never falling towards level 0;
+    // log2 of 2^L_j times the local factor rounded up (at most 1 bit over)
     let mut precs = vec![0u32; depth + 1];
     let mut error_units = 0.0f64;
     let mut p_prev = 64u32;
+    let top = prec.max(64);
     for j in (0..=depth).rev() {
-        let (l, local) = levels[j];
-        let need = f64::from(prec + CF_GUARD) + l + local.log2();
-        let tier = ((need.max(1.0) / 64.0).ceil() as u32 * 64).clamp(64, prec.max(64));
+        let (s, se, local) = levels[j];
+        let need = (prec + CF_GUARD) as i32 + se + log2_floor(s * local) + 1;
+        let tier = ((need.max(1) as u32).div_ceil(64) * 64).clamp(64, top);
         let p = tier.max(p_prev);
         p_prev = p;
         precs[j] = p;
-        error_units += local * (l + f64::from(prec) - f64::from(p)).exp2();
+        error_units += s * local * pow2(se + prec as i32 - p as i32);
     }
     Some(CfPlan {
         depth,
@@ -656,18 +669,41 @@ fn bernoulli_plan(prec: u32, muf: f64, xf: f64) -> BernoulliPlan {
     let k = ((((bits + 1.0) / per_power).ceil() as usize).max(2)).div_ceil(2) * 2;
     let x = xf.max(1e-300);
     let mut start = k.max(xf.floor() as usize + 1);
-    let mut damped = 0.0;
-    while damped < bits + 8.0 {
-        damped += (start as f64 / x).log2();
+    // the product of start / x (times 2^acc) until it reaches 2^(bits + 8)
+    let goal = (bits + 8.0).ceil() as i32;
+    let mut damped = 1.0f64;
+    let mut acc = 0i32;
+    while goal - acc >= 1000 || damped < pow2(goal - acc) {
+        let r = start as f64 / x;
+        if r > pow2(64) {
+            acc += log2_floor(r);
+        } else {
+            damped *= r;
+            if damped > pow2(256) {
+                damped *= pow2(-256);
+                acc += 256;
+            }
+        }
         start += 1;
     }
-    // terms x^i / (i i!) against the scale min(x, 1) of T_0
-    let scale = x.min(1.0).log2();
-    let mut lt = x.log2();
+    // terms x^i / (i i!) against the scale min(x, 1) of T_0: w_i = term /
+    // scale times 2^w_exp, down to 2^-bits
+    let floor_bits = -(bits.ceil() as i32);
+    let mut w = x / x.min(1.0);
+    let mut w_exp = 0i32;
     let mut i = 1usize;
-    while (i as f64) <= xf || lt - (i as f64).log2() > scale - bits {
+    loop {
+        let k = floor_bits - w_exp;
+        let small = k > -1000 && (k >= 1000 || w / (i as f64) < pow2(k));
+        if (i as f64) > xf && small {
+            break;
+        }
         i += 1;
-        lt += x.log2() - (i as f64).log2();
+        w *= x / i as f64;
+        if w < pow2(-256) {
+            w *= pow2(256);
+            w_exp -= 256;
+        }
     }
     BernoulliPlan {
         k,
@@ -676,17 +712,40 @@ fn bernoulli_plan(prec: u32, muf: f64, xf: f64) -> BernoulliPlan {
     }
 }
 
+/// 2^k as a double (k clamped to the normal range).
+fn pow2(k: i32) -> f64 {
+    f64::from_bits(((k.clamp(-1022, 1023) + 1023) as u64) << 52)
+}
+
+/// floor(log2 v) for a positive finite v (its binary exponent).
+fn log2_floor(v: f64) -> i32 {
+    let e = ((v.to_bits() >> 52) & 0x7ff) as i32;
+    if e == 0 {
+        v.log2().floor() as i32
+    } else {
+        e - 1023
+    }
+}
+
 /// Estimated cost of [`phi_bernoulli`] in multiplications at `prec` bits
 /// (an exponential, the digamma function with one logarithm, three
 /// operations per level of the recurrence and per power of the series,
-/// four per term of T_0).
+/// four per term of T_0), with the counts of [`bernoulli_plan`] in closed
+/// form: the levels below the start damp by at least k / x each, and T_0
+/// needs n terms with n log2(n / (e x)) about prec + 24 (Stirling).
 fn bernoulli_cost(prec: u32, muf: f64, xf: f64) -> f64 {
-    let plan = bernoulli_plan(prec, muf, xf);
-    EXP_COST
-        + DIGAMMA_COST
-        + 3.0 * plan.start as f64
-        + 1.5 * plan.k as f64
-        + 4.0 * plan.t0_terms as f64
+    let bits = f64::from(prec) + 24.0;
+    let per_power = (2.0 * std::f64::consts::PI / muf).log2().max(0.5);
+    let k = ((bits + 1.0) / per_power).ceil().max(2.0);
+    let x = xf.max(1e-300);
+    let k0 = k.max(xf.floor() + 1.0);
+    let start = k0 + (bits + 8.0) / (k0 / x).log2().max(0.1);
+    let ex = std::f64::consts::E * x;
+    let mut n = (2.0 * ex).max(8.0);
+    for _ in 0..2 {
+        n = (2.0 * ex).max(bits / (n / ex).log2().max(1.0));
+    }
+    EXP_COST + DIGAMMA_COST + 3.0 * start + 1.5 * k + 4.0 * n
 }
 
 /// e^(a mu) [ -ln mu - gamma - psi(a) + I ] for a > 0, with

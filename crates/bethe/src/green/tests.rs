@@ -124,3 +124,33 @@ fn channel_sum_loss_is_avoided_or_recorded() {
         }
     }
 }
+
+/// Just above m the recurrence of the second-kind functions is near its
+/// turning point for a < 0 and moderate z, where the local damping
+/// estimate runs ahead of the actual one; the backward runs must still
+/// start high enough that the channel values are at the rounding level
+/// (not at a truncation that falls more slowly with the precision, which
+/// the pilot would count as cancellation). Against the same channels at
+/// 1024 bits.
+#[test]
+fn miller_runs_reach_the_rounding_level() {
+    let hp = 1024;
+    for &(n, l, nuf) in &[(200u32, 0u32, 95.25f64), (200, 0, 150.3), (200, 100, 140.3)] {
+        for ch in &channels(n, l).unwrap() {
+            let cf = ChannelFloat::new(ch, hp);
+            let mut m = Meter::new();
+            let reference = channel_j(&cf, &NuPoint::new(n, &Float::with_val(hp, nuf)), &mut m).j;
+            for prec in [256u32, 448] {
+                let cf = ChannelFloat::new(ch, prec);
+                let mut m = Meter::new();
+                let j = channel_j(&cf, &NuPoint::new(n, &Float::with_val(prec, nuf)), &mut m).j;
+                let e = rel(&Float::with_val(hp, &j), &reference);
+                assert!(
+                    e < 2f64.powi(24 - prec as i32),
+                    "({n},{l}) L = {} at nu = {nuf}, {prec} bits: relative error {e:e}",
+                    ch.big_l
+                );
+            }
+        }
+    }
+}
