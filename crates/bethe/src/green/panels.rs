@@ -66,19 +66,16 @@ impl Panel {
         self.nu_of_u(&self.u1_at(prec)).0
     }
 
-    /// The node of a mapped panel at x in [0, 1] (at the precision of x):
-    /// nu and dnu/dx.
-    pub(crate) fn node(&self, x: &Float) -> (Float, Float) {
-        let prec = x.prec();
+    /// The mapped panel at `prec` bits, with what every node shares
+    /// (its left end and length in u) formed once.
+    pub(crate) fn mapped_at(&self, prec: u32) -> MappedPanel<'_> {
         let u0 = Float::with_val(prec, self.u0);
         let len = Float::with_val(prec, self.u1_at(prec) - &u0);
-        let u = Float::with_val(prec, x * &len) + &u0;
-        let (nu, e) = self.nu_of_u(&u);
-        // dnu/du = nu (c - nu)/c = nu^2 e / c
-        let mut jac = Float::with_val(prec, &nu * &nu) * &e;
-        jac /= self.c;
-        jac *= &len;
-        (nu, jac)
+        MappedPanel {
+            panel: self,
+            u0,
+            len,
+        }
     }
 
     /// The right end in u in double precision (ln n for the last panel).
@@ -102,6 +99,29 @@ impl Panel {
         let pi = std::f64::consts::PI;
         let rho = (pi + (pi * pi + h * h).sqrt()) / h;
         2.0 * rho.log2()
+    }
+}
+
+/// A mapped panel at one working precision ([`Panel::mapped_at`]).
+pub(crate) struct MappedPanel<'p> {
+    panel: &'p Panel,
+    /// Left end in u.
+    u0: Float,
+    /// Length in u.
+    len: Float,
+}
+
+impl MappedPanel<'_> {
+    /// The node at x in [0, 1] (at the working precision): nu and dnu/dx.
+    pub(crate) fn node(&self, x: &Float) -> (Float, Float) {
+        let prec = x.prec();
+        let u = Float::with_val(prec, x * &self.len) + &self.u0;
+        let (nu, e) = self.panel.nu_of_u(&u);
+        // dnu/du = nu (c - nu)/c = nu^2 e / c
+        let mut jac = Float::with_val(prec, &nu * &nu) * &e;
+        jac /= self.panel.c;
+        jac *= &self.len;
+        (nu, jac)
     }
 }
 
@@ -182,16 +202,17 @@ pub(crate) fn panel_integral(integrand: &Integrand, panel: &Panel, nodes: usize)
     let prec = integrand.prec();
     let scale_exp = ln_k0_scale_exp(integrand.n);
     let rule = quad::rule(nodes, prec);
+    // the first panel [0, nu1] is integrated in nu, the others in u
+    let width = panel.first.then(|| panel.end_at(prec));
     // per node: (weighted contribution, loss on the scale of ln k0)
-    let contributions: Vec<(Float, i32)> = if panel.first {
+    let contributions: Vec<(Float, i32)> = if let Some(width) = &width {
         // int_0^nu1 I = nu1 [sum w_i I_an + sum (W_i + w_i ln nu1) I_log]
-        let width = panel.end_at(prec);
         let ln_width = Float::with_val(prec, width.ln_ref());
         rule.x
             .par_iter()
             .zip(rule.w.par_iter().zip(rule.wlog.par_iter()))
             .map(|(x, (w, w_log))| {
-                let nu = Float::with_val(prec, x * &width);
+                let nu = Float::with_val(prec, x * width);
                 let mut meter = Meter::new();
                 let sample = integrand.sample(&nu, &mut meter, true);
                 let ln_nu = Float::with_val(prec, nu.ln_ref());
@@ -204,16 +225,17 @@ pub(crate) fn panel_integral(integrand: &Integrand, panel: &Panel, nodes: usize)
                 let analytic_part = Float::with_val(prec, &analytic * w);
                 let log_part = Float::with_val(prec, &sample.log_coef * &log_weight);
                 let size =
-                    exp2_of(&analytic_part).max(exp2_of(&log_part)) + exp2_of(&width) + scale_exp;
+                    exp2_of(&analytic_part).max(exp2_of(&log_part)) + exp2_of(width) + scale_exp;
                 (analytic_part + log_part, meter.loss_bits + size)
             })
             .collect()
     } else {
+        let mapped = panel.mapped_at(prec);
         rule.x
             .par_iter()
             .zip(rule.w.par_iter())
             .map(|(x, w)| {
-                let (nu, jac) = panel.node(x);
+                let (nu, jac) = mapped.node(x);
                 let mut meter = Meter::new();
                 let sample = integrand.sample(&nu, &mut meter, false);
                 let weighted = Float::with_val(prec, &sample.value * w) * &jac;
@@ -228,8 +250,8 @@ pub(crate) fn panel_integral(integrand: &Integrand, panel: &Panel, nodes: usize)
         sum += contribution;
         loss = loss.max(*node_loss);
     }
-    if panel.first {
-        sum *= panel.end_at(prec);
+    if let Some(width) = &width {
+        sum *= width;
     }
     (sum, loss)
 }
@@ -257,7 +279,11 @@ mod tests {
             assert!(panels.iter().skip(1).all(|p| !p.first));
             let second = &panels[1];
             let x0 = Float::with_val(prec, 0);
-            assert_eq!(panels[0].end_at(prec), second.node(&x0).0, "n = {n}");
+            assert_eq!(
+                panels[0].end_at(prec),
+                second.mapped_at(prec).node(&x0).0,
+                "n = {n}"
+            );
             for pair in panels[1..].windows(2) {
                 assert_eq!(pair[0].u1, pair[1].u0);
                 assert!(!pair[0].at_n);
@@ -265,7 +291,11 @@ mod tests {
             let last = panels.last().unwrap();
             assert!(last.at_n);
             let x1 = Float::with_val(prec, 1);
-            assert_eq!(last.node(&x1).0, Float::with_val(prec, n), "n = {n}");
+            assert_eq!(
+                last.mapped_at(prec).node(&x1).0,
+                Float::with_val(prec, n),
+                "n = {n}"
+            );
             for p in &panels[1..] {
                 let u1 = if p.at_n { f64::from(n).ln() } else { p.u1 };
                 assert!(u1 - p.u0 <= MAX_U_LENGTH * (1.0 + 1e-12));
@@ -290,8 +320,9 @@ mod tests {
             for p in &panels[1..] {
                 let nodes = (140.0 / p.expected_rate()).ceil() as usize + 4;
                 let rule = quad::rule(nodes, prec);
+                let mapped = p.mapped_at(prec);
                 for (x, w) in rule.x.iter().zip(&rule.w) {
-                    let (nu, jac) = p.node(x);
+                    let (nu, jac) = mapped.node(x);
                     let f = Float::with_val(prec, Float::with_val(prec, (n + 1) - &nu).recip())
                         + Float::with_val(prec, Float::with_val(prec, &nu + 0.3f64).recip());
                     sum += Float::with_val(prec, f * w) * &jac;

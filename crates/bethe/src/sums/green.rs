@@ -412,14 +412,15 @@ fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i
     let prec = ig.prec;
     let r = quad::rule(nodes, prec);
     let nc = ig.comps.len();
-    let parts: Vec<(Vec<Float>, i32)> = if panel.first {
-        let h = panel.end_at(prec);
-        let h_exp = exp2_of(&h);
+    // the first panel [0, nu1] is integrated in nu, the others in u
+    let width = panel.first.then(|| panel.end_at(prec));
+    let parts: Vec<(Vec<Float>, i32)> = if let Some(h) = &width {
+        let h_exp = exp2_of(h);
         let ln_h = Float::with_val(prec, h.ln_ref());
         r.x.par_iter()
             .zip(r.w.par_iter().zip(r.wlog.par_iter()))
             .map(|(x, (w, wl))| {
-                let nu = Float::with_val(prec, x * &h);
+                let nu = Float::with_val(prec, x * h);
                 let s = ig.sample(&nu);
                 let ln_nu = Float::with_val(prec, nu.ln_ref());
                 let wlt = Float::with_val(prec, wl + Float::with_val(prec, w * &ln_h));
@@ -440,10 +441,11 @@ fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i
             })
             .collect()
     } else {
+        let mapped = panel.mapped_at(prec);
         r.x.par_iter()
             .zip(r.w.par_iter())
             .map(|(x, w)| {
-                let (nu, jac) = panel.node(x);
+                let (nu, jac) = mapped.node(x);
                 let wj = Float::with_val(prec, w * &jac);
                 let s = ig.sample(&nu);
                 let mut out = Vec::with_capacity(nc);
@@ -466,9 +468,8 @@ fn panel_integral(ig: &Integrand, panel: &Panel, nodes: usize) -> (Vec<Float>, i
         }
         loss = loss.max(*l);
     }
-    if panel.first {
-        let h = panel.end_at(prec);
-        return (sums.into_iter().map(|s| s * &h).collect(), loss);
+    if let Some(h) = &width {
+        return (sums.into_iter().map(|s| s * h).collect(), loss);
     }
     (sums, loss)
 }
