@@ -568,6 +568,15 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
     }
 }
 
+/// The route of the second-kind functions of m terms at a = L + 1 - nu
+/// (at the working precision of `a`) and the point `zp`
+/// ([`choose_route`] with the local growth of the recurrence there).
+fn route_at(beta: u32, a: &Float, zp: &ZPoint, m: usize) -> Route {
+    let lz = -zp.z.to_f64().log2();
+    let growth = RootRatio::new(beta, a.to_f64(), zp.z.to_f64(), zp.one_minus_z.to_f64());
+    choose_route(&growth, m, lz, zp.mu.to_f64(), a.prec())
+}
+
 /// rho_i, i = 0..m, by the route of [`choose_route`]: forward from
 /// rho_0 = m(a) (only started here, see [`Rho::Forward`]), or backward (Miller) normalized by the generating-function
 /// identity (no m(a) then; its logarithmic coefficient is formed alone, when
@@ -583,9 +592,7 @@ fn second_kind(
 ) -> SecondKind {
     let prec = a.prec();
     let beta = rec.beta;
-    let lz = -zp.z.to_f64().log2();
-    let growth = RootRatio::new(beta, a.to_f64(), zp.z.to_f64(), zp.one_minus_z.to_f64());
-    match choose_route(&growth, m, lz, zp.mu.to_f64(), prec) {
+    match route_at(beta, a, zp, m) {
         Route::Forward(forward_loss) => {
             let (st, phi) = meixner_stieltjes(beta, a, zp, meter, phi_hint, with_log);
             let rho = if m == 1 {
@@ -1320,16 +1327,7 @@ mod normalization_tests {
                     let nu = Float::with_val(prec, f64::from(n) * f64::from(k) / 120.0 * 0.998_7);
                     let p = NuPoint::new(n, &nu);
                     let a = Float::with_val(prec, (cf.big_l + 1) - Float::with_val(prec, &nu));
-                    let growth = RootRatio::new(
-                        cf.beta,
-                        a.to_f64(),
-                        p.zp.z.to_f64(),
-                        p.zp.one_minus_z.to_f64(),
-                    );
-                    let lz = -p.zp.z.to_f64().log2();
-                    let Route::MillerNormalized(top) =
-                        choose_route(&growth, m, lz, p.zp.mu.to_f64(), prec)
-                    else {
+                    let Route::MillerNormalized(top) = route_at(cf.beta, &a, &p.zp, m) else {
                         continue;
                     };
                     let mut rec = Rec::new(cf.beta, &a, &p.zp);
@@ -1486,14 +1484,7 @@ mod shortcut_tests {
                     assert_eq!(one.log_coef, many[0].log_coef);
                     assert_eq!(meter.loss_bits, meter_s.loss_bits);
                     let a = Float::with_val(prec, (cf.big_l + 1) - Float::with_val(prec, &nu));
-                    let growth = RootRatio::new(
-                        cf.beta,
-                        a.to_f64(),
-                        p.zp.z.to_f64(),
-                        p.zp.one_minus_z.to_f64(),
-                    );
-                    let lz = -p.zp.z.to_f64().log2();
-                    let route = choose_route(&growth, cf.coef.len(), lz, p.zp.mu.to_f64(), prec);
+                    let route = route_at(cf.beta, &a, &p.zp, cf.coef.len());
                     if matches!(route, Route::Forward(_)) && cf.coef.len() > 2 {
                         forward_nodes += 1;
                     }
