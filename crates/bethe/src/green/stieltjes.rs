@@ -1024,6 +1024,21 @@ mod tests {
         }
     }
 
+    /// Asserts that `v`, computed at `prec` bits with the loss `loss` its
+    /// meter recorded, lies within 2^(loss - prec + slack) relative of the
+    /// reference `r` (computed at a higher precision).
+    fn assert_within_loss(v: &Float, r: &Float, loss: i32, prec: u32, slack: i32, what: &str) {
+        let hp = r.prec();
+        let rel = Float::with_val(hp, (Float::with_val(hp, v) - r) / r)
+            .abs()
+            .to_f64();
+        let allowed = 2f64.powi(loss - prec as i32 + slack);
+        assert!(
+            rel <= allowed,
+            "{what}: {rel:e} > {allowed:e} (loss {loss})"
+        );
+    }
+
     fn brute_phi(a: &Float, z: &Float) -> Float {
         let prec = a.prec() + 64;
         let mut s = Float::with_val(prec, 0);
@@ -1074,13 +1089,13 @@ mod tests {
                         let pt_hi = same_point(&pt, hp);
                         let a_hi = Float::with_val(hp, &a);
                         let r = series(beta, &a_hi, &pt_hi, &mut Meter::new());
-                        let rel = Float::with_val(hp, (Float::with_val(hp, &v) - &r) / &r)
-                            .abs()
-                            .to_f64();
-                        let allowed = 2f64.powi(m.loss_bits - prec as i32 + 8);
-                        assert!(
-                            rel <= allowed,
-                            "series prec={prec} z={zs} a={aval} beta={beta}: {rel:e} > {allowed:e}"
+                        assert_within_loss(
+                            &v,
+                            &r,
+                            m.loss_bits,
+                            prec,
+                            8,
+                            &format!("series prec={prec} z={zs} a={aval} beta={beta}"),
                         );
                     }
                 }
@@ -1098,13 +1113,13 @@ mod tests {
                         &same_point(&pt, hp),
                         &mut Meter::new(),
                     );
-                    let rel = Float::with_val(hp, (Float::with_val(hp, &v) - &r) / &r)
-                        .abs()
-                        .to_f64();
-                    let allowed = 2f64.powi(m.loss_bits - prec as i32 + 8);
-                    assert!(
-                        rel <= allowed,
-                        "phi prec={prec} z={zs} a={aval}: {rel:e} > {allowed:e}"
+                    assert_within_loss(
+                        &v,
+                        &r,
+                        m.loss_bits,
+                        prec,
+                        8,
+                        &format!("phi prec={prec} z={zs} a={aval}"),
                     );
                 }
             }
@@ -1139,14 +1154,13 @@ mod tests {
                     } else {
                         lerch_bernoulli(&a_hi, &pt_hi, &mut Meter::new())
                     };
-                    let rel = Float::with_val(hp, (Float::with_val(hp, &v) - &r) / &r)
-                        .abs()
-                        .to_f64();
-                    let allowed = 2f64.powi(m.loss_bits - prec as i32 + 2);
-                    assert!(
-                        rel <= allowed,
-                        "cf prec={prec} z={zs} a={aval}: {rel:e} > {allowed:e} (loss {})",
-                        m.loss_bits
+                    assert_within_loss(
+                        &v,
+                        &r,
+                        m.loss_bits,
+                        prec,
+                        2,
+                        &format!("cf prec={prec} z={zs} a={aval}"),
                     );
                 }
             }
@@ -1174,14 +1188,13 @@ mod tests {
                     let a_hi = Float::with_val(hp, &a);
                     let r = phi_cf(&a_hi, &pt_hi, &mut Meter::new())
                         .unwrap_or_else(|| phi_bernoulli(&a_hi, &pt_hi, &mut Meter::new()));
-                    let rel = Float::with_val(hp, (Float::with_val(hp, &v) - &r) / &r)
-                        .abs()
-                        .to_f64();
-                    let allowed = 2f64.powi(m.loss_bits - prec as i32 + 3);
-                    assert!(
-                        rel <= allowed,
-                        "bernoulli prec={prec} z={zs} a={af}: {rel:e} > {allowed:e} (loss {})",
-                        m.loss_bits
+                    assert_within_loss(
+                        &v,
+                        &r,
+                        m.loss_bits,
+                        prec,
+                        3,
+                        &format!("bernoulli prec={prec} z={zs} a={af}"),
                     );
                 }
             }
