@@ -38,7 +38,7 @@ use crate::green::quad;
 use crate::green::refine::{integrate_panels, ByPrecision};
 use crate::green::scale::{exp2_of, quantize};
 use crate::BetheError;
-use kzero_basis::gordon::radial_dipole;
+use kzero_basis::gordon::radial_dipole_square;
 use kzero_basis::sturmian::matched_expansion;
 use kzero_basis::BoundState;
 use rayon::prelude::*;
@@ -149,9 +149,9 @@ impl Exact {
             ));
             for np in (big_l + 1)..n {
                 let low = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
-                let r = radial_dipole(&low, &st)?;
+                let r2 = radial_dipole_square(&low, &st)?;
                 let d = low.energy() - st.energy();
-                let c = Rational::from(&d * &d) * r.square() * &ch.weight;
+                let c = Rational::from(&d * &d) * r2 * &ch.weight;
                 let amps = comps.iter().map(|comp| amplitude(&c, &d, comp)).collect();
                 lower.push(Lower {
                     nprime: np,
