@@ -9,6 +9,7 @@ use kzero_basis::BoundState;
 use rayon::prelude::*;
 use rug::{Float, Rational};
 
+use super::meixner::scaled_coefs;
 use crate::BetheError;
 
 /// A lower bound state |n' L> (E_n' < E_n): its term c D / (D + w) is
@@ -100,7 +101,11 @@ pub(crate) struct ChannelFloat {
     pub(crate) beta: u32,
     /// weight * S2.
     pub(crate) ws2: Float,
-    /// coef_i.
+    /// coef_i / (beta)_i, the coefficients of the scaled Meixner
+    /// recurrence (`meixner::scaled_coefs`).
+    pub(crate) scaled: Vec<Float>,
+    /// coef_i (for the reference sums of the tests).
+    #[cfg(test)]
     pub(crate) coef: Vec<Float>,
 }
 
@@ -111,6 +116,8 @@ impl ChannelFloat {
             big_l: c.big_l,
             beta: c.beta,
             ws2: Float::with_val(prec, Rational::from(&c.weight * &c.s2)),
+            scaled: scaled_coefs(&c.coef, c.beta, prec),
+            #[cfg(test)]
             coef: c.coef.iter().map(|q| Float::with_val(prec, q)).collect(),
         }
     }

@@ -30,7 +30,7 @@
 
 use super::chain::StateChains;
 use crate::green::integrand::phi_from_upper;
-use crate::green::meixner::{channel_j_sources, JValue, NuPoint};
+use crate::green::meixner::{channel_j_sources, scaled_coefs, JValue, NuPoint};
 use crate::green::meter::Meter;
 use crate::green::panels::{panel_layout, Panel};
 use crate::green::pilot::{profile, Measured, PilotPoint};
@@ -235,10 +235,7 @@ impl Exact {
                     big_l: *big_l,
                     beta: *beta,
                     ws2: Float::with_val(prec, ws2),
-                    coefs: coefs
-                        .iter()
-                        .map(|v| v.iter().map(|q| Float::with_val(prec, q)).collect())
-                        .collect(),
+                    scaled: coefs.iter().map(|v| scaled_coefs(v, *beta, prec)).collect(),
                 })
                 .collect(),
             lower: self
@@ -271,7 +268,9 @@ struct ChanFloat {
     big_l: u32,
     beta: u32,
     ws2: Float,
-    coefs: Vec<Vec<Float>>,
+    /// Per source, coef_i / (beta)_i at the working precision
+    /// (`scaled_coefs`).
+    scaled: Vec<Vec<Float>>,
 }
 
 struct CompFloat {
@@ -313,7 +312,7 @@ impl Integrand {
             prec,
             Float::with_val(prec, n - Float::with_val(prec, nu)) * Float::with_val(prec, nu + n),
         ) / (Float::with_val(prec, &nu2 * 2u32) * nn);
-        let sources = self.chans.iter().map(|c| c.coefs.len()).max().unwrap_or(0);
+        let sources = self.chans.iter().map(|c| c.scaled.len()).max().unwrap_or(0);
         let mut jsum = vec![Float::with_val(prec, 0); sources];
         let mut jlog = vec![Float::with_val(prec, 0); sources];
         let mut jmeter = Meter::new();
@@ -331,7 +330,7 @@ impl Integrand {
                 ch.big_l,
                 ch.beta,
                 &ch.ws2,
-                &ch.coefs,
+                &ch.scaled,
                 &pt,
                 &mut m,
                 hint.as_ref(),
