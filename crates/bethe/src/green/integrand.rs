@@ -66,12 +66,21 @@ pub(crate) struct Sample {
 /// Phi(z, 1, a) of the channel L = `big_l` at `nu` (a = L + 1 - nu, at the
 /// precision of `nu`) from Phi(z, 1, a + 2) of the channel L + 2
 /// (`phi_up`): Phi(z, 1, a) = 1/a + z/(a + 1) + z^2 Phi(z, 1, a + 2).
-pub(crate) fn phi_from_upper(big_l: u32, nu: &Float, z: &Float, phi_up: &Float) -> Float {
-    let prec = nu.prec();
-    let a = Float::with_val(prec, (big_l + 1) - Float::with_val(prec, nu));
+pub(crate) fn phi_from_upper(big_l: u32, pt: &NuPoint, phi_up: &Float) -> Float {
+    let prec = pt.nu.prec().max(phi_up.prec());
+    let nu = Float::with_val(prec, &pt.nu);
+    // z at the precision of `phi_up` when that is higher (a channel that
+    // computed Phi at raised precision)
+    let z = if prec > pt.nu.prec() {
+        let t = Float::with_val(prec, &nu - pt.n) / Float::with_val(prec, &nu + pt.n);
+        Float::with_val(prec, t.square_ref())
+    } else {
+        pt.zp.z.clone()
+    };
+    let a = Float::with_val(prec, (big_l + 1) - &nu);
     let a1 = Float::with_val(prec, &a + 1u32);
-    let mut v = Float::with_val(prec, z * z) * phi_up;
-    v += Float::with_val(prec, z / &a1);
+    let mut v = Float::with_val(prec, &z * &z) * phi_up;
+    v += Float::with_val(prec, &z / &a1);
     v += Float::with_val(prec, a.recip_ref());
     v
 }
@@ -107,7 +116,7 @@ impl Integrand {
                 &phi_up,
                 ch.big_l + 2 == self.channels.last().map_or(0, |c| c.big_l),
             ) {
-                (Some(pu), true) => Some(phi_from_upper(ch.big_l, nu, &pt.zp.z, pu)),
+                (Some(pu), true) => Some(phi_from_upper(ch.big_l, &pt, pu)),
                 _ => None,
             };
             let (jv, phi) = channel_j_with(ch, &pt, &mut m, hint.as_ref(), with_log);

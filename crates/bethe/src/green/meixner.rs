@@ -70,6 +70,8 @@ pub(crate) struct NuPoint {
     pub(crate) tau: Float,
     /// z, 1 - z and mu = -ln z.
     pub(crate) zp: ZPoint,
+    /// The principal number n of the state.
+    pub(crate) n: u32,
 }
 
 impl NuPoint {
@@ -87,6 +89,7 @@ impl NuPoint {
             nu: nu.clone(),
             tau,
             zp: ZPoint { z, one_minus_z, mu },
+            n,
         }
     }
 }
@@ -274,7 +277,6 @@ pub(crate) fn channel_j_with(
 ) -> (JValue, Option<Float>) {
     let prec = p.nu.prec();
     let beta = ch.beta;
-    let zp = &p.zp;
     let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, &p.nu));
     let m = ch.scaled.len();
     if m == 0 {
@@ -285,7 +287,7 @@ pub(crate) fn channel_j_with(
         return (zero, None);
     }
     let mut rec = Rec::new(beta, &a, p);
-    let sk = second_kind(&mut rec, &a, zp, m, meter, phi_hint, with_log);
+    let sk = second_kind(&mut rec, &a, p, m, meter, phi_hint, with_log);
     // the forward route runs its recurrence here, in step with that of Q_j
     // (the same coefficients); the other routes have stored every R_j
     let (stored, mut forward) = match sk.rho {
@@ -401,7 +403,7 @@ pub(crate) fn channel_j_sources(
         let next = rec.forward(i, &qq[i], if i == 0 { &zero } else { &qq[i - 1] });
         qq.push(next);
     }
-    let sk = second_kind(&mut rec, &a, &p.zp, m, meter, phi_hint, true);
+    let sk = second_kind(&mut rec, &a, p, m, meter, phi_hint, true);
     let rho = sk.rho.stored(&mut rec, m);
     let scale = Float::with_val(prec, ws2 * &p.nu);
     let mut out = Vec::with_capacity(scaled.len());
@@ -473,6 +475,8 @@ impl Rho {
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Route {
     /// Forward from rho_0 = m(a); the estimated loss (bits) of the pass.
+    /// Above [`COMPENSATE_FROM`] bits m(a) and the recurrence run at a
+    /// precision raised by the loss ([`forward_compensated`]).
     Forward(f64),
     /// Backward (Miller) from the index given, normalized by rho_0 = m(a).
     Miller(usize),
@@ -481,18 +485,20 @@ enum Route {
     MillerNormalized(usize),
 }
 
-/// The route of the second-kind functions rho_0..rho_{m-1}, by cost: the
-/// forward pass from m(a) when it loses little (or when a backward run
-/// normalized by m(a) would cost more than the precision the forward loss
-/// needs: slow decay, small beta with z near 1), the backward (Miller) run
-/// normalized by m(a) otherwise; and the backward run normalized by the
+/// The route of the second-kind functions rho_0..rho_{m-1}, by cost at the
+/// node itself: the forward pass from m(a) (whose loss, above
+/// [`COMPENSATE_FROM`] bits, is paid by running m(a) and the recurrence
+/// that many bits higher, so that it never raises the precision of the
+/// rest of the node or of its panel), the backward (Miller) run normalized
+/// by m(a) when that costs less, and the backward run normalized by the
 /// generating-function identity, which needs no m(a), whenever its longer
 /// run (the normalization sum must have converged too) costs less than the
-/// route so chosen. The choice is made at a fixed reference damping
-/// ([`MILLER_DECISION_BITS`], with m(a) costed at that precision) and does
-/// not depend on the working precision (only the starting index of a
-/// backward run does), so that the pilot (two precisions) sees the same
-/// route as the quadrature and measures its loss.
+/// route so chosen. Costs are in multiplications at the reference
+/// precision [`ROUTE_REFERENCE_BITS`] ([`forward_cost`], Miller runs aiming
+/// at [`miller_need`] of that precision). The choice does not depend on
+/// the working precision (only the starting index of a backward run does),
+/// so that the pilot (two precisions) sees the same route as the
+/// quadrature and measures its loss.
 fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> Route {
     let forward_loss: f64 = (1..m).map(|i| growth.bits(i)).sum();
     // the local growth summed once, whatever thresholds are asked of it
@@ -506,35 +512,34 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
         let top = (top + 16).min(cap);
         (top - m <= limit).then_some(top)
     };
-    let decision_top = if forward_loss <= FORWARD_LOSS_MAX {
+    let need_ref = miller_need(ROUTE_REFERENCE_BITS);
+    let stieltjes = |bits: f64| {
+        stieltjes_cost(growth.beta as u32, growth.z, muf, growth.a, bits as u32)
+    };
+    // costs in multiplications at the reference precision
+    let coef_ops = OPS_PER_COEF * m as f64;
+    let st_ref = stieltjes(f64::from(ROUTE_REFERENCE_BITS));
+    let forward = forward_cost(forward_loss, m, stieltjes) + coef_ops;
+    let decision_top = if forward_loss <= COMPENSATE_FROM {
         None
     } else {
-        miller_top(
-            &mut scan,
-            MILLER_DECISION_BITS,
-            miller_budget(forward_loss, m),
-        )
+        // the longest backward run normalized by m(a) that costs less
+        let budget = (forward - st_ref - coef_ops) / OPS_PER_MILLER_STEP;
+        if budget < m as f64 {
+            None
+        } else {
+            miller_top(&mut scan, need_ref, budget as usize - m)
+        }
     };
-    // costs in multiplications (see `miller_budget`)
-    let stieltjes = stieltjes_cost(
-        growth.beta as u32,
-        growth.z,
-        muf,
-        growth.a,
-        MILLER_DECISION_BITS as u32,
-    );
-    let coef_ops = OPS_PER_COEF * m as f64;
-    // a forward loss raises the precision of the whole node (of the whole
-    // panel, in fact), m(a) included
     let chosen_cost = match decision_top {
-        None => (stieltjes + coef_ops) * precision_factor(forward_loss),
-        Some(top) => stieltjes + coef_ops + OPS_PER_MILLER_STEP * top as f64,
+        None => forward,
+        Some(top) => st_ref + coef_ops + OPS_PER_MILLER_STEP * top as f64,
     };
     let steps_affordable = (chosen_cost - coef_ops) / (OPS_PER_MILLER_STEP + OPS_PER_HORNER_STEP);
     if steps_affordable >= m as f64 {
         let limit = steps_affordable as usize;
-        let normalized_top = miller_top(&mut scan, MILLER_DECISION_BITS, limit - m)
-            .and_then(|from| scan.sum_top(MILLER_DECISION_BITS, from, limit));
+        let normalized_top = miller_top(&mut scan, need_ref, limit - m)
+            .and_then(|from| scan.sum_top(need_ref, from, limit));
         if normalized_top.is_some() {
             let need = miller_need(prec);
             let from = miller_top(&mut scan, need, usize::MAX / 2).unwrap_or(m);
@@ -568,7 +573,7 @@ fn route_at(beta: u32, a: &Float, zp: &ZPoint, m: usize) -> Route {
 fn second_kind(
     rec: &mut Rec,
     a: &Float,
-    zp: &ZPoint,
+    p: &NuPoint,
     m: usize,
     meter: &mut Meter,
     phi_hint: Option<&Float>,
@@ -576,7 +581,11 @@ fn second_kind(
 ) -> SecondKind {
     let prec = a.prec();
     let beta = rec.beta;
+    let zp = &p.zp;
     match route_at(beta, a, zp, m) {
+        Route::Forward(forward_loss) if m >= 2 && forward_loss > COMPENSATE_FROM => {
+            forward_compensated(p, beta, m, forward_loss, meter, phi_hint, with_log)
+        }
         Route::Forward(forward_loss) => {
             let (st, phi) = meixner_stieltjes(beta, a, zp, meter, phi_hint, with_log);
             let rho = if m == 1 {
@@ -619,6 +628,50 @@ fn second_kind(
                 phi: None,
             }
         }
+    }
+}
+
+/// The forward route at a precision raised by the estimated loss of the
+/// recurrence (`forward_loss` bits, plus [`COMPENSATE_GUARD`], rounded up
+/// to whole limbs): m(a) and every step of the recurrence of R_j run
+/// there, and the R_j are rounded to the working precision, which the
+/// rest of the node keeps. The loss of m(a) beyond the extra bits is
+/// recorded in `meter`.
+fn forward_compensated(
+    p: &NuPoint,
+    beta: u32,
+    m: usize,
+    forward_loss: f64,
+    meter: &mut Meter,
+    phi_hint: Option<&Float>,
+    with_log: bool,
+) -> SecondKind {
+    let prec = p.nu.prec();
+    let extra = forward_loss.ceil() as u32 + COMPENSATE_GUARD;
+    let hi = (prec + extra).div_ceil(64) * 64;
+    let nu_hi = Float::with_val(hi, &p.nu);
+    let pt = NuPoint::new(p.n, &nu_hi);
+    let a_hi = Float::with_val(hi, beta / 2 - &nu_hi);
+    let hint = phi_hint.filter(|h| h.prec() >= hi);
+    let mut inner = Meter::new();
+    let (st, phi) = meixner_stieltjes(beta, &a_hi, &pt.zp, &mut inner, hint, with_log);
+    let mut rec = Rec::new(beta, &a_hi, &pt);
+    let (mut x_prev, mut x) = forward_start(&rec, &a_hi, &pt.zp, st.value, 0.0, &mut inner);
+    meter.loss(inner.loss_bits + forward_loss.ceil() as i32 - (hi - prec) as i32);
+    let mut store = take_floats(m, prec);
+    store[0].assign(&x_prev);
+    store[1].assign(&x);
+    let mut x_next = Float::new(hi);
+    for (j, s) in store.iter_mut().enumerate().skip(2) {
+        rec.forward_into(j - 1, &x, &x_prev, &mut x_next);
+        s.assign(&x_next);
+        std::mem::swap(&mut x_prev, &mut x);
+        std::mem::swap(&mut x, &mut x_next);
+    }
+    SecondKind {
+        rho: Rho::Stored(store),
+        log_coef: Float::with_val(prec, &st.log_coef),
+        phi,
     }
 }
 
@@ -774,44 +827,58 @@ fn miller_need(prec: u32) -> f64 {
     1.5 * f64::from(prec) + 40.0
 }
 
-/// Largest estimated loss (bits) of the forward recurrence for rho before
-/// the backward (Miller) route is taken.
-const FORWARD_LOSS_MAX: f64 = 48.0;
+/// Forward losses (bits) above which the forward route runs m(a) and the
+/// recurrence of rho_j at a precision raised by the loss
+/// ([`forward_compensated`]) and the backward routes are considered;
+/// smaller losses are recorded in the meter (the guard of the panel covers
+/// them).
+const COMPENSATE_FROM: f64 = 16.0;
+
+/// Guard bits of the compensated forward route above the estimated loss.
+const COMPENSATE_GUARD: u32 = 16;
+
+/// The working precision (bits) at which the routes are costed: about
+/// that of the panels at 20 to 30 digits. A fixed value, so that the route
+/// does not depend on the working precision of an evaluation.
+const ROUTE_REFERENCE_BITS: u32 = 160;
 
 /// Cost per expansion coefficient and channel at one node (the Meixner
 /// functions, the channel sum), in multiplications at the working
 /// precision: the unit of the cost model of the routes (measured with MPFR
-/// at 192 to 416 bits, like the costs of [`stieltjes_cost`]).
+/// at 128 to 384 bits, like the costs of [`stieltjes_cost`];
+/// benches/README.md, "Tenth round").
 const OPS_PER_COEF: f64 = 12.0;
 
-/// Cost of one step of a backward (Miller) run (multiplications).
-const OPS_PER_MILLER_STEP: f64 = 5.0;
+/// Cost of one step of a backward (Miller) run (multiplications; measured
+/// 3.3 to 3.9 at 128 to 384 bits).
+const OPS_PER_MILLER_STEP: f64 = 4.0;
 
-/// Further cost per backward step of the normalization sum (multiplications).
-const OPS_PER_HORNER_STEP: f64 = 2.0;
+/// Further cost per backward step of the normalization sum (multiplications;
+/// measured 2.5).
+const OPS_PER_HORNER_STEP: f64 = 2.5;
 
-/// Cost factor of `loss` more bits on a node (operation costs grow like
-/// bits^1.6, at a reference precision of 192 bits).
-fn precision_factor(loss: f64) -> f64 {
-    ((192.0 + loss) / 192.0).powf(1.6)
-}
+/// Cost of one step of the forward recurrence of rho_j (multiplications).
+const OPS_PER_FORWARD_STEP: f64 = 3.0;
 
-/// Damping (bits) of the dominant solution assumed when the length of a
-/// Miller run is compared with the forward route (a fixed value, so that the
-/// route does not depend on the working precision).
-const MILLER_DECISION_BITS: f64 = 300.0;
+/// Growth of the cost of one MPFR operation with the precision: about
+/// bits^0.65 from 128 to 512 bits (a multiplication costs about 300
+/// instructions at 128 bits, 590 at 384, 760 at 512).
+const PRECISION_EXPONENT: f64 = 0.65;
 
-/// Most extra steps for which the backward (Miller) route is cheaper than
-/// the forward route with `forward_loss` more bits on the whole node.
-///
-/// Cost model (multiplications, at a reference precision of 192 bits):
-/// a node costs about [`OPS_PER_COEF`] m per channel, and precision costs
-/// grow like bits^1.6, so `forward_loss` extra bits cost
-/// 12 m ((192 + loss)/192)^1.6 - 12 m; a Miller run costs about
-/// [`OPS_PER_MILLER_STEP`] per extra step.
-fn miller_budget(forward_loss: f64, m: usize) -> usize {
-    let penalty = OPS_PER_COEF * m as f64 * (precision_factor(forward_loss) - 1.0);
-    (penalty / OPS_PER_MILLER_STEP) as usize
+/// Cost of the forward route of m terms with an estimated loss of
+/// `forward_loss` bits, in multiplications at [`ROUTE_REFERENCE_BITS`],
+/// without the channel sum ([`OPS_PER_COEF`]); `stieltjes` gives the cost
+/// of m(a) at a precision. Above [`COMPENSATE_FROM`] bits, m(a) and the m
+/// steps run at the reference precision plus the loss and
+/// [`COMPENSATE_GUARD`] ([`forward_compensated`]), each operation dearer by
+/// the ratio of precisions to the power [`PRECISION_EXPONENT`].
+fn forward_cost(forward_loss: f64, m: usize, stieltjes: impl Fn(f64) -> f64) -> f64 {
+    let base = f64::from(ROUTE_REFERENCE_BITS);
+    if m < 2 || forward_loss <= COMPENSATE_FROM {
+        return stieltjes(base);
+    }
+    let hi = base + forward_loss + f64::from(COMPENSATE_GUARD);
+    (stieltjes(hi) + OPS_PER_FORWARD_STEP * m as f64) * (hi / base).powf(PRECISION_EXPONENT)
 }
 
 /// Local growth of the two solutions of the Meixner recurrence
@@ -1478,3 +1545,4 @@ mod shortcut_tests {
         assert!(forward_nodes >= 10, "{forward_nodes}");
     }
 }
+

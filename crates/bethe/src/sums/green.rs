@@ -322,7 +322,7 @@ impl Integrand {
         let top_l = self.chans.last().map_or(0, |c| c.big_l);
         for ch in self.chans.iter().rev() {
             let hint = match (&phi_up, ch.big_l + 2 == top_l) {
-                (Some(pu), true) => Some(phi_from_upper(ch.big_l, nu, &pt.zp.z, pu)),
+                (Some(pu), true) => Some(phi_from_upper(ch.big_l, &pt, pu)),
                 _ => None,
             };
             let mut m = Meter::new();
