@@ -3,7 +3,9 @@
 
 use kzero_basis::dipole::{dipole_squared, radial_amplitude, transition_energy, DipoleForm};
 use kzero_basis::exact::Surd;
-use kzero_basis::gordon::{gordon_hydrogen, radial_dipole};
+use kzero_basis::gordon::{
+    gordon_hydrogen, gordon_hydrogen_square, radial_dipole, radial_dipole_square,
+};
 use kzero_basis::radial::radial_integral;
 use kzero_basis::{BasisError, BoundState};
 use rug::Rational;
@@ -16,10 +18,20 @@ fn sign(s: &Surd) -> i32 {
     s.coef.cmp0() as i32
 }
 
-/// Gordon's value equals the direct integral exactly: same square, same sign.
+/// Gordon's value equals the direct integral exactly: same square, same sign;
+/// the square formed without the square root is the same rational.
 fn check_pair(a: &BoundState, b: &BoundState) {
     let g = radial_dipole(a, b).unwrap();
     let d = radial_integral(a, b, 1).unwrap();
+    assert_eq!(
+        radial_dipole_square(a, b).unwrap(),
+        d.square(),
+        "square <{} {}|r|{} {}>",
+        a.n(),
+        a.l(),
+        b.n(),
+        b.l()
+    );
     assert_eq!(
         g.square(),
         d.square(),
@@ -85,6 +97,11 @@ fn gordon_scales_with_rational_charge() {
         assert_eq!(g.square(), d.square());
         let h = gordon_hydrogen(n as u32, l as u32, n2 as u32).unwrap();
         assert_eq!(g.square(), h.square() / Rational::from(&z * &z));
+        assert_eq!(radial_dipole_square(&a, &b).unwrap(), g.square());
+        assert_eq!(
+            gordon_hydrogen_square(n as u32, l as u32, n2 as u32).unwrap(),
+            h.square()
+        );
     }
 }
 
@@ -102,6 +119,8 @@ fn closed_form_diagonal_and_lyman_alpha() {
             let g = radial_dipole(&st(n, l), &st(n, l - 1)).unwrap();
             let want = Rational::from((9 * n * n * (n * n - l * l), 4));
             assert_eq!(g.square(), want, "diagonal n={n} l={l}");
+            let g2 = radial_dipole_square(&st(n, l), &st(n, l - 1)).unwrap();
+            assert_eq!(g2, want, "diagonal square n={n} l={l}");
         }
     }
 }
@@ -208,6 +227,18 @@ fn bad_input_is_a_typed_error() {
     ));
     assert!(matches!(
         gordon_hydrogen(0, 1, 1),
+        Err(BasisError::InvalidState { .. })
+    ));
+    assert!(matches!(
+        radial_dipole_square(&st(3, 0), &st(4, 0)),
+        Err(BasisError::NotDipoleAllowed { .. })
+    ));
+    assert!(matches!(
+        radial_dipole_square(&st(2, 1), &other),
+        Err(BasisError::InvalidArgument(_))
+    ));
+    assert!(matches!(
+        gordon_hydrogen_square(3, 2, 1),
         Err(BasisError::InvalidState { .. })
     ));
 }

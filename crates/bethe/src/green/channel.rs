@@ -2,7 +2,7 @@
 //! expansion, its angular weight and the lower bound states that put poles on
 //! the photon-energy path.
 
-use kzero_basis::gordon::radial_dipole;
+use kzero_basis::gordon::radial_dipole_square;
 use kzero_basis::gradient::{gradient_function, Channel as Dir};
 use kzero_basis::sturmian::matched_expansion;
 use kzero_basis::BoundState;
@@ -70,11 +70,11 @@ fn channel_data(st: &BoundState, n: u32, l: u32, dir: Dir) -> Result<ChannelData
         .into_par_iter()
         .map(|np| {
             let lower = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
-            // exact <n' L| r |n l> by Gordon's closed formula
-            let r = radial_dipole(&lower, st)?;
+            // exact |<n' L| r |n l>|^2 by Gordon's closed formula
+            let r2 = radial_dipole_square(&lower, st)?;
             let d = lower.energy() - st.energy();
             // |p|^2 = D^2 |r|^2 (radial), times the angular weight
-            let c = Rational::from(&d * &d) * r.square() * dir.weight(l);
+            let c = Rational::from(&d * &d) * r2 * dir.weight(l);
             Ok(LowerState {
                 nprime: np,
                 weighted_p2: c,
