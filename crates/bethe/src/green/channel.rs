@@ -3,8 +3,7 @@
 //! the photon-energy path.
 
 use kzero_basis::gordon::radial_dipole_square;
-use kzero_basis::gradient::{gradient_function, Channel as Dir};
-use kzero_basis::sturmian::matched_expansion;
+use kzero_basis::gradient::{gradient_expansion, Channel as Dir};
 use kzero_basis::BoundState;
 use rayon::prelude::*;
 use rug::{Float, Rational};
@@ -59,8 +58,8 @@ pub(crate) fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
 /// The exact data of the channel `dir` of |n l> (`st`).
 fn channel_data(st: &BoundState, n: u32, l: u32, dir: Dir) -> Result<ChannelData, BetheError> {
     let big_l = dir.big_l(l);
-    let g = gradient_function(st, dir)?;
-    let exp = matched_expansion(&g, big_l)?;
+    // the matched Sturmian expansion of g_L, formed in integers
+    let exp = gradient_expansion(st, dir)?;
     let alpha = 2 * big_l + 1;
     let s2 = &exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha));
     // exact and independent of each other: formed in parallel (the
