@@ -29,6 +29,10 @@ thread_local! {
     /// free them anew. Only their storage is reused: every element is
     /// written before it is read.
     static SPARE: RefCell<Vec<Float>> = const { RefCell::new(Vec::new()) };
+    /// The last point formed by [`forward_compensated`] at its raised
+    /// precision on this thread (a pure function of n, nu and the
+    /// precision, so keeping it changes times, never values).
+    static RAISED: RefCell<Option<NuPoint>> = const { RefCell::new(None) };
 }
 
 /// `m` Floats of precision `prec` (values unspecified), from the spare ones
@@ -650,7 +654,12 @@ fn forward_compensated(
     let extra = forward_loss.ceil() as u32 + COMPENSATE_GUARD;
     let hi = (prec + extra).div_ceil(64) * 64;
     let nu_hi = Float::with_val(hi, &p.nu);
-    let pt = NuPoint::new(p.n, &nu_hi);
+    // the point at `hi` bits: the last one of this thread when it is the
+    // same (the other channel of the node), else formed anew
+    let pt = match RAISED.with(|r| r.borrow_mut().take()) {
+        Some(q) if q.n == p.n && q.nu.prec() == hi && q.nu == nu_hi => q,
+        _ => NuPoint::new(p.n, &nu_hi),
+    };
     let a_hi = Float::with_val(hi, beta / 2 - &nu_hi);
     let hint = phi_hint.filter(|h| h.prec() >= hi);
     let mut inner = Meter::new();
@@ -668,6 +677,7 @@ fn forward_compensated(
         std::mem::swap(&mut x_prev, &mut x);
         std::mem::swap(&mut x, &mut x_next);
     }
+    RAISED.with(|r| *r.borrow_mut() = Some(pt));
     SecondKind {
         rho: Rho::Stored(store),
         log_coef: Float::with_val(prec, &st.log_coef),
