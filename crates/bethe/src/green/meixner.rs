@@ -517,9 +517,8 @@ fn choose_route(growth: &RootRatio, m: usize, lz: f64, muf: f64, prec: u32) -> R
         (top - m <= limit).then_some(top)
     };
     let need_ref = miller_need(ROUTE_REFERENCE_BITS);
-    let stieltjes = |bits: f64| {
-        stieltjes_cost(growth.beta as u32, growth.z, muf, growth.a, bits as u32)
-    };
+    let stieltjes =
+        |bits: f64| stieltjes_cost(growth.beta as u32, growth.z, muf, growth.a, bits as u32);
     // costs in multiplications at the reference precision
     let coef_ops = OPS_PER_COEF * m as f64;
     let st_ref = stieltjes(f64::from(ROUTE_REFERENCE_BITS));
@@ -842,7 +841,7 @@ fn miller_need(prec: u32) -> f64 {
 /// ([`forward_compensated`]) and the backward routes are considered;
 /// smaller losses are recorded in the meter (the guard of the panel covers
 /// them).
-const COMPENSATE_FROM: f64 = 16.0;
+const COMPENSATE_FROM: f64 = 32.0;
 
 /// Guard bits of the compensated forward route above the estimated loss.
 const COMPENSATE_GUARD: u32 = 16;
@@ -1556,3 +1555,53 @@ mod shortcut_tests {
     }
 }
 
+#[cfg(test)]
+mod near_one_tests {
+    use super::*;
+    use crate::green::channel::channels;
+
+    /// Near z = 1 (small nu) at large L both routes of the second-kind
+    /// functions are long or lossy: a backward run gains only about
+    /// log2(1 + beta/j) bits per step above m, and the forward recurrence
+    /// loses about 200 bits at n = 150. Wherever the route choice sends
+    /// such nodes (both kinds must occur here), the channel value at 256
+    /// and 448 bits is at the rounding level against 1024 bits, and a
+    /// compensated forward pass records no loss beyond its guard.
+    #[test]
+    fn routes_near_z_one_reach_the_rounding_level() {
+        let hp = 1024;
+        let mut kinds = std::collections::BTreeSet::new();
+        for &(n, l) in &[(150u32, 80u32), (150, 40), (150, 120)] {
+            for ch in &channels(n, l).unwrap() {
+                for nuf in [0.31f64, 2.3, 7.7] {
+                    let cf = ChannelFloat::new(ch, hp);
+                    let nu = Float::with_val(hp, nuf);
+                    let reference = channel_j(&cf, &NuPoint::new(n, &nu), &mut Meter::new()).j;
+                    for prec in [256u32, 448] {
+                        let cf = ChannelFloat::new(ch, prec);
+                        let nu = Float::with_val(prec, nuf);
+                        let p = NuPoint::new(n, &nu);
+                        let a = Float::with_val(prec, (cf.big_l + 1) - Float::with_val(prec, &nu));
+                        let route = route_at(cf.beta, &a, &p.zp, cf.scaled.len());
+                        let mut meter = Meter::new();
+                        let j = channel_j(&cf, &p, &mut meter).j;
+                        let e = (Float::with_val(hp, &j - &reference) / &reference)
+                            .abs()
+                            .to_f64();
+                        assert!(
+                            e < 2f64.powi(24 - prec as i32),
+                            "({n},{l}) L = {} nu = {nuf}, {prec} bits, {route:?}: {e:e}",
+                            ch.big_l
+                        );
+                        if let Route::Forward(loss) = route {
+                            assert!(loss > COMPENSATE_FROM, "{route:?}");
+                            assert!(meter.loss_bits < 32, "{route:?}: {}", meter.loss_bits);
+                        }
+                        kinds.insert(matches!(route, Route::Forward(_)));
+                    }
+                }
+            }
+        }
+        assert_eq!(kinds.len(), 2, "only {kinds:?}");
+    }
+}
