@@ -30,8 +30,9 @@
 //! common denominator and the result is returned as an exact [`Surd`]
 //! ([`gordon_hydrogen`]) or, squared, as an exact rational without the
 //! square root ([`gordon_hydrogen_square`]). Cost grows like min(n, n')
-//! products of big integers of O(n log n) bits by machine words, plus one
-//! reduction of the fraction.
+//! products of big integers of O(n log n) bits by machine words, plus the
+//! reduction of the fraction (for the square: in pieces, by the known
+//! factors of its denominator, without a gcd of the two full-size numbers).
 
 use crate::error::BasisError;
 use crate::exact::{factorial, simplify_surd, Surd};
@@ -40,11 +41,12 @@ use rug::ops::Pow;
 use rug::{Integer, Rational};
 
 /// Gordon's formula as integers: <n l| r |n2 l-1> = num / den * sqrt(rad)
-/// for n != n2 (num carries the sign; num / den is not reduced).
+/// for n != n2, with num (signed) from [`gordon_parts`], den from
+/// [`gordon_den`] (num / den is not reduced) and rad from [`gordon_rad`].
 struct GordonParts {
     num: Integer,
-    den: Integer,
-    rad: Integer,
+    /// K = min(n - l + 1, n2 - l), the length of the sum.
+    kmax: u32,
 }
 
 /// The integers of Gordon's formula for n != n2 (preconditions of
@@ -131,21 +133,63 @@ fn gordon_parts(n: u32, l: u32, n2: u32) -> GordonParts {
     } else {
         num = num.div_exact(&d.clone().pow((-t) as u32));
     }
-    // q_K (a+1)(a+2) s^2 and the prefactor (4 n n2)^(l+1) / (4 (2l-1)!
-    // (n+n2)^(n+n2))
-    let q = factorial(c + kmax - 1).div_exact(&factorial(c - 1)) * factorial(kmax);
+    // the prefactor (4 n n2)^(l+1) (its denominator is in gordon_den)
     let mut num = num * (nn2 * 4u32).pow(l + 1);
-    let den = q * Integer::from(ab) * s2 * factorial(2 * l - 1) * 4u32 * s.pow(n + n2);
     // Phase (-1)^(n2 - l): with it the result agrees in sign with direct
     // integration of radial functions that are positive near the origin
     // (checked for all pairs up to n = 12 in the tests).
     if (n2 - l) % 2 == 1 {
         num = -num;
     }
-    // radicand (n+l)! (n2+l-1)! / ((n-l-1)! (n2-l)!): an integer
-    let rad = factorial(n + l).div_exact(&factorial(n - l - 1))
-        * factorial(n2 + l - 1).div_exact(&factorial(n2 - l));
-    GordonParts { num, den, rad }
+    GordonParts { num, kmax }
+}
+
+/// The denominator of [`gordon_parts`]: q_K (a+1)(a+2) s^2 times the
+/// prefactor's 4 (2l-1)! s^(n+n2), with q_K (2l-1)! = (2l+K-1)! K!:
+/// (2l+K-1)! K! (a+1)(a+2) 4 s^(n+n2+2) (a = n - l - 1, s = n + n2).
+fn gordon_den(n: u32, l: u32, n2: u32, kmax: u32) -> Integer {
+    let a = n - l - 1;
+    factorial(2 * l + kmax - 1)
+        * factorial(kmax)
+        * (u64::from(a + 1) * u64::from(a + 2))
+        * 4u32
+        * Integer::from(n + n2).pow(n + n2 + 2)
+}
+
+/// The radicand (n+l)! (n2+l-1)! / ((n-l-1)! (n2-l)!) of Gordon's formula
+/// (an integer).
+fn gordon_rad(n: u32, l: u32, n2: u32) -> Integer {
+    factorial(n + l).div_exact(&factorial(n - l - 1))
+        * factorial(n2 + l - 1).div_exact(&factorial(n2 - l))
+}
+
+/// The exponent of the prime p in m >= 1.
+fn small_primes_val(mut m: u32, p: u32) -> u32 {
+    let mut v = 0;
+    while m % p == 0 {
+        m /= p;
+        v += 1;
+    }
+    v
+}
+
+/// The prime factors of m >= 1 (trial division).
+fn small_primes_of(mut m: u32) -> Vec<u32> {
+    let mut out = Vec::new();
+    let mut p = 2;
+    while p * p <= m {
+        if m % p == 0 {
+            out.push(p);
+            while m % p == 0 {
+                m /= p;
+            }
+        }
+        p += 1;
+    }
+    if m > 1 {
+        out.push(m);
+    }
+    out
 }
 
 /// Largest principal quantum number accepted by [`gordon_hydrogen`] (keeps
@@ -178,9 +222,10 @@ pub fn gordon_hydrogen(n: u32, l: u32, n2: u32) -> Result<Surd, BasisError> {
         ));
     }
     let parts = gordon_parts(n, l, n2);
+    let den = gordon_den(n, l, n2, parts.kmax);
     Ok(simplify_surd(
-        Rational::from((parts.num, parts.den)),
-        Rational::from(parts.rad),
+        Rational::from((parts.num, den)),
+        Rational::from(gordon_rad(n, l, n2)),
     ))
 }
 
@@ -209,8 +254,9 @@ fn check_gordon(n: u32, l: u32, n2: u32) -> Result<(), BasisError> {
 
 /// The square <n l| r |n2 l-1>^2 (bohr^2) of [`gordon_hydrogen`], exact,
 /// formed without the square root: the same rational as
-/// `gordon_hydrogen(n, l, n2)?.square()`, with one reduction of the
-/// coefficient (no square factors are extracted from the radicand).
+/// `gordon_hydrogen(n, l, n2)?.square()` (no square factors are extracted
+/// from the radicand; the fraction is reduced by the known factors of its
+/// denominator instead of one gcd of the full-size numbers).
 ///
 /// # Errors
 /// As [`gordon_hydrogen`].
@@ -226,10 +272,52 @@ pub fn gordon_hydrogen_square(n: u32, l: u32, n2: u32) -> Result<Rational, Basis
         return Ok(Rational::from((Integer::from(nn) * rad * 9u32, 4u32)));
     }
     let parts = gordon_parts(n, l, n2);
-    let coef = Rational::from((parts.num, parts.den));
-    // the square of a reduced fraction is reduced: no gcd here, one with
-    // the radicand below
-    Ok(Rational::from(&coef * &coef) * parts.rad)
+    let mut num = parts.num;
+    if num == 0 {
+        return Ok(Rational::new());
+    }
+    // The fraction num^2 rad / den^2 is reduced in pieces, without a gcd
+    // of the two full-size numbers: den = Q s^(s+2) (gordon_den, s = n +
+    // n2, Q = (2l+K-1)! K! (a+1)(a+2) 4, about a third of den). First num
+    // and Q lose g1 = gcd(num, Q); then, for each prime p of s, the
+    // exponents of p in num and in den lose their minimum (remove_factor
+    // on num and on what is left of Q). This leaves num coprime to den.
+    // Last, rad and den^2 lose g2 = gcd(rad, den^2).
+    let (a, s, kmax) = (n - l - 1, n + n2, parts.kmax);
+    let mut q = factorial(2 * l + kmax - 1)
+        * factorial(kmax)
+        * (u64::from(a + 1) * u64::from(a + 2))
+        * 4u32;
+    let g1 = Integer::from(num.gcd_ref(&q));
+    num.div_exact_mut(&g1);
+    q.div_exact_mut(&g1);
+    let mut den = q;
+    for p in small_primes_of(s) {
+        let pz = Integer::from(p);
+        let vn = num.remove_factor_mut(&pz);
+        let vq = den.remove_factor_mut(&pz);
+        let vs = (s + 2) * small_primes_val(s, p);
+        let e = vq + vs;
+        let m = vn.min(e);
+        if vn > m {
+            num *= Integer::from(Integer::u_pow_u(p, vn - m));
+        }
+        if e > m {
+            den *= Integer::from(Integer::u_pow_u(p, e - m));
+        }
+    }
+    let den2 = den.square();
+    let rad = gordon_rad(n, l, n2);
+    let g2 = Integer::from(rad.gcd_ref(&den2));
+    let numer = num.square() * rad.div_exact(&g2);
+    let denom = den2.div_exact(&g2);
+    // SAFETY (the canonical form of a Rational, no memory concern): denom
+    // > 0 and gcd(numer, denom) = 1. num / g1 and Q / g1 are coprime; the
+    // primes of s were balanced so that each is left in at most one of
+    // num and den, and the other primes of den are those of Q / g1: so
+    // num is coprime to den, num^2 to den^2, and rad / g2 to den^2 / g2.
+    // Equality with the reduction by one gcd is checked in the tests.
+    Ok(unsafe { Rational::from_canonical(numer, denom) })
 }
 
 /// The radial dipole integral <a| r |b> = int_0^inf R_a R_b r^3 dr (bohr)
