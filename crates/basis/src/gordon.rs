@@ -38,7 +38,7 @@ use crate::error::BasisError;
 use crate::exact::{factorial, simplify_surd, Surd};
 use crate::state::BoundState;
 use rug::ops::Pow;
-use rug::{Integer, Rational};
+use rug::{Assign, Integer, Rational};
 
 /// Gordon's formula as integers: <n l| r |n2 l-1> = num / den * sqrt(rad)
 /// for n != n2, with num (signed) from [`gordon_parts`], den from
@@ -98,33 +98,59 @@ fn gordon_parts(n: u32, l: u32, n2: u32) -> GordonParts {
         let top = (i128::from(a) + 2 - i128::from(k)) * (i128::from(a) + 1 - i128::from(k));
         Integer::from(top) * &s2 - Integer::from(ab) * &d2
     };
-    // num_0 = v_0, p_0 = 1
-    let mut num = v_word(0).map_or_else(|| v_big(0), Integer::from);
-    let mut p = Integer::from(1);
-    for k in 1..=kmax {
-        // p_k = p_{k-1} (k-1-a-2)(k-1-b) x
+    // one step k of the recurrence on a pair (num, p):
+    // p <- p f_k, f_k = (k-1-a-2)(k-1-b) x;
+    // num <- num g_k + p v_k, g_k = d^2 (c+k-1) k
+    let mul_f = |z: &mut Integer, k: u32| {
         let j = i128::from(k) - 1;
         let pab = (j - i128::from(a) - 2) * (j - i128::from(b));
         match x_w.and_then(|xs| i64::try_from(pab * xs).ok()) {
-            Some(f) => p *= f,
+            Some(f) => *z *= f,
             None => {
-                p *= Integer::from(pab);
-                p *= &x;
+                *z *= Integer::from(pab);
+                *z *= &x;
             }
         }
-        // num_k = num_{k-1} d^2 (c+k-1) k + p_k v_k
+    };
+    let mul_g = |z: &mut Integer, k: u32| {
         let step = (i128::from(c) + i128::from(k) - 1) * i128::from(k);
         match d2_w.and_then(|ds| i64::try_from(ds * step).ok()) {
-            Some(g) => num *= g,
+            Some(g) => *z *= g,
             None => {
-                num *= &d2;
-                num *= Integer::from(step);
+                *z *= &d2;
+                *z *= Integer::from(step);
             }
         }
-        match v_word(k) {
-            Some(w) => num += &p * w,
-            None => num += Integer::from(&p * &v_big(k)),
+    };
+    let add_pv = |z: &mut Integer, p: &Integer, k: u32| match v_word(k) {
+        Some(w) => *z += p * w,
+        None => *z += Integer::from(p * &v_big(k)),
+    };
+    // The recurrence is linear in (num, p): a block of steps k0+1..k1
+    // maps (num, p) to (num G + p C, p F), with G and F the products of
+    // its g_k and f_k and C the num of the block started from (0, 1). These
+    // are a few machine words long, so each big number is multiplied once
+    // per block by a short factor instead of once per step by one word.
+    // num_0 = v_0, p_0 = 1
+    let mut num = v_word(0).map_or_else(|| v_big(0), Integer::from);
+    let mut p = Integer::from(1);
+    let (mut blk_c, mut blk_f, mut blk_g) = (Integer::new(), Integer::new(), Integer::new());
+    let mut k0 = 0;
+    while k0 < kmax {
+        let k1 = (k0 + BLOCK).min(kmax);
+        blk_c.assign(0);
+        blk_f.assign(1);
+        blk_g.assign(1);
+        for k in k0 + 1..=k1 {
+            mul_f(&mut blk_f, k);
+            mul_g(&mut blk_c, k);
+            add_pv(&mut blk_c, &blk_f, k);
+            mul_g(&mut blk_g, k);
         }
+        num *= &blk_g;
+        num += &p * &blk_c;
+        p *= &blk_f;
+        k0 = k1;
     }
     let e = i64::from(n) + i64::from(n2) - 2 * i64::from(l) - 2;
     let t = e - 2 * i64::from(kmax);
@@ -191,6 +217,9 @@ fn small_primes_of(mut m: u32) -> Vec<u32> {
     }
     out
 }
+
+/// Steps of the Horner recurrence of [`gordon_parts`] taken together.
+const BLOCK: u32 = 16;
 
 /// Largest principal quantum number accepted by [`gordon_hydrogen`] (keeps
 /// every intermediate count inside `u32`; exact evaluation is in any case
