@@ -3,10 +3,12 @@
 
 use kzero_basis::dipole::{dipole_squared, radial_amplitude, transition_energy, DipoleForm};
 use kzero_basis::exact::Surd;
-use kzero_basis::gordon::{gordon_hydrogen, radial_dipole};
+use kzero_basis::gordon::{
+    gordon_hydrogen, gordon_hydrogen_square, radial_dipole, radial_dipole_square,
+};
 use kzero_basis::radial::radial_integral;
 use kzero_basis::{BasisError, BoundState};
-use rug::Rational;
+use rug::{Integer, Rational};
 
 fn st(n: i64, l: i64) -> BoundState {
     BoundState::hydrogen(n, l).unwrap()
@@ -16,10 +18,20 @@ fn sign(s: &Surd) -> i32 {
     s.coef.cmp0() as i32
 }
 
-/// Gordon's value equals the direct integral exactly: same square, same sign.
+/// Gordon's value equals the direct integral exactly: same square, same sign;
+/// the square formed without the square root is the same rational.
 fn check_pair(a: &BoundState, b: &BoundState) {
     let g = radial_dipole(a, b).unwrap();
     let d = radial_integral(a, b, 1).unwrap();
+    assert_eq!(
+        radial_dipole_square(a, b).unwrap(),
+        d.square(),
+        "square <{} {}|r|{} {}>",
+        a.n(),
+        a.l(),
+        b.n(),
+        b.l()
+    );
     assert_eq!(
         g.square(),
         d.square(),
@@ -85,6 +97,11 @@ fn gordon_scales_with_rational_charge() {
         assert_eq!(g.square(), d.square());
         let h = gordon_hydrogen(n as u32, l as u32, n2 as u32).unwrap();
         assert_eq!(g.square(), h.square() / Rational::from(&z * &z));
+        assert_eq!(radial_dipole_square(&a, &b).unwrap(), g.square());
+        assert_eq!(
+            gordon_hydrogen_square(n as u32, l as u32, n2 as u32).unwrap(),
+            h.square()
+        );
     }
 }
 
@@ -102,6 +119,8 @@ fn closed_form_diagonal_and_lyman_alpha() {
             let g = radial_dipole(&st(n, l), &st(n, l - 1)).unwrap();
             let want = Rational::from((9 * n * n * (n * n - l * l), 4));
             assert_eq!(g.square(), want, "diagonal n={n} l={l}");
+            let g2 = radial_dipole_square(&st(n, l), &st(n, l - 1)).unwrap();
+            assert_eq!(g2, want, "diagonal square n={n} l={l}");
         }
     }
 }
@@ -210,4 +229,57 @@ fn bad_input_is_a_typed_error() {
         gordon_hydrogen(0, 1, 1),
         Err(BasisError::InvalidState { .. })
     ));
+    assert!(matches!(
+        radial_dipole_square(&st(3, 0), &st(4, 0)),
+        Err(BasisError::NotDipoleAllowed { .. })
+    ));
+    assert!(matches!(
+        radial_dipole_square(&st(2, 1), &other),
+        Err(BasisError::InvalidArgument(_))
+    ));
+    assert!(matches!(
+        gordon_hydrogen_square(3, 2, 1),
+        Err(BasisError::InvalidState { .. })
+    ));
+}
+
+/// The square formed without the square root (reduced in pieces) is the
+/// canonical rational of the square of the exact surd (reduced by a gcd):
+/// coprime parts, positive denominator, equal value. All pairs up to
+/// n = 40 (n2 up to 45) and a sample up to n = 400.
+#[test]
+fn gordon_square_is_the_canonical_square() {
+    let check = |n: u32, l: u32, n2: u32| {
+        let sq = gordon_hydrogen_square(n, l, n2).unwrap();
+        assert_eq!(
+            Integer::from(sq.numer().gcd_ref(sq.denom())),
+            1,
+            "({n}, {l}, {n2})"
+        );
+        assert!(*sq.denom() > 0);
+        assert_eq!(
+            sq,
+            gordon_hydrogen(n, l, n2).unwrap().square(),
+            "({n}, {l}, {n2})"
+        );
+    };
+    for n in 2..=40 {
+        for l in 1..n {
+            for n2 in l..=45 {
+                check(n, l, n2);
+            }
+        }
+    }
+    for &(n, l, n2) in &[
+        (400, 1, 399),
+        (400, 200, 300),
+        (397, 3, 250),
+        (300, 150, 150),
+        (300, 150, 299),
+        (250, 1, 1),
+        (2, 1, 400),
+        (360, 7, 359),
+    ] {
+        check(n, l, n2);
+    }
 }

@@ -4,7 +4,7 @@
 //! at two working precisions.
 
 use kzero_basis::exact::{binomial, factorial, PolyExp};
-use kzero_basis::gradient::{gradient_function, Channel};
+use kzero_basis::gradient::{gradient_expansion, gradient_function, Channel};
 use kzero_basis::radial::reduced_radial_function;
 use kzero_basis::sturmian::{matched_expansion, sturmian_overlap, sturmian_overlaps};
 use kzero_basis::{BasisError, BoundState};
@@ -234,4 +234,34 @@ fn n200_two_precisions_and_completeness() {
     }
     let rd = rel_diff(&sum, &n2);
     assert!(rd < 1e-40, "completeness n=200: {rd:e}");
+}
+
+/// The expansion of g_L formed in integers is the same exact expansion as
+/// the one of the polynomial g_L: all states up to n = 25, both channels,
+/// a rational charge, and a few large n.
+#[test]
+fn gradient_expansion_equals_expansion_of_gradient() {
+    let check = |s: &BoundState| {
+        for ch in Channel::open(s.l()) {
+            let want =
+                matched_expansion(&gradient_function(s, ch).unwrap(), ch.big_l(s.l())).unwrap();
+            let got = gradient_expansion(s, ch).unwrap();
+            assert_eq!(got, want, "n = {}, l = {}, {ch:?}", s.n(), s.l());
+        }
+    };
+    for n in 1..=25 {
+        for l in 0..n {
+            check(&st(n, l));
+        }
+    }
+    for &(n, l) in &[(200i64, 0i64), (200, 1), (200, 20), (200, 199), (150, 75)] {
+        check(&st(n, l));
+    }
+    for &(n, l) in &[(1i64, 0i64), (5, 2), (9, 4), (13, 1)] {
+        check(&BoundState::new(n, l, Rational::from((7, 3))).unwrap());
+    }
+    assert!(matches!(
+        gradient_expansion(&st(3, 0), Channel::Down),
+        Err(BasisError::InvalidArgument(_))
+    ));
 }

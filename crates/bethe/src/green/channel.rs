@@ -2,13 +2,13 @@
 //! expansion, its angular weight and the lower bound states that put poles on
 //! the photon-energy path.
 
-use kzero_basis::gordon::radial_dipole;
-use kzero_basis::gradient::{gradient_function, Channel as Dir};
-use kzero_basis::sturmian::matched_expansion;
+use kzero_basis::gordon::radial_dipole_square;
+use kzero_basis::gradient::{gradient_expansion, Channel as Dir};
 use kzero_basis::BoundState;
 use rayon::prelude::*;
 use rug::{Float, Rational};
 
+use super::meixner::scaled_coefs;
 use crate::BetheError;
 
 /// A lower bound state |n' L> (E_n' < E_n): its term c D / (D + w) is
@@ -58,8 +58,8 @@ pub(crate) fn channels(n: u32, l: u32) -> Result<Vec<ChannelData>, BetheError> {
 /// The exact data of the channel `dir` of |n l> (`st`).
 fn channel_data(st: &BoundState, n: u32, l: u32, dir: Dir) -> Result<ChannelData, BetheError> {
     let big_l = dir.big_l(l);
-    let g = gradient_function(st, dir)?;
-    let exp = matched_expansion(&g, big_l)?;
+    // the matched Sturmian expansion of g_L, formed in integers
+    let exp = gradient_expansion(st, dir)?;
     let alpha = 2 * big_l + 1;
     let s2 = &exp.radicand / Rational::from(kzero_basis::exact::factorial(alpha));
     // exact and independent of each other: formed in parallel (the
@@ -69,11 +69,11 @@ fn channel_data(st: &BoundState, n: u32, l: u32, dir: Dir) -> Result<ChannelData
         .into_par_iter()
         .map(|np| {
             let lower = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
-            // exact <n' L| r |n l> by Gordon's closed formula
-            let r = radial_dipole(&lower, st)?;
+            // exact |<n' L| r |n l>|^2 by Gordon's closed formula
+            let r2 = radial_dipole_square(&lower, st)?;
             let d = lower.energy() - st.energy();
             // |p|^2 = D^2 |r|^2 (radial), times the angular weight
-            let c = Rational::from(&d * &d) * r.square() * dir.weight(l);
+            let c = Rational::from(&d * &d) * r2 * dir.weight(l);
             Ok(LowerState {
                 nprime: np,
                 weighted_p2: c,
@@ -100,7 +100,11 @@ pub(crate) struct ChannelFloat {
     pub(crate) beta: u32,
     /// weight * S2.
     pub(crate) ws2: Float,
-    /// coef_i.
+    /// coef_i / (beta)_i, the coefficients of the scaled Meixner
+    /// recurrence (`meixner::scaled_coefs`).
+    pub(crate) scaled: Vec<Float>,
+    /// coef_i (for the reference sums of the tests).
+    #[cfg(test)]
     pub(crate) coef: Vec<Float>,
 }
 
@@ -111,6 +115,8 @@ impl ChannelFloat {
             big_l: c.big_l,
             beta: c.beta,
             ws2: Float::with_val(prec, Rational::from(&c.weight * &c.s2)),
+            scaled: scaled_coefs(&c.coef, c.beta, prec),
+            #[cfg(test)]
             coef: c.coef.iter().map(|q| Float::with_val(prec, q)).collect(),
         }
     }

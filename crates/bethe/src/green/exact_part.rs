@@ -98,28 +98,134 @@ impl ExactState {
     /// -c D ln((n + n')/n'), plus Dsum_up ln w0 (w0 = 1/(2 n^2), the
     /// binding energy in hartree) and Dsum ln 2 (the change of the unit of
     /// D inside the logarithm from hartree to Z^2 Ry).
+    ///
+    /// With |D| = (n - n')(n + n') / (2 n^2 n'^2), the logarithm of a lower
+    /// state is ln|D| - ln((n + n')/n') = ln(n - n') - ln n' - ln(2 n^2), and
+    /// ln w0 = -ln(2 n^2): every logarithm is one of small integers, taken
+    /// from one [`SmallLogs`] table of the call.
+    ///
+    /// # Accuracy
+    /// The sum is formed at prec + 32 bits and rounded once to `prec`. Each
+    /// logarithm of a lower state has a relative error below 2^(7 - wp)
+    /// (n <= 1000; see [`SmallLogs`]; its magnitude is at least ln(2n), so
+    /// the subtractions lose at most 3 bits), each c D is rounded once:
+    /// the guard of 32 bits covers these errors for up to 2^24 lower
+    /// states, far more than any n allows.
     pub(crate) fn exact_part(&self, prec: u32) -> Float {
         // Dsum_up = Dsum - sum_lower c D: every c D is negative, so the sum
-        // has no cancellation and is formed in floats (a guard of 32 bits
-        // covers the roundings of up to 2^31 terms); the terms c D ln|D| and
-        // the image terms are rounded one by one as well
+        // has no cancellation and is formed in floats; the terms
+        // c D ln|D| and the image terms are rounded one by one as well
         let wp = prec + 32;
+        let logs = SmallLogs::new(self.n.max(2), wp);
+        // ln(2 n^2)
+        let ln_2nn = Float::with_val(wp, logs.ln(self.n) * 2u32) + logs.ln(2);
         let mut s = Float::with_val(wp, 0);
         let mut upper = Float::with_val(wp, &self.dipole_sum);
         let lows = self.channels.iter().flat_map(|ch| ch.lower_states.iter());
         for (low, a) in lows.zip(&self.residues) {
             let cd = Float::with_val(wp, a);
             upper -= &cd;
-            let ln_abs_d = Float::with_val(wp, -low.energy_diff.clone()).ln();
-            let ln_ratio =
-                Float::with_val(wp, Rational::from((self.n + low.nprime, low.nprime))).ln();
-            s += cd * (ln_abs_d - ln_ratio);
+            s += cd * logs.lower_state(self.n, low.nprime, &ln_2nn);
         }
-        let nn = u64::from(self.n) * u64::from(self.n);
-        let ln_w0 = Float::with_val(wp, Rational::from((1u64, 2 * nn))).ln();
-        s += upper * ln_w0;
+        s -= upper * &ln_2nn;
         let ln2 = Float::with_val(wp, rug::float::Constant::Log2);
         s += Float::with_val(wp, &self.dipole_sum) * ln2;
         Float::with_val(prec, s)
+    }
+}
+
+/// ln k for k = 1..=max at one working precision, formed for one call (no
+/// state is kept between calls). The logarithm of each prime is correctly
+/// rounded; a composite k takes ln p + ln(k/p), p its smallest prime
+/// factor.
+///
+/// # Accuracy
+/// ln k is a sum of Omega(k) <= log2(k) correctly rounded prime logarithms
+/// (all positive) with Omega(k) - 1 roundings of the additions: relative
+/// error below 2 log2(k) 2^-wp.
+pub(crate) struct SmallLogs {
+    table: Vec<Float>,
+}
+
+impl SmallLogs {
+    /// The table up to `max` (>= 1) at `wp` bits.
+    pub(crate) fn new(max: u32, wp: u32) -> Self {
+        let max = max as usize;
+        // smallest prime factors by a sieve
+        let mut spf = vec![0u32; max + 1];
+        for i in 2..=max {
+            if spf[i] == 0 {
+                let mut j = i;
+                while j <= max {
+                    if spf[j] == 0 {
+                        spf[j] = i as u32;
+                    }
+                    j += i;
+                }
+            }
+        }
+        let mut table: Vec<Float> = Vec::with_capacity(max + 1);
+        table.push(Float::new(wp)); // k = 0: unused
+        table.push(Float::new(wp)); // ln 1 = 0
+        for k in 2..=max {
+            let p = spf[k] as usize;
+            let v = if p == k {
+                Float::with_val(wp, k as u32).ln()
+            } else {
+                Float::with_val(wp, &table[p] + &table[k / p])
+            };
+            table.push(v);
+        }
+        SmallLogs { table }
+    }
+
+    /// ln k (1 <= k <= max).
+    pub(crate) fn ln(&self, k: u32) -> &Float {
+        &self.table[k as usize]
+    }
+
+    /// ln|D| - ln((n + n')/n') = ln(n - n') - ln n' - ln(2 n^2) for a lower
+    /// state n' < n (D in hartree), given `ln_2nn` = ln(2 n^2): negative,
+    /// of magnitude at least ln(2n).
+    pub(crate) fn lower_state(&self, n: u32, nprime: u32, ln_2nn: &Float) -> Float {
+        let mut v = Float::with_val(ln_2nn.prec(), self.ln(n - nprime) - self.ln(nprime));
+        v -= ln_2nn;
+        v
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::SmallLogs;
+    use rug::Float;
+
+    /// Every ln k of the table is within its stated bound 2 log2(k) 2^-wp
+    /// of MPFR's correctly rounded logarithm at 64 more bits, and the
+    /// logarithm of a lower state within 2^(7-wp) relative.
+    #[test]
+    fn small_logs_within_their_bound() {
+        for &(max, wp) in &[(1000u32, 96u32), (257, 320), (60, 53)] {
+            let logs = SmallLogs::new(max, wp);
+            assert!(logs.ln(1).is_zero());
+            for k in 2..=max {
+                let exact = Float::with_val(wp + 64, k).ln();
+                let err = Float::with_val(wp + 64, logs.ln(k) - &exact).abs() / &exact;
+                let bound = 2.0 * f64::from(k).log2() * (-f64::from(wp)).exp2();
+                assert!(err.to_f64() <= bound, "k = {k}, wp = {wp}");
+            }
+            let n = max;
+            let ln_2nn = Float::with_val(wp, logs.ln(n) * 2u32) + logs.ln(2);
+            for np in 1..n {
+                let got = logs.lower_state(n, np, &ln_2nn);
+                let q =
+                    rug::Rational::from((n - np, 2 * u64::from(n) * u64::from(n) * u64::from(np)));
+                let exact = Float::with_val(wp + 64, q).ln();
+                let err = Float::with_val(wp + 64, &got - &exact).abs() / &exact.abs();
+                assert!(
+                    err.to_f64() <= (7.0 - f64::from(wp)).exp2(),
+                    "n' = {np}, wp = {wp}"
+                );
+            }
+        }
     }
 }

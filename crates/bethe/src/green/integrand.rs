@@ -27,6 +27,7 @@
 use super::channel::ChannelFloat;
 use super::meixner::{channel_j_with, NuPoint};
 use super::meter::Meter;
+use rug::ops::DivFrom;
 use rug::{Assign, Float};
 
 /// A lower state rounded to the working precision: it contributes the
@@ -138,9 +139,9 @@ impl Integrand {
         let mut t = Float::new(prec);
         let mut biggest = Float::with_val(prec, 0);
         for pole in &self.lower_poles {
+            // A / (n' - nu), one rounding
             t.assign(&pole.nprime - nu);
-            t.recip_mut();
-            t *= &pole.residue;
+            t.div_from(&pole.residue);
             if t.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
                 biggest.assign(&t);
             }

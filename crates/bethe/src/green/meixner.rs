@@ -19,6 +19,7 @@ use super::channel::ChannelFloat;
 use super::meter::Meter;
 use super::scale::exp2_of;
 use super::stieltjes::{meixner_stieltjes, stieltjes_cost, stieltjes_log_coef, ZPoint};
+use rug::ops::SubFrom;
 use rug::{Assign, Float};
 use std::cell::RefCell;
 
@@ -101,148 +102,150 @@ pub(crate) struct JValue {
 }
 
 /// Work space for the Meixner three-term recurrence
-/// z (i+beta) X_{i+1} = [i + (i+beta) z + (1-z) a] X_i - i X_{i-1}.
+/// z (j+beta) X_{j+1} = [j + (j+beta) z + (1-z) a] X_j - j X_{j-1}, run on
+/// the scaled solutions Q_j = (-tau)^j (beta)_j X_j, which obey
+///
+/// ```text
+/// Q_{j+1} = B_j Q_j - j (beta + j - 1) Q_{j-1},   B_j = B_0 + j Delta,
+/// B_0 = -(z beta + (1-z) a) / tau,   Delta = -(1 + z) / tau
+/// ```
+///
+/// (multiply the recurrence by (-tau)^(j+1) (beta)_(j+1) / (z (j+beta)) and
+/// use z = tau^2): a step costs one full multiplication, one multiplication
+/// by an integer and no division. The scale is harmless: it is the same
+/// positive or sign-alternating factor for both solutions, so relative
+/// errors propagate as in the unscaled recurrence. With eta_j = coef_j
+/// (-tau)^j, eta_j X_j = (coef_j / (beta)_j) Q_j ([`scaled_coefs`]).
 struct Rec {
-    z: Float,
-    c1: Float,
     beta: u32,
-    t1: Float,
-    t2: Float,
-    /// b_i = z (i+beta) + (1-z) a + i, when both solutions take a step.
-    b: Float,
-    /// The step index i as a Float of the working precision: adding it is
-    /// the same correctly rounded operation as adding the integer, and
-    /// cheaper in MPFR than an addition of an unsigned integer.
-    index: Float,
-    /// When not empty: z (i+beta) and b_i at index 2(i-1) and 2(i-1) + 1,
-    /// for the steps i a backward pass crosses, kept for the forward pass
-    /// of M_j(-a) (`saved_full` once the pass has filled them all).
-    saved: Vec<Float>,
-    saved_full: bool,
+    /// B_0.
+    b0: Float,
+    /// Delta.
+    delta: Float,
+    /// -tau (for the normalization sum of [`miller_rho`]).
+    mtau: Float,
+    /// B_j of the step being taken.
+    bj: Float,
+    t: Float,
 }
 
 impl Rec {
-    fn new(beta: u32, a: &Float, pt: &ZPoint) -> Self {
+    fn new(beta: u32, a: &Float, p: &NuPoint) -> Self {
         let prec = a.prec();
+        let zp = &p.zp;
+        let mut b0 = Float::with_val(prec, &zp.one_minus_z * a);
+        b0 += Float::with_val(prec, &zp.z * beta);
+        b0 /= &p.tau;
+        b0 = -b0;
+        let mut delta = Float::with_val(prec, &zp.z + 1u32);
+        delta /= &p.tau;
+        delta = -delta;
         Rec {
-            z: pt.z.clone(),
-            c1: Float::with_val(prec, &pt.one_minus_z * a),
             beta,
-            t1: Float::new(prec),
-            t2: Float::new(prec),
-            b: Float::new(prec),
-            index: Float::new(prec),
-            saved: Vec::new(),
-            saved_full: false,
+            b0,
+            delta,
+            mtau: Float::with_val(prec, -&p.tau),
+            bj: Float::new(prec),
+            t: Float::new(prec),
         }
     }
 
-    /// t1 <- t1 + i (one rounding, as `t1 += i`).
-    fn add_index(&mut self, i: usize) {
-        self.index.assign(i as u32);
-        self.t1 += &self.index;
+    /// j (beta + j - 1), the coefficient of Q_{j-1} at step j.
+    fn lower_coef(&self, j: usize) -> u64 {
+        j as u64 * (u64::from(self.beta) + j as u64 - 1)
     }
 
-    /// X_{i+1} from X_i, X_{i-1} (forward).
-    fn forward(&mut self, i: usize, xi: &Float, xim1: &Float) -> Float {
-        let mut out = Float::new(xi.prec());
-        self.forward_into(i, xi, xim1, &mut out);
+    /// bj <- B_j = B_0 + j Delta (two roundings).
+    fn set_b(&mut self, j: usize) {
+        self.bj.assign(&self.delta * j as u64);
+        self.bj += &self.b0;
+    }
+
+    /// Q_{j+1} from Q_j, Q_{j-1} (forward), written into `out` (whose
+    /// precision is kept).
+    fn forward_into(&mut self, j: usize, xj: &Float, xjm1: &Float, out: &mut Float) {
+        self.set_b(j);
+        self.t.assign(&self.bj * xj);
+        out.assign(xjm1 * self.lower_coef(j));
+        out.sub_from(&self.t);
+    }
+
+    /// Q_{j+1} from Q_j, Q_{j-1} (forward), as a new Float.
+    fn forward(&mut self, j: usize, xj: &Float, xjm1: &Float) -> Float {
+        let mut out = Float::new(xj.prec());
+        self.forward_into(j, xj, xjm1, &mut out);
         out
     }
 
-    /// X_{i+1} from X_i, X_{i-1} (forward), written into `out` (whose
-    /// precision is kept).
-    fn forward_into(&mut self, i: usize, xi: &Float, xim1: &Float, out: &mut Float) {
-        let ib = i as u32 + self.beta;
-        // t2 = z (i + beta); t1 = (t2 + i + c1) X_i - i X_{i-1}
-        self.t2.assign(&self.z * ib);
-        self.t1.assign(&self.t2 + &self.c1);
-        self.add_index(i);
-        self.t1 *= xi;
-        out.assign(xim1 * i as u32);
-        self.t1 -= &*out;
-        out.assign(&self.t1 / &self.t2);
-    }
-
-    /// As [`Rec::forward_into`], with z (i+beta) and b_i taken from
-    /// `saved` (the same values, formed by the backward pass).
-    fn forward_saved(&mut self, i: usize, xi: &Float, xim1: &Float, out: &mut Float) {
-        let k = 2 * (i - 1);
-        self.t1.assign(&self.saved[k + 1] * xi);
-        out.assign(xim1 * i as u32);
-        self.t1 -= &*out;
-        out.assign(&self.t1 / &self.saved[k]);
-    }
-
-    /// One forward step of two solutions at once, X_{i+1} into `out` and
-    /// Y_{i+1} into `out_y`, with the coefficients formed once: each value
-    /// is the same as that of [`Rec::forward_into`] (the same operations on
-    /// the same roundings; the outputs must have the working precision).
+    /// One forward step of two solutions at once, X_{j+1} into `out` and
+    /// Y_{j+1} into `out_y`, with B_j formed once: each value is the same
+    /// as that of [`Rec::forward_into`] (the outputs must have the working
+    /// precision).
     #[allow(clippy::too_many_arguments)]
     fn forward_pair(
         &mut self,
-        i: usize,
-        xi: &Float,
-        xim1: &Float,
+        j: usize,
+        xj: &Float,
+        xjm1: &Float,
         out: &mut Float,
-        yi: &Float,
-        yim1: &Float,
+        yj: &Float,
+        yjm1: &Float,
         out_y: &mut Float,
     ) {
-        let ib = i as u32 + self.beta;
-        self.t2.assign(&self.z * ib);
-        self.b.assign(&self.t2 + &self.c1);
-        self.index.assign(i as u32);
-        self.b += &self.index;
-        for (x, xm1, o) in [(xi, xim1, out), (yi, yim1, out_y)] {
-            self.t1.assign(&self.b * x);
-            o.assign(xm1 * i as u32);
-            self.t1 -= &*o;
-            o.assign(&self.t1 / &self.t2);
+        self.set_b(j);
+        let k = self.lower_coef(j);
+        for (x, xm1, o) in [(xj, xjm1, out), (yj, yjm1, out_y)] {
+            self.t.assign(&self.bj * x);
+            o.assign(xm1 * k);
+            o.sub_from(&self.t);
         }
     }
 
-    /// X_{i-1} from X_i, X_{i+1} (backward): (b_i X_i - z (i+beta) X_{i+1}) / i,
-    /// written into `out`.
-    fn backward_into(&mut self, i: usize, xi: &Float, xip1: &Float, out: &mut Float) {
-        self.t2.assign(&self.z * (i as u32 + self.beta));
-        self.backward_rest(i, xi, xip1, out);
+    /// Q_{j-1} from Q_j, Q_{j+1} (backward): (B_j Q_j - Q_{j+1}) / (j (beta +
+    /// j - 1)), written into `out` (j >= 1).
+    fn backward_into(&mut self, j: usize, xj: &Float, xjp1: &Float, out: &mut Float) {
+        self.set_b(j);
+        self.t.assign(&self.bj * xj);
+        self.t -= xjp1;
+        out.assign(&self.t / self.lower_coef(j));
     }
 
-    /// The rest of a backward step, with t2 = z (i+beta) already set.
-    fn backward_rest(&mut self, i: usize, xi: &Float, xip1: &Float, out: &mut Float) {
-        self.t1.assign(&self.t2 + &self.c1);
-        self.add_index(i);
-        let k = 2 * (i - 1);
-        if k + 1 < self.saved.len() {
-            self.saved[k].assign(&self.t2);
-            self.saved[k + 1].assign(&self.t1);
-            if i == 1 {
-                self.saved_full = true;
-            }
-        }
-        self.t1 *= xi;
-        self.t2 *= xip1;
-        self.t1 -= &self.t2;
-        out.assign(&self.t1 / i as u32);
-    }
-
-    /// As [`Rec::backward_into`], and on the way, one step of Horner's scheme for the
-    /// normalization sum of [`miller_rho`]: h <- X_i + z (i+beta)/(i+1) h.
+    /// As [`Rec::backward_into`], and on the way, one step of Horner's
+    /// scheme for the normalization sum of [`miller_rho`]:
+    /// h <- Q_j + (-tau)/(j+1) h.
     fn backward_horner(
         &mut self,
-        i: usize,
-        xi: &Float,
-        xip1: &Float,
+        j: usize,
+        xj: &Float,
+        xjp1: &Float,
         out: &mut Float,
         h: &mut Float,
     ) {
-        self.t2.assign(&self.z * (i as u32 + self.beta));
-        *h *= &self.t2;
-        *h /= i as u32 + 1;
-        *h += xi;
-        self.backward_rest(i, xi, xip1, out);
+        *h *= &self.mtau;
+        *h /= j as u64 + 1;
+        *h += xj;
+        self.backward_into(j, xj, xjp1, out);
     }
+}
+
+/// The coefficients coef_j / (beta)_j of the scaled recurrence ([`Rec`])
+/// at `prec` bits: eta_j X_j = (coef_j / (beta)_j) Q_j.
+///
+/// # Accuracy
+/// Each is formed from the exact coef_j at prec + 32 bits, divided by the
+/// running product (beta)_j at prec + 32 bits (j roundings, relative error
+/// below j 2^-(prec+32)), and rounded once to `prec` bits: within one unit
+/// in the last place for j < 2^31.
+pub(crate) fn scaled_coefs(coef: &[rug::Rational], beta: u32, prec: u32) -> Vec<Float> {
+    let wp = prec + 32;
+    let mut poch = Float::with_val(wp, 1);
+    let mut out = Vec::with_capacity(coef.len());
+    for (j, c) in coef.iter().enumerate() {
+        let v = Float::with_val(wp, c) / &poch;
+        out.push(Float::with_val(prec, &v));
+        poch *= u64::from(beta) + j as u64;
+    }
+    out
 }
 
 /// weight * J_L(nu) for one channel, with its logarithmic coefficient.
@@ -273,7 +276,7 @@ pub(crate) fn channel_j_with(
     let beta = ch.beta;
     let zp = &p.zp;
     let a = Float::with_val(prec, (ch.big_l + 1) - Float::with_val(prec, &p.nu));
-    let m = ch.coef.len();
+    let m = ch.scaled.len();
     if m == 0 {
         let zero = JValue {
             j: Float::with_val(prec, 0),
@@ -281,54 +284,47 @@ pub(crate) fn channel_j_with(
         };
         return (zero, None);
     }
-    let mut rec = Rec::new(beta, &a, zp);
-    if m > 2 {
-        // the coefficients of the steps 1..m-2 of the M_j recurrence, kept
-        // by a backward route of rho_j
-        rec.saved = take_floats(2 * (m - 2), prec);
-    }
+    let mut rec = Rec::new(beta, &a, p);
     let sk = second_kind(&mut rec, &a, zp, m, meter, phi_hint, with_log);
-    // the forward route runs its recurrence here, in step with that of M_j
-    // (the same coefficients); the other routes have stored every rho_j
+    // the forward route runs its recurrence here, in step with that of Q_j
+    // (the same coefficients); the other routes have stored every R_j
     let (stored, mut forward) = match sk.rho {
         Rho::Stored(rho) => (rho, None),
-        // (rho_{j-1}, rho_j, rho_{j+1}) before step j = 0
-        Rho::Forward(rho0, rho1) => (Vec::new(), Some([Float::new(prec), rho0, rho1])),
+        // (R_{j-1}, R_j, R_{j+1}) before step j = 0
+        Rho::Forward(r0, r1) => (Vec::new(), Some([Float::new(prec), r0, r1])),
     };
     // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i,
-    // with eta_j = coef_j (-tau)^j and M_j = M_j(-a) (forward recurrence,
-    // M_0 = 1, M_1 = 1 + a (1-z)/(z beta)), both formed on the way
-    let mtau = Float::with_val(prec, -&p.tau);
-    let mut pw = Float::with_val(prec, 1);
-    let mut eta = Float::new(prec);
-    let mut m_prev = Float::with_val(prec, 1); // M_{j-1}
-    let mut m_cur = Float::with_val(prec, 1); // M_j
-    let mut m_next = Float::new(prec);
+    // with eta_j = coef_j (-tau)^j and M_j = M_j(-a); in the scaled form
+    // eta_j M_j = c_j Q_j and eta_j rho_j = c_j R_j, c_j = coef_j / (beta)_j
+    let mut q_prev = Float::with_val(prec, 0); // Q_{j-1}
+    let mut q_cur = Float::with_val(prec, 1); // Q_j
+    let mut q_next = Float::new(prec);
     let mut s_prev = Float::with_val(prec, 0);
     let mut t = Float::with_val(prec, 0);
     let mut em = Float::new(prec);
+    let mut er = Float::new(prec);
     let mut inner = Float::new(prec);
     let mut biggest = Float::with_val(prec, 0);
-    for (j, c) in ch.coef.iter().enumerate() {
+    for (j, c) in ch.scaled.iter().enumerate() {
         if j == 1 {
-            let zb = Float::with_val(prec, &zp.z * beta);
-            m_cur.assign(&rec.c1 / &zb);
-            m_cur += 1u32;
+            // Q_1 = B_0 (the rho of the forward route start at R_1)
+            rec.forward_into(0, &q_cur, &q_prev, &mut q_next);
         } else if j > 1 {
             match forward.as_mut() {
-                None if rec.saved_full => rec.forward_saved(j - 1, &m_cur, &m_prev, &mut m_next),
-                None => rec.forward_into(j - 1, &m_cur, &m_prev, &mut m_next),
+                None => rec.forward_into(j - 1, &q_cur, &q_prev, &mut q_next),
                 Some([r_prev, r_cur, r_next]) => {
                     if r_next.prec() != prec {
                         r_next.set_prec(prec);
                     }
-                    rec.forward_pair(j - 1, &m_cur, &m_prev, &mut m_next, r_cur, r_prev, r_next);
+                    rec.forward_pair(j - 1, &q_cur, &q_prev, &mut q_next, r_cur, r_prev, r_next);
                 }
             }
-            std::mem::swap(&mut m_prev, &mut m_cur);
-            std::mem::swap(&mut m_cur, &mut m_next);
         }
-        let rho_j = match forward.as_mut() {
+        if j > 0 {
+            std::mem::swap(&mut q_prev, &mut q_cur);
+            std::mem::swap(&mut q_cur, &mut q_next);
+        }
+        let r_j = match forward.as_mut() {
             None => &stored[j],
             Some(r) => {
                 if j > 0 {
@@ -337,13 +333,11 @@ pub(crate) fn channel_j_with(
                 &r[1]
             }
         };
-        eta.assign(c * &pw);
-        pw *= &mtau;
-        em.assign(&eta * &m_cur);
+        em.assign(c * &q_cur);
+        er.assign(c * r_j);
         inner.assign(&s_prev << 1u32);
         inner += &em;
-        inner *= &eta;
-        inner *= rho_j;
+        inner *= &er;
         if inner.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
             biggest.assign(&inner);
         }
@@ -365,17 +359,16 @@ pub(crate) fn channel_j_with(
         log_coef,
     };
     give_back(stored);
-    give_back(std::mem::take(&mut rec.saved));
     (jv, sk.phi)
 }
 
 /// weight * <phi_s|G_L|phi_s> for several source functions phi_s of one
-/// channel at one node (each given by its matched-Sturmian coefficients):
-/// the Meixner functions M_i(-a) and the functions of the second kind rho_i
-/// (with m(a) where their route needs it) are computed once and shared by
-/// every source. Returns one [`JValue`] per source, and the Phi used (None
-/// when none was needed: the series route of m(a), or the backward route of
-/// the second-kind functions).
+/// channel at one node (each given by its scaled matched-Sturmian
+/// coefficients, [`scaled_coefs`]): the scaled Meixner functions Q_j and
+/// functions of the second kind R_j (with m(a) where their route needs it)
+/// are computed once and shared by every source. Returns one [`JValue`]
+/// per source, and the Phi used (None when none was needed: the series
+/// route of m(a), or the backward route of the second-kind functions).
 ///
 /// # Accuracy
 /// As [`channel_j_with`], whose computation this is for one source; the
@@ -384,59 +377,49 @@ pub(crate) fn channel_j_sources(
     big_l: u32,
     beta: u32,
     ws2: &Float,
-    coefs: &[Vec<Float>],
+    scaled: &[Vec<Float>],
     p: &NuPoint,
     meter: &mut Meter,
     phi_hint: Option<&Float>,
 ) -> (Vec<JValue>, Option<Float>) {
     let prec = p.nu.prec();
-    let zp = &p.zp;
     let a = Float::with_val(prec, (big_l + 1) - Float::with_val(prec, &p.nu));
-    let m = coefs.iter().map(Vec::len).max().unwrap_or(0);
+    let m = scaled.iter().map(Vec::len).max().unwrap_or(0);
     if m == 0 {
         let zero = JValue {
             j: Float::with_val(prec, 0),
             log_coef: Float::with_val(prec, 0),
         };
-        return (vec![zero; coefs.len()], None);
+        return (vec![zero; scaled.len()], None);
     }
-    let mut rec = Rec::new(beta, &a, zp);
-    // M_i(-a): M_0 = 1, M_1 = 1 + a (1-z)/(z beta)
-    let zb = Float::with_val(prec, &zp.z * beta);
-    let mut mm: Vec<Float> = Vec::with_capacity(m);
-    mm.push(Float::with_val(prec, 1));
-    if m > 1 {
-        let m1 = Float::with_val(prec, &rec.c1 / &zb) + 1u32;
-        mm.push(m1);
+    let mut rec = Rec::new(beta, &a, p);
+    // Q_0 = 1, Q_1 = B_0, ...
+    let mut qq: Vec<Float> = Vec::with_capacity(m);
+    qq.push(Float::with_val(prec, 1));
+    let zero = Float::with_val(prec, 0);
+    for i in 0..m.saturating_sub(1) {
+        let next = rec.forward(i, &qq[i], if i == 0 { &zero } else { &qq[i - 1] });
+        qq.push(next);
     }
-    for i in 1..m.saturating_sub(1) {
-        let next = rec.forward(i, &mm[i], &mm[i - 1]);
-        mm.push(next);
-    }
-    let sk = second_kind(&mut rec, &a, zp, m, meter, phi_hint, true);
+    let sk = second_kind(&mut rec, &a, &p.zp, m, meter, phi_hint, true);
     let rho = sk.rho.stored(&mut rec, m);
-    let mtau = Float::with_val(prec, -&p.tau);
     let scale = Float::with_val(prec, ws2 * &p.nu);
-    let mut out = Vec::with_capacity(coefs.len());
-    let mut eta = Float::new(prec);
-    let mut pw = Float::new(prec);
+    let mut out = Vec::with_capacity(scaled.len());
     let mut em = Float::new(prec);
+    let mut er = Float::new(prec);
     let mut inner = Float::new(prec);
-    for coef in coefs {
-        // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}],  S_j = sum_{i<=j} eta_i M_i,
-        // eta_j = coef_j (-tau)^j
+    for coef in scaled {
+        // T = sum_j eta_j rho_j [eta_j M_j + 2 S_{j-1}] with eta_j M_j = c_j Q_j,
+        // eta_j rho_j = c_j R_j (see channel_j_with)
         let mut s_prev = Float::with_val(prec, 0);
         let mut t = Float::with_val(prec, 0);
         let mut biggest = Float::with_val(prec, 0);
-        pw.assign(1);
         for (j, c) in coef.iter().enumerate() {
-            eta.assign(c * &pw);
-            pw *= &mtau;
-            em.assign(&eta * &mm[j]);
+            em.assign(c * &qq[j]);
+            er.assign(c * &rho[j]);
             inner.assign(&s_prev << 1u32);
             inner += &em;
-            inner *= &eta;
-            inner *= &rho[j];
+            inner *= &er;
             if inner.cmp_abs(&biggest) == Some(std::cmp::Ordering::Greater) {
                 biggest.assign(&inner);
             }
@@ -455,8 +438,9 @@ pub(crate) fn channel_j_sources(
     (out, sk.phi)
 }
 
-/// The functions of the second kind rho_j (j < m) at one node, the
-/// coefficient of -ln(mu) in rho_0 = m(a), and the Lerch value used.
+/// The functions of the second kind at one node in the scaled form
+/// R_j = (-tau)^j (beta)_j rho_j (j < m; see [`Rec`]; R_0 = rho_0 = m(a)),
+/// the coefficient of -ln(mu) in m(a), and the Lerch value used.
 struct SecondKind {
     rho: Rho,
     /// Coefficient of -ln mu in m(a) (0 when it was not asked for).
@@ -465,18 +449,18 @@ struct SecondKind {
     phi: Option<Float>,
 }
 
-/// rho_0..rho_{m-1} as [`second_kind`] leaves them.
+/// R_0..R_{m-1} as [`second_kind`] leaves them.
 enum Rho {
     /// All of them.
     Stored(Vec<Float>),
-    /// The forward route with m >= 2: rho_0 and rho_1 ([`forward_start`]);
+    /// The forward route with m >= 2: R_0 and R_1 ([`forward_start`]);
     /// the rest follow by the forward recurrence ([`forward_rho`]), which
-    /// [`channel_j_with`] runs together with that of M_j(-a).
+    /// [`channel_j_with`] runs together with that of Q_j.
     Forward(Float, Float),
 }
 
 impl Rho {
-    /// All of rho_0..rho_{m-1}.
+    /// All of R_0..R_{m-1}.
     fn stored(self, rec: &mut Rec, m: usize) -> Vec<Float> {
         match self {
             Rho::Stored(rho) => rho,
@@ -639,8 +623,9 @@ fn second_kind(
 }
 
 /// rho_0 and rho_1 = rho_0 - (1-z)(1 - a rho_0)/(z beta), the start of the
-/// forward recurrence from rho_0 = m(a) (m >= 2); the estimated loss of the
-/// forward pass is recorded in `meter`.
+/// forward recurrence from rho_0 = m(a) (m >= 2), returned in the scaled
+/// form R_0 = rho_0, R_1 = -tau beta rho_1 ([`Rec`]); the estimated loss
+/// of the forward pass is recorded in `meter`.
 fn forward_start(
     rec: &Rec,
     a: &Float,
@@ -659,10 +644,12 @@ fn forward_start(
     );
     meter.term(&rho0);
     meter.result(&r1);
+    let mut r1 = r1 * &rec.mtau;
+    r1 *= rec.beta;
     (rho0, r1)
 }
 
-/// rho_0..rho_{m-1} by the forward recurrence from rho_0 and rho_1
+/// R_0..R_{m-1} by the forward recurrence from R_0 and R_1
 /// ([`forward_start`]).
 fn forward_rho(rec: &mut Rec, rho0: Float, rho1: Float, m: usize) -> Vec<Float> {
     let mut rho = Vec::with_capacity(m);
@@ -675,12 +662,13 @@ fn forward_rho(rec: &mut Rec, rho0: Float, rho1: Float, m: usize) -> Vec<Float> 
     rho
 }
 
-/// The backward (Miller) recurrence from `top` (y_top = 1, y_(top+1) = 0):
-/// y_0..y_{m-1}, proportional to rho_0..rho_{m-1}. With `normalize` they
-/// are scaled to rho_j by the generating-function identity
+/// The backward (Miller) recurrence of [`Rec`] from `top` (y_top = 1,
+/// y_(top+1) = 0): y_0..y_{m-1}, proportional to the scaled second-kind
+/// functions R_0..R_{m-1} (R_j = (-tau)^j (beta)_j rho_j). With `normalize`
+/// they are scaled to R_j by the generating-function identity
 ///
 /// ```text
-/// sum_j (beta)_j / j! z^j rho_j = 1 / a
+/// sum_j (beta)_j / j! z^j rho_j = sum_j (-tau)^j / j! R_j = 1 / a
 /// ```
 ///
 /// (the generating function sum_j (beta)_j/j! M_j(k) t^j =
@@ -706,7 +694,6 @@ fn miller_rho(
     meter: &mut Meter,
 ) -> Vec<Float> {
     let prec = a.prec();
-    let beta = rec.beta;
     let mut y_hi = Float::with_val(prec, 0); // y_{i+1}
     let mut y = Float::with_val(prec, 1); // y_i, starting at i = top
     let mut y_lo = Float::new(prec); // y_{i-1}
@@ -724,18 +711,16 @@ fn miller_rho(
         return store;
     }
     let track = a.is_sign_negative();
-    // log2 of the weight c_j = (beta)_j / j! z^j of the sum at j = top,
+    // log2 of the weight |c_j| = |tau|^j / j! of the sum at j = top,
     // stepped down with the pass (only for the meter)
-    let zf = rec.z.to_f64();
+    let lt = rec.mtau.to_f64().abs().log2();
     let mut log2_c = if track {
-        (0..top)
-            .map(|i| (zf * f64::from(beta + i as u32) / (i + 1) as f64).log2())
-            .sum::<f64>()
+        (0..top).map(|i| lt - ((i + 1) as f64).log2()).sum::<f64>()
     } else {
         0.0
     };
     let mut worst = f64::NEG_INFINITY;
-    // Horner: h = H_{i+1} before step i, H_i = y_i + z (beta + i)/(i + 1) H_{i+1}
+    // Horner: h = H_{i+1} before step i, H_i = y_i + (-tau)/(i + 1) H_{i+1}
     let mut h = Float::with_val(prec, 0);
     for i in (1..=top).rev() {
         if i < m {
@@ -745,20 +730,19 @@ fn miller_rho(
         if track {
             // c_i H_i: the tail of the sum from i on
             worst = worst.max(log2_c + f64::from(exp2_of(&h)));
-            log2_c -= (zf * f64::from(beta + i as u32 - 1) / i as f64).log2();
+            log2_c -= lt - (i as f64).log2();
         }
         std::mem::swap(&mut y_hi, &mut y);
         std::mem::swap(&mut y, &mut y_lo);
     }
-    // y = y_0, h = H_1: H_0 = y_0 + z beta H_1
-    h *= &rec.z;
-    h *= beta;
+    // y = y_0, h = H_1: H_0 = y_0 + (-tau) H_1
+    h *= &rec.mtau;
     h += &y;
     if track {
         worst = worst.max(f64::from(exp2_of(&y)));
         meter.loss((worst - f64::from(exp2_of(&h))).ceil() as i32);
     }
-    // rho_j = y_j / (a H_0)
+    // R_j = y_j / (a H_0)
     h *= a;
     h.recip_mut();
     store[0].assign(&y);
@@ -1330,10 +1314,10 @@ mod normalization_tests {
                     let Route::MillerNormalized(top) = route_at(cf.beta, &a, &p.zp, m) else {
                         continue;
                     };
-                    let mut rec = Rec::new(cf.beta, &a, &p.zp);
+                    let mut rec = Rec::new(cf.beta, &a, &p);
                     let mut meter = Meter::new();
                     let rho = miller_rho(&mut rec, &a, m, top, true, &mut meter);
-                    let mut rec = Rec::new(cf.beta, &a, &p.zp);
+                    let mut rec = Rec::new(cf.beta, &a, &p);
                     let y = miller_rho(&mut rec, &a, m, top, false, &mut Meter::new());
                     let st = meixner_stieltjes(cf.beta, &a, &p.zp, &mut Meter::new(), None, false)
                         .0
@@ -1475,7 +1459,7 @@ mod shortcut_tests {
                         cf.big_l,
                         cf.beta,
                         &cf.ws2,
-                        std::slice::from_ref(&cf.coef),
+                        std::slice::from_ref(&cf.scaled),
                         &p,
                         &mut meter_s,
                         None,

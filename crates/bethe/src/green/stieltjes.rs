@@ -81,19 +81,42 @@ pub(crate) fn meixner_stieltjes(
     // poly = sum_{i=0}^{beta-2} q_i y^(beta-1-i), y = 1-z, with
     // q_{beta-2} = 1/(beta-1) and q_{i-1} = q_i (i+1-a)/i, summed from the
     // top coefficient down through the terms u_i = q_i y^(beta-1-i) (no
-    // table of coefficients)
+    // table of coefficients), as far down as the plan finds them above
+    // the rounding level
+    let plan = poly_plan(
+        beta,
+        a.to_f64(),
+        &PointF64 {
+            y: pt.one_minus_z.to_f64(),
+            z: pt.z.to_f64(),
+            mu: pt.mu.to_f64(),
+        },
+        prec,
+    );
     let y = &pt.one_minus_z;
+    let ay = Float::with_val(prec, a * y);
     let mut u = Float::with_val(prec, y / (beta - 1));
     let mut poly = u.clone();
     meter.term(&u);
-    let mut f = Float::new(prec);
-    for i in (1..beta - 1).rev() {
-        f.assign((i + 1) - a);
-        u *= &f;
-        u /= i;
-        u *= y;
+    let mut g = Float::new(prec);
+    for i in (plan.stop + 1..beta as usize - 1).rev() {
+        // u_{i-1} = u_i ((i+1) y - a y) / i
+        g.assign(y * (i as u64 + 1));
+        g -= &ay;
+        u *= &g;
+        u /= i as u64;
         meter.term(&u);
         poly += &u;
+    }
+    if !plan.with_tail {
+        // the Lerch part and the lower terms lie below the rounding level
+        // of the largest term (see `poly_plan`)
+        meter.result(&poly);
+        let m = WithLog {
+            value: poly,
+            log_coef: Float::with_val(prec, 0),
+        };
+        return (m, None);
     }
     // r y^beta = (1-a) u_0 y
     let mut ry = Float::with_val(prec, 1u32 - a);
@@ -121,6 +144,94 @@ pub(crate) fn meixner_stieltjes(
         },
         Some(phi.value),
     )
+}
+
+/// z, 1 - z and mu = -ln z of a [`ZPoint`] in f64 (for planning only).
+struct PointF64 {
+    y: f64,
+    z: f64,
+    mu: f64,
+}
+
+/// How much of the polynomial part of m(a) [`meixner_stieltjes`] sums.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct PolyPlan {
+    /// The lowest index i of the terms u_i summed (the terms run from
+    /// beta - 2 down to it).
+    stop: usize,
+    /// Whether the Lerch part C(beta-1-a, beta-1) y^beta Phi(z, 1, a) (and
+    /// with it the logarithmic coefficient) is formed; `stop` is 0 then.
+    with_tail: bool,
+}
+
+/// Bits below the largest term of m(a) (on top of the working precision)
+/// under which [`poly_plan`] drops the lower terms and the Lerch part.
+const POLY_DROP_GUARD: f64 = 32.0;
+
+/// Which terms of the polynomial part of m(a) lie above the rounding
+/// level, at a = `af`, the point `pt` and `prec` bits: the magnitudes
+/// log2 |u_i| of the terms u_i = q_i y^(beta-1-i) follow in f64 from
+/// u_{beta-2} = y/(beta-1) and |u_{i-1}/u_i| = |i+1-a| y / i (with
+/// |i+1-a| bounded below by its f64 rounding, so that a term is never
+/// taken smaller than it is). With M the largest of them, the terms below
+/// index `stop` are dropped when each lies below 2^(M - prec - 32) / beta,
+/// and the Lerch part when (1-a) u_0 y times a bound on |Phi(z, 1, a)|
+/// and on its logarithmic part (the larger of the two uses, the value and
+/// the coefficient of -ln mu times |ln mu| + 64, covers the weights of the
+/// logarithmic product rule) lies below 2^(M - prec - 32). For a sum whose
+/// result is near its largest term this leaves the value within 2^-32 of
+/// its rounding level; a cancelling sum is measured as before by the
+/// meter, against the same largest term.
+///
+/// The bound on Phi: with d the distance of a from the nearest
+/// non-positive integer, the at most two terms with |k + a| < 1 give 2/d,
+/// the terms with k + a >= 1 at most -ln(1-z)/z, those with k + a <= -1
+/// at most 1 + ln(1 + |a|).
+fn poly_plan(beta: u32, af: f64, pt: &PointF64, prec: u32) -> PolyPlan {
+    let b = beta as usize;
+    let all = PolyPlan {
+        stop: 0,
+        with_tail: true,
+    };
+    if !(pt.y > 0.0 && pt.y.is_finite() && af.is_finite() && pt.mu > 0.0) {
+        return all;
+    }
+    let ly = pt.y.log2();
+    // lu[i] = log2 |u_i|
+    let mut lu = vec![0.0f64; b - 1];
+    let mut cur = ly - f64::from(beta - 1).log2();
+    lu[b - 2] = cur;
+    for i in (1..b - 1).rev() {
+        let i1 = (i + 1) as f64;
+        let g = (i1 - af).abs().max(4.0 * f64::EPSILON * (i1 + af.abs()));
+        cur += (g / i as f64).log2() + ly;
+        lu[i - 1] = cur;
+    }
+    let top = lu.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let cut = top - f64::from(prec) - POLY_DROP_GUARD;
+    let d = if af > 0.0 {
+        af
+    } else {
+        (af - af.round()).abs()
+    };
+    if d <= 0.0 {
+        return all;
+    }
+    let phi_bound = 2.0 / d + (1.0 / pt.y).ln() / pt.z + 1.0 + (1.0 + af.abs()).ln();
+    let log_part = (af * pt.mu).exp() * (pt.mu.ln().abs() + 64.0);
+    let tail = (1.0 - af).abs().log2() + lu[0] + ly + (phi_bound + log_part).log2();
+    // (a NaN anywhere keeps everything)
+    if tail.is_nan() || tail >= cut {
+        return all;
+    }
+    let each = cut - (b as f64).log2();
+    match lu.iter().position(|&v| v.is_nan() || v > each) {
+        Some(stop) => PolyPlan {
+            stop,
+            with_tail: false,
+        },
+        None => all,
+    }
 }
 
 /// Estimated cost of [`meixner_stieltjes`] without a hint at `prec` bits,
@@ -1215,6 +1326,58 @@ mod tests {
                 assert!(rel < 1e-50, "z={zs} a={aval} rel={rel:e}");
             }
         }
+    }
+
+    /// Where the plan drops the lower terms of the polynomial part and the
+    /// Lerch part of m(a) (large beta, z up to near 1, a of either sign),
+    /// the value stays within its rounding level of the same function at
+    /// 256 more bits, and the logarithmic coefficient the higher
+    /// evaluation keeps is as negligible; the drop must happen at many of
+    /// the points, so that the comparison cannot pass empty.
+    #[test]
+    fn dropped_terms_stay_below_the_rounding_level() {
+        let mut dropped = 0;
+        for prec in [192u32, 320] {
+            for beta in [40u32, 82, 164, 302] {
+                for zs in ["0.3", "0.6", "0.9", "0.99", "0.9999"] {
+                    for shift in [0.0f64, -0.3, -7.7, -30.2, -0.6 * f64::from(beta) - 0.37] {
+                        let pt = point(zs, prec);
+                        let af = f64::from(beta) / 2.0 + shift;
+                        let a = Float::with_val(prec, af);
+                        let mut m = Meter::new();
+                        let (v, _) = meixner_stieltjes(beta, &a, &pt, &mut m, None, true);
+                        let hp = prec + 256;
+                        let hpt = same_point(&pt, hp);
+                        let ha = Float::with_val(hp, &a);
+                        let (r, _) =
+                            meixner_stieltjes(beta, &ha, &hpt, &mut Meter::new(), None, true);
+                        let what = format!("beta={beta} z={zs} a={af} prec={prec}");
+                        assert_within_loss(&v.value, &r.value, m.loss_bits, prec, 8, &what);
+                        let plan = poly_plan(
+                            beta,
+                            af,
+                            &PointF64 {
+                                y: pt.one_minus_z.to_f64(),
+                                z: pt.z.to_f64(),
+                                mu: pt.mu.to_f64(),
+                            },
+                            prec,
+                        );
+                        if !plan.with_tail {
+                            dropped += 1;
+                            assert!(v.log_coef.is_zero());
+                            let weight = pt.mu.to_f64().ln().abs() + 64.0;
+                            let rel = (r.log_coef.to_f64() * weight / r.value.to_f64()).abs();
+                            assert!(
+                                rel <= 2f64.powi(m.loss_bits - prec as i32 + 8),
+                                "{what}: log part {rel:e}"
+                            );
+                        }
+                    }
+                }
+            }
+        }
+        assert!(dropped >= 40, "dropped at {dropped} points only");
     }
 
     #[test]

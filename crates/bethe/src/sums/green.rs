@@ -29,8 +29,9 @@
 //! the absolute scale of its L(k)) before a panel is accepted.
 
 use super::chain::StateChains;
+use crate::green::exact_part::SmallLogs;
 use crate::green::integrand::phi_from_upper;
-use crate::green::meixner::{channel_j_sources, JValue, NuPoint};
+use crate::green::meixner::{channel_j_sources, scaled_coefs, JValue, NuPoint};
 use crate::green::meter::Meter;
 use crate::green::panels::{panel_layout, Panel};
 use crate::green::pilot::{profile, Measured, PilotPoint, NO_LOG_PART};
@@ -38,7 +39,7 @@ use crate::green::quad;
 use crate::green::refine::{integrate_panels, ByPrecision};
 use crate::green::scale::{exp2_of, quantize};
 use crate::BetheError;
-use kzero_basis::gordon::radial_dipole;
+use kzero_basis::gordon::radial_dipole_square;
 use kzero_basis::sturmian::matched_expansion;
 use kzero_basis::BoundState;
 use rayon::prelude::*;
@@ -69,12 +70,11 @@ struct Comp {
     m1: Rational,
 }
 
-/// A lower state of one channel: n', d (exact) and its amplitude A (see
+/// A lower state of one channel: n' and its amplitude A (see
 /// [`amplitude`]) for every component.
 #[derive(Debug, Clone)]
 struct Lower {
     nprime: u32,
-    d: Rational,
     amps: Vec<Rational>,
 }
 
@@ -149,15 +149,11 @@ impl Exact {
             ));
             for np in (big_l + 1)..n {
                 let low = BoundState::hydrogen(i64::from(np), i64::from(big_l))?;
-                let r = radial_dipole(&low, &st)?;
+                let r2 = radial_dipole_square(&low, &st)?;
                 let d = low.energy() - st.energy();
-                let c = Rational::from(&d * &d) * r.square() * &ch.weight;
+                let c = Rational::from(&d * &d) * r2 * &ch.weight;
                 let amps = comps.iter().map(|comp| amplitude(&c, &d, comp)).collect();
-                lower.push(Lower {
-                    nprime: np,
-                    d,
-                    amps,
-                });
+                lower.push(Lower { nprime: np, amps });
             }
         }
         Ok(Exact {
@@ -175,8 +171,11 @@ impl Exact {
     /// Per component: the exact part (lower states, image terms, the
     /// ln w0 term) plus ln 2 times the power sum (units Z^2 Ry in the log).
     fn exact_parts(&self, prec: u32) -> Vec<Float> {
+        // the logarithms of the first working precision, shared by the
+        // components
+        let logs = SmallLogs::new(self.n.max(2), prec + 32);
         (0..self.comps.len())
-            .map(|ci| self.exact_part(ci, prec))
+            .map(|ci| self.exact_part(ci, prec, &logs))
             .collect()
     }
 
@@ -186,21 +185,24 @@ impl Exact {
     /// share one sign, so their sum loses nothing; the moment that multiplies
     /// ln w0, M minus that sum, may cancel, and the loss is measured and the
     /// sum formed again with those bits on top, until 32 bits are left over.
-    fn exact_part(&self, ci: usize, prec: u32) -> Float {
+    /// The logarithms are those of small integers (as in
+    /// `ExactState::exact_part`, with the same accuracy), from `logs` (at
+    /// prec + 32 bits) or from a table of the higher working precision.
+    fn exact_part(&self, ci: usize, prec: u32, logs: &SmallLogs) -> Float {
         let comp = &self.comps[ci];
         let total = if comp.e == 1 { &comp.m1 } else { &comp.m0 };
-        let nn = u64::from(self.n) * u64::from(self.n);
         let mut wp = prec + 32;
+        let mut own: Option<SmallLogs> = None;
         loop {
+            let logs = own.as_ref().unwrap_or(logs);
+            // ln(2 n^2)
+            let ln_2nn = Float::with_val(wp, logs.ln(self.n) * 2u32) + logs.ln(2);
             let mut s = Float::with_val(wp, 0);
             let mut lower_sum = Float::with_val(wp, 0);
             for low in &self.lower {
                 let amp = Float::with_val(wp, &low.amps[ci]);
                 lower_sum += &amp;
-                let ln_abs_d = Float::with_val(wp, -low.d.clone()).ln();
-                let ln_ratio =
-                    Float::with_val(wp, Rational::from((self.n + low.nprime, low.nprime))).ln();
-                s += amp * (ln_abs_d - ln_ratio);
+                s += amp * logs.lower_state(self.n, low.nprime, &ln_2nn);
             }
             let total_f = Float::with_val(wp, total);
             // the moment of the upper states alone
@@ -214,13 +216,14 @@ impl Exact {
                 (top - exp2_of(&up)).max(0)
             };
             if lost + 32 <= (wp - prec) as i32 {
-                let ln_w0 = Float::with_val(wp, Rational::from((1u64, 2 * nn))).ln();
                 let ln2 = Float::with_val(wp, rug::float::Constant::Log2);
-                s += up * ln_w0;
+                // ln w0 = -ln(2 n^2)
+                s -= up * &ln_2nn;
                 s += total_f * ln2;
                 return Float::with_val(prec, s);
             }
             wp = prec + lost as u32 + 64;
+            own = Some(SmallLogs::new(self.n.max(2), wp));
         }
     }
 
@@ -235,10 +238,7 @@ impl Exact {
                     big_l: *big_l,
                     beta: *beta,
                     ws2: Float::with_val(prec, ws2),
-                    coefs: coefs
-                        .iter()
-                        .map(|v| v.iter().map(|q| Float::with_val(prec, q)).collect())
-                        .collect(),
+                    scaled: coefs.iter().map(|v| scaled_coefs(v, *beta, prec)).collect(),
                 })
                 .collect(),
             lower: self
@@ -271,7 +271,9 @@ struct ChanFloat {
     big_l: u32,
     beta: u32,
     ws2: Float,
-    coefs: Vec<Vec<Float>>,
+    /// Per source, coef_i / (beta)_i at the working precision
+    /// (`scaled_coefs`).
+    scaled: Vec<Vec<Float>>,
 }
 
 struct CompFloat {
@@ -313,7 +315,7 @@ impl Integrand {
             prec,
             Float::with_val(prec, n - Float::with_val(prec, nu)) * Float::with_val(prec, nu + n),
         ) / (Float::with_val(prec, &nu2 * 2u32) * nn);
-        let sources = self.chans.iter().map(|c| c.coefs.len()).max().unwrap_or(0);
+        let sources = self.chans.iter().map(|c| c.scaled.len()).max().unwrap_or(0);
         let mut jsum = vec![Float::with_val(prec, 0); sources];
         let mut jlog = vec![Float::with_val(prec, 0); sources];
         let mut jmeter = Meter::new();
@@ -331,7 +333,7 @@ impl Integrand {
                 ch.big_l,
                 ch.beta,
                 &ch.ws2,
-                &ch.coefs,
+                &ch.scaled,
                 &pt,
                 &mut m,
                 hint.as_ref(),
