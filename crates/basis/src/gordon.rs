@@ -189,6 +189,16 @@ fn gordon_rad(n: u32, l: u32, n2: u32) -> Integer {
         * factorial(n2 + l - 1).div_exact(&factorial(n2 - l))
 }
 
+/// The exponent of the prime p in m! (Legendre's formula).
+fn factorial_val(mut m: u32, p: u32) -> u32 {
+    let mut v = 0;
+    while m >= p {
+        m /= p;
+        v += m;
+    }
+    v
+}
+
 /// The exponent of the prime p in m >= 1.
 fn small_primes_val(mut m: u32, p: u32) -> u32 {
     let mut v = 0;
@@ -320,31 +330,49 @@ pub fn gordon_hydrogen_square(n: u32, l: u32, n2: u32) -> Result<Rational, Basis
     let g1 = Integer::from(num.gcd_ref(&q));
     num.div_exact_mut(&g1);
     q.div_exact_mut(&g1);
-    let mut den = q;
+    // den = q (no prime of s left in it) times p^(e - m) for the primes p
+    // of s
+    let mut s_left = Vec::new();
     for p in small_primes_of(s) {
         let pz = Integer::from(p);
         let vn = num.remove_factor_mut(&pz);
-        let vq = den.remove_factor_mut(&pz);
+        let vq = q.remove_factor_mut(&pz);
         let vs = (s + 2) * small_primes_val(s, p);
         let e = vq + vs;
         let m = vn.min(e);
         if vn > m {
             num *= Integer::from(Integer::u_pow_u(p, vn - m));
         }
-        if e > m {
-            den *= Integer::from(Integer::u_pow_u(p, e - m));
+        s_left.push((p, e - m));
+    }
+    // rad against den^2: by a gcd with q^2 (what is left of Q, usually a
+    // few words) and by exponents for the primes of s (Legendre's formula
+    // for the factorials of rad)
+    let q2 = q.square();
+    let rad = gordon_rad(n, l, n2);
+    let g2 = Integer::from(rad.gcd_ref(&q2));
+    let mut rad = rad.div_exact(&g2);
+    let mut denom = q2.div_exact(&g2);
+    for (p, e) in s_left {
+        let r = factorial_val(n + l, p) - factorial_val(n - l - 1, p)
+            + factorial_val(n2 + l - 1, p)
+            - factorial_val(n2 - l, p);
+        let g = r.min(2 * e);
+        if g > 0 {
+            rad.div_exact_mut(&Integer::from(Integer::u_pow_u(p, g)));
+        }
+        if 2 * e > g {
+            denom *= Integer::from(Integer::u_pow_u(p, 2 * e - g));
         }
     }
-    let den2 = den.square();
-    let rad = gordon_rad(n, l, n2);
-    let g2 = Integer::from(rad.gcd_ref(&den2));
-    let numer = num.square() * rad.div_exact(&g2);
-    let denom = den2.div_exact(&g2);
+    let numer = num.square() * rad;
     // SAFETY (the canonical form of a Rational, no memory concern): denom
     // > 0 and gcd(numer, denom) = 1. num / g1 and Q / g1 are coprime; the
     // primes of s were balanced so that each is left in at most one of
-    // num and den, and the other primes of den are those of Q / g1: so
-    // num is coprime to den, num^2 to den^2, and rad / g2 to den^2 / g2.
+    // num and den, and the other primes of den are those of q: so num is
+    // coprime to den and num^2 to denom (a divisor of den^2). rad / g2 and
+    // q^2 / g2 are coprime, q^2 has no prime of s, and each prime of s is
+    // left in at most one of rad and denom.
     // Equality with the reduction by one gcd is checked in the tests.
     Ok(unsafe { Rational::from_canonical(numer, denom) })
 }
