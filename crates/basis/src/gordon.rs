@@ -30,21 +30,23 @@
 //! common denominator and the result is returned as an exact [`Surd`]
 //! ([`gordon_hydrogen`]) or, squared, as an exact rational without the
 //! square root ([`gordon_hydrogen_square`]). Cost grows like min(n, n')
-//! products of big integers of O(n log n) bits by machine words, plus one
-//! reduction of the fraction.
+//! products of big integers of O(n log n) bits by machine words, plus the
+//! reduction of the fraction (for the square: in pieces, by the known
+//! factors of its denominator, without a gcd of the two full-size numbers).
 
 use crate::error::BasisError;
 use crate::exact::{factorial, simplify_surd, Surd};
 use crate::state::BoundState;
 use rug::ops::Pow;
-use rug::{Integer, Rational};
+use rug::{Assign, Integer, Rational};
 
 /// Gordon's formula as integers: <n l| r |n2 l-1> = num / den * sqrt(rad)
-/// for n != n2 (num carries the sign; num / den is not reduced).
+/// for n != n2, with num (signed) from [`gordon_parts`], den from
+/// [`gordon_den`] (num / den is not reduced) and rad from [`gordon_rad`].
 struct GordonParts {
     num: Integer,
-    den: Integer,
-    rad: Integer,
+    /// K = min(n - l + 1, n2 - l), the length of the sum.
+    kmax: u32,
 }
 
 /// The integers of Gordon's formula for n != n2 (preconditions of
@@ -96,33 +98,59 @@ fn gordon_parts(n: u32, l: u32, n2: u32) -> GordonParts {
         let top = (i128::from(a) + 2 - i128::from(k)) * (i128::from(a) + 1 - i128::from(k));
         Integer::from(top) * &s2 - Integer::from(ab) * &d2
     };
-    // num_0 = v_0, p_0 = 1
-    let mut num = v_word(0).map_or_else(|| v_big(0), Integer::from);
-    let mut p = Integer::from(1);
-    for k in 1..=kmax {
-        // p_k = p_{k-1} (k-1-a-2)(k-1-b) x
+    // one step k of the recurrence on a pair (num, p):
+    // p <- p f_k, f_k = (k-1-a-2)(k-1-b) x;
+    // num <- num g_k + p v_k, g_k = d^2 (c+k-1) k
+    let mul_f = |z: &mut Integer, k: u32| {
         let j = i128::from(k) - 1;
         let pab = (j - i128::from(a) - 2) * (j - i128::from(b));
         match x_w.and_then(|xs| i64::try_from(pab * xs).ok()) {
-            Some(f) => p *= f,
+            Some(f) => *z *= f,
             None => {
-                p *= Integer::from(pab);
-                p *= &x;
+                *z *= Integer::from(pab);
+                *z *= &x;
             }
         }
-        // num_k = num_{k-1} d^2 (c+k-1) k + p_k v_k
+    };
+    let mul_g = |z: &mut Integer, k: u32| {
         let step = (i128::from(c) + i128::from(k) - 1) * i128::from(k);
         match d2_w.and_then(|ds| i64::try_from(ds * step).ok()) {
-            Some(g) => num *= g,
+            Some(g) => *z *= g,
             None => {
-                num *= &d2;
-                num *= Integer::from(step);
+                *z *= &d2;
+                *z *= Integer::from(step);
             }
         }
-        match v_word(k) {
-            Some(w) => num += &p * w,
-            None => num += Integer::from(&p * &v_big(k)),
+    };
+    let add_pv = |z: &mut Integer, p: &Integer, k: u32| match v_word(k) {
+        Some(w) => *z += p * w,
+        None => *z += Integer::from(p * &v_big(k)),
+    };
+    // The recurrence is linear in (num, p): a block of steps k0+1..k1
+    // maps (num, p) to (num G + p C, p F), with G and F the products of
+    // its g_k and f_k and C the num of the block started from (0, 1). These
+    // are a few machine words long, so each big number is multiplied once
+    // per block by a short factor instead of once per step by one word.
+    // num_0 = v_0, p_0 = 1
+    let mut num = v_word(0).map_or_else(|| v_big(0), Integer::from);
+    let mut p = Integer::from(1);
+    let (mut blk_c, mut blk_f, mut blk_g) = (Integer::new(), Integer::new(), Integer::new());
+    let mut k0 = 0;
+    while k0 < kmax {
+        let k1 = (k0 + BLOCK).min(kmax);
+        blk_c.assign(0);
+        blk_f.assign(1);
+        blk_g.assign(1);
+        for k in k0 + 1..=k1 {
+            mul_f(&mut blk_f, k);
+            mul_g(&mut blk_c, k);
+            add_pv(&mut blk_c, &blk_f, k);
+            mul_g(&mut blk_g, k);
         }
+        num *= &blk_g;
+        num += &p * &blk_c;
+        p *= &blk_f;
+        k0 = k1;
     }
     let e = i64::from(n) + i64::from(n2) - 2 * i64::from(l) - 2;
     let t = e - 2 * i64::from(kmax);
@@ -131,22 +159,77 @@ fn gordon_parts(n: u32, l: u32, n2: u32) -> GordonParts {
     } else {
         num = num.div_exact(&d.clone().pow((-t) as u32));
     }
-    // q_K (a+1)(a+2) s^2 and the prefactor (4 n n2)^(l+1) / (4 (2l-1)!
-    // (n+n2)^(n+n2))
-    let q = factorial(c + kmax - 1).div_exact(&factorial(c - 1)) * factorial(kmax);
+    // the prefactor (4 n n2)^(l+1) (its denominator is in gordon_den)
     let mut num = num * (nn2 * 4u32).pow(l + 1);
-    let den = q * Integer::from(ab) * s2 * factorial(2 * l - 1) * 4u32 * s.pow(n + n2);
     // Phase (-1)^(n2 - l): with it the result agrees in sign with direct
     // integration of radial functions that are positive near the origin
     // (checked for all pairs up to n = 12 in the tests).
     if (n2 - l) % 2 == 1 {
         num = -num;
     }
-    // radicand (n+l)! (n2+l-1)! / ((n-l-1)! (n2-l)!): an integer
-    let rad = factorial(n + l).div_exact(&factorial(n - l - 1))
-        * factorial(n2 + l - 1).div_exact(&factorial(n2 - l));
-    GordonParts { num, den, rad }
+    GordonParts { num, kmax }
 }
+
+/// The denominator of [`gordon_parts`]: q_K (a+1)(a+2) s^2 times the
+/// prefactor's 4 (2l-1)! s^(n+n2), with q_K (2l-1)! = (2l+K-1)! K!:
+/// (2l+K-1)! K! (a+1)(a+2) 4 s^(n+n2+2) (a = n - l - 1, s = n + n2).
+fn gordon_den(n: u32, l: u32, n2: u32, kmax: u32) -> Integer {
+    let a = n - l - 1;
+    factorial(2 * l + kmax - 1)
+        * factorial(kmax)
+        * (u64::from(a + 1) * u64::from(a + 2))
+        * 4u32
+        * Integer::from(n + n2).pow(n + n2 + 2)
+}
+
+/// The radicand (n+l)! (n2+l-1)! / ((n-l-1)! (n2-l)!) of Gordon's formula
+/// (an integer).
+fn gordon_rad(n: u32, l: u32, n2: u32) -> Integer {
+    factorial(n + l).div_exact(&factorial(n - l - 1))
+        * factorial(n2 + l - 1).div_exact(&factorial(n2 - l))
+}
+
+/// The exponent of the prime p in m! (Legendre's formula).
+fn factorial_val(mut m: u32, p: u32) -> u32 {
+    let mut v = 0;
+    while m >= p {
+        m /= p;
+        v += m;
+    }
+    v
+}
+
+/// The exponent of the prime p in m >= 1.
+fn small_primes_val(mut m: u32, p: u32) -> u32 {
+    let mut v = 0;
+    while m % p == 0 {
+        m /= p;
+        v += 1;
+    }
+    v
+}
+
+/// The prime factors of m >= 1 (trial division).
+fn small_primes_of(mut m: u32) -> Vec<u32> {
+    let mut out = Vec::new();
+    let mut p = 2;
+    while p * p <= m {
+        if m % p == 0 {
+            out.push(p);
+            while m % p == 0 {
+                m /= p;
+            }
+        }
+        p += 1;
+    }
+    if m > 1 {
+        out.push(m);
+    }
+    out
+}
+
+/// Steps of the Horner recurrence of [`gordon_parts`] taken together.
+const BLOCK: u32 = 16;
 
 /// Largest principal quantum number accepted by [`gordon_hydrogen`] (keeps
 /// every intermediate count inside `u32`; exact evaluation is in any case
@@ -178,9 +261,10 @@ pub fn gordon_hydrogen(n: u32, l: u32, n2: u32) -> Result<Surd, BasisError> {
         ));
     }
     let parts = gordon_parts(n, l, n2);
+    let den = gordon_den(n, l, n2, parts.kmax);
     Ok(simplify_surd(
-        Rational::from((parts.num, parts.den)),
-        Rational::from(parts.rad),
+        Rational::from((parts.num, den)),
+        Rational::from(gordon_rad(n, l, n2)),
     ))
 }
 
@@ -209,8 +293,9 @@ fn check_gordon(n: u32, l: u32, n2: u32) -> Result<(), BasisError> {
 
 /// The square <n l| r |n2 l-1>^2 (bohr^2) of [`gordon_hydrogen`], exact,
 /// formed without the square root: the same rational as
-/// `gordon_hydrogen(n, l, n2)?.square()`, with one reduction of the
-/// coefficient (no square factors are extracted from the radicand).
+/// `gordon_hydrogen(n, l, n2)?.square()` (no square factors are extracted
+/// from the radicand; the fraction is reduced by the known factors of its
+/// denominator instead of one gcd of the full-size numbers).
 ///
 /// # Errors
 /// As [`gordon_hydrogen`].
@@ -226,10 +311,70 @@ pub fn gordon_hydrogen_square(n: u32, l: u32, n2: u32) -> Result<Rational, Basis
         return Ok(Rational::from((Integer::from(nn) * rad * 9u32, 4u32)));
     }
     let parts = gordon_parts(n, l, n2);
-    let coef = Rational::from((parts.num, parts.den));
-    // the square of a reduced fraction is reduced: no gcd here, one with
-    // the radicand below
-    Ok(Rational::from(&coef * &coef) * parts.rad)
+    let mut num = parts.num;
+    if num == 0 {
+        return Ok(Rational::new());
+    }
+    // The fraction num^2 rad / den^2 is reduced in pieces, without a gcd
+    // of the two full-size numbers: den = Q s^(s+2) (gordon_den, s = n +
+    // n2, Q = (2l+K-1)! K! (a+1)(a+2) 4, about a third of den). First num
+    // and Q lose g1 = gcd(num, Q); then, for each prime p of s, the
+    // exponents of p in num and in den lose their minimum (remove_factor
+    // on num and on what is left of Q). This leaves num coprime to den.
+    // Last, rad and den^2 lose g2 = gcd(rad, den^2).
+    let (a, s, kmax) = (n - l - 1, n + n2, parts.kmax);
+    let mut q = factorial(2 * l + kmax - 1)
+        * factorial(kmax)
+        * (u64::from(a + 1) * u64::from(a + 2))
+        * 4u32;
+    let g1 = Integer::from(num.gcd_ref(&q));
+    num.div_exact_mut(&g1);
+    q.div_exact_mut(&g1);
+    // den = q (no prime of s left in it) times p^(e - m) for the primes p
+    // of s
+    let mut s_left = Vec::new();
+    for p in small_primes_of(s) {
+        let pz = Integer::from(p);
+        let vn = num.remove_factor_mut(&pz);
+        let vq = q.remove_factor_mut(&pz);
+        let vs = (s + 2) * small_primes_val(s, p);
+        let e = vq + vs;
+        let m = vn.min(e);
+        if vn > m {
+            num *= Integer::from(Integer::u_pow_u(p, vn - m));
+        }
+        s_left.push((p, e - m));
+    }
+    // rad against den^2: by a gcd with q^2 (what is left of Q, usually a
+    // few words) and by exponents for the primes of s (Legendre's formula
+    // for the factorials of rad)
+    let q2 = q.square();
+    let rad = gordon_rad(n, l, n2);
+    let g2 = Integer::from(rad.gcd_ref(&q2));
+    let mut rad = rad.div_exact(&g2);
+    let mut denom = q2.div_exact(&g2);
+    for (p, e) in s_left {
+        let r = factorial_val(n + l, p) - factorial_val(n - l - 1, p)
+            + factorial_val(n2 + l - 1, p)
+            - factorial_val(n2 - l, p);
+        let g = r.min(2 * e);
+        if g > 0 {
+            rad.div_exact_mut(&Integer::from(Integer::u_pow_u(p, g)));
+        }
+        if 2 * e > g {
+            denom *= Integer::from(Integer::u_pow_u(p, 2 * e - g));
+        }
+    }
+    let numer = num.square() * rad;
+    // SAFETY (the canonical form of a Rational, no memory concern): denom
+    // > 0 and gcd(numer, denom) = 1. num / g1 and Q / g1 are coprime; the
+    // primes of s were balanced so that each is left in at most one of
+    // num and den, and the other primes of den are those of q: so num is
+    // coprime to den and num^2 to denom (a divisor of den^2). rad / g2 and
+    // q^2 / g2 are coprime, q^2 has no prime of s, and each prime of s is
+    // left in at most one of rad and denom.
+    // Equality with the reduction by one gcd is checked in the tests.
+    Ok(unsafe { Rational::from_canonical(numer, denom) })
 }
 
 /// The radial dipole integral <a| r |b> = int_0^inf R_a R_b r^3 dr (bohr)

@@ -8,7 +8,7 @@ use kzero_basis::gordon::{
 };
 use kzero_basis::radial::radial_integral;
 use kzero_basis::{BasisError, BoundState};
-use rug::Rational;
+use rug::{Integer, Rational};
 
 fn st(n: i64, l: i64) -> BoundState {
     BoundState::hydrogen(n, l).unwrap()
@@ -241,4 +241,45 @@ fn bad_input_is_a_typed_error() {
         gordon_hydrogen_square(3, 2, 1),
         Err(BasisError::InvalidState { .. })
     ));
+}
+
+/// The square formed without the square root (reduced in pieces) is the
+/// canonical rational of the square of the exact surd (reduced by a gcd):
+/// coprime parts, positive denominator, equal value. All pairs up to
+/// n = 40 (n2 up to 45) and a sample up to n = 400.
+#[test]
+fn gordon_square_is_the_canonical_square() {
+    let check = |n: u32, l: u32, n2: u32| {
+        let sq = gordon_hydrogen_square(n, l, n2).unwrap();
+        assert_eq!(
+            Integer::from(sq.numer().gcd_ref(sq.denom())),
+            1,
+            "({n}, {l}, {n2})"
+        );
+        assert!(*sq.denom() > 0);
+        assert_eq!(
+            sq,
+            gordon_hydrogen(n, l, n2).unwrap().square(),
+            "({n}, {l}, {n2})"
+        );
+    };
+    for n in 2..=40 {
+        for l in 1..n {
+            for n2 in l..=45 {
+                check(n, l, n2);
+            }
+        }
+    }
+    for &(n, l, n2) in &[
+        (400, 1, 399),
+        (400, 200, 300),
+        (397, 3, 250),
+        (300, 150, 150),
+        (300, 150, 299),
+        (250, 1, 1),
+        (2, 1, 400),
+        (360, 7, 359),
+    ] {
+        check(n, l, n2);
+    }
 }

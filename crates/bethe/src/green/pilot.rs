@@ -9,11 +9,15 @@
 //! panels, both ends of each panel and equally spaced points in u between
 //! them, at most [`MAX_U_SPACING`] apart (6 points in all at n = 1, 10 at
 //! n = 20 and n = 60, 13 at n = 200, 16 at n = 1000). Each point is
-//! evaluated at two precisions, [`HIGHER_BY`] bits apart, and the
-//! difference is the loss; where the higher evaluation kept too few bits,
-//! it is repeated at twice its precision. A panel's guard is the worst loss
-//! of its own points (ends included) plus [`GUARD_MARGIN`]; the meter of
-//! every node of the quadrature raises it when it sees more.
+//! evaluated at two precisions, the higher one at least [`HIGHER_BY`] bits
+//! above the lower one and [`METER_HEADROOM`] bits above the loss the lower
+//! one's meter saw, and the difference is the loss; where the higher
+//! evaluation kept too few bits, it is repeated at twice its precision. A
+//! panel's guard is the worst loss of its own points (ends included) plus
+//! [`GUARD_MARGIN`]; the meter of every node of the quadrature raises it
+//! when it sees more. Each point also records the size of the logarithmic
+//! part of the first panel's integrand, which sets the first panel's start
+//! ([`super::rates::first_panel_nodes`]).
 
 use super::exact_part::ExactState;
 use super::integrand::Integrand;
@@ -33,10 +37,23 @@ pub(crate) const FIRST_PANEL_POINTS: u32 = 4;
 pub(crate) const MAX_U_SPACING: f64 = 1.5;
 
 /// Bits by which the higher evaluation of a pilot point exceeds the lower
-/// one: its rounding error is 2^-32 of the lower one's, so their difference
-/// is the lower one's error (rounding errors grow linearly through the
-/// computation, so this holds even when the lower one kept no correct bit).
+/// one at least: its rounding error is 2^-32 of the lower one's, so their
+/// difference is the lower one's error (rounding errors grow linearly
+/// through the computation, so this holds even when the lower one kept no
+/// correct bit).
 pub(crate) const HIGHER_BY: u32 = 32;
+
+/// Bits the higher evaluation of a pilot point keeps above the loss the
+/// lower one's meter saw (relative to the point's size), so that it is not
+/// saturated ([`SATURATION_BITS`]) where the lower one lost most of its
+/// bits: the meter records the cancellations it can see and has fallen
+/// short of the measured loss by up to 64 bits (rows n = 100 to 200 at 20
+/// digits, benches/README.md, "Tenth round"), plus the 16 bits the higher
+/// evaluation must keep. Without it, such a point was evaluated at
+/// p + 32 bits only to find it saturated and evaluate it again at twice
+/// that. The loss is still the measured difference; this only picks the
+/// precision of the reference.
+pub(crate) const METER_HEADROOM: u32 = 80;
 
 /// Safety margin (bits) on top of the worst pilot loss of a panel. The pair
 /// of rules of [`super::refine::converge_panel`] differs by 32 bits, so
@@ -60,6 +77,10 @@ pub(crate) struct PilotPoint {
     pub(crate) nu: f64,
     pub(crate) loss: i32,
     pub(crate) mag: i32,
+    /// Binary exponent of the logarithmic part's contribution (n^3/2) nu
+    /// |I_log ln nu| at a point of the first panel (the largest over the
+    /// components); far below any other size elsewhere.
+    pub(crate) log_mag: i32,
 }
 
 /// What one pair of evaluations at a pilot point measured: the loss and
@@ -70,17 +91,24 @@ pub(crate) struct PilotPoint {
 pub(crate) struct Measured {
     pub(crate) loss: i32,
     pub(crate) mag: i32,
+    pub(crate) log_mag: i32,
     pub(crate) saturated: bool,
 }
 
+/// The binary exponent [`PilotPoint::log_mag`] records where there is no
+/// logarithmic part.
+pub(crate) const NO_LOG_PART: i32 = -(1 << 20);
+
 /// Loss profile of the integrand: evaluates it at the points of
 /// [`pilot_points`] at two precisions (p = bits + 64 rounded up to 32, and
-/// p + [`HIGHER_BY`]) and compares. Rounding errors grow linearly through
-/// the computation, so the difference is the lower evaluation's error even
-/// when that one kept no correct bit; but where the higher evaluation kept
-/// fewer than [`SATURATION_BITS`] bits, it is repeated at twice its
-/// precision (at most [`MAX_REMEASURE`] times), so that the size of every
-/// point is measured too. Returns the points with nu increasing.
+/// the larger of p + [`HIGHER_BY`] and the lower evaluation's metered loss
+/// plus [`METER_HEADROOM`], rounded up to 32) and compares. Rounding errors
+/// grow linearly through the computation, so the difference is the lower
+/// evaluation's error even when that one kept no correct bit; but where the
+/// higher evaluation kept fewer than [`SATURATION_BITS`] bits, it is
+/// repeated at twice its precision (at most [`MAX_REMEASURE`] times), so
+/// that the size of every point is measured too. Returns the points with nu
+/// increasing.
 ///
 /// The loss is measured on the absolute scale of ln k0 (as in
 /// [`super::panels::panel_integral`]): the difference of the two
@@ -95,8 +123,13 @@ pub(crate) fn pilot_profile(state: &ExactState, panels: &[Panel], bits: u32) -> 
     let scale = ln_k0_scale(state.n);
     profile(panels, bits, |x, first| {
         let low = LowSample::at(&lo, x);
-        let mut at = measure_point(&low, &hi, x, first, scale);
-        let mut p_hi = p_lo + HIGHER_BY;
+        let headroom = quantize(low.meter_loss.max(0) as u32 + METER_HEADROOM);
+        let mut p_hi = (p_lo + HIGHER_BY).max(headroom);
+        let mut at = if p_hi == hi.prec() {
+            measure_point(&low, &hi, x, first, scale)
+        } else {
+            measure_point(&low, &state.integrand(p_hi), x, first, scale)
+        };
         for _ in 0..MAX_REMEASURE {
             if !at.saturated {
                 break;
@@ -141,6 +174,7 @@ fn measure_point(low: &LowSample, hi: &Integrand, x: f64, first: bool, scale: f6
         return Measured {
             loss: p_lo as i32 + 64,
             mag: 0,
+            log_mag: NO_LOG_PART,
             saturated: false,
         };
     }
@@ -148,6 +182,11 @@ fn measure_point(low: &LowSample, hi: &Integrand, x: f64, first: bool, scale: f6
     let weight = Float::with_val(p_hi, x) * scale;
     let mag = exp2_of(&Float::with_val(p_hi, &high_value * &weight));
     let log_part = Float::with_val(p_hi, &high_sample.log_coef * x.ln()) * &weight;
+    let log_mag = if first {
+        exp2_of(&log_part).max(NO_LOG_PART)
+    } else {
+        NO_LOG_PART
+    };
     let size = mag.max(exp2_of(&log_part));
     let metered = low.meter_loss + size;
     let difference = Float::with_val(p_hi, Float::with_val(p_hi, &low.value) - &high_value).abs();
@@ -155,6 +194,7 @@ fn measure_point(low: &LowSample, hi: &Integrand, x: f64, first: bool, scale: f6
         return Measured {
             loss: metered,
             mag,
+            log_mag,
             saturated: false,
         };
     }
@@ -163,6 +203,7 @@ fn measure_point(low: &LowSample, hi: &Integrand, x: f64, first: bool, scale: f6
     Measured {
         loss: seen.max(metered),
         mag,
+        log_mag,
         // the higher evaluation's own relative error is 2^(seen - size - p_hi)
         saturated: seen - size > p_hi as i32 - SATURATION_BITS,
     }
@@ -241,6 +282,7 @@ pub(crate) fn profile(
             nu,
             loss: m.loss,
             mag: m.mag,
+            log_mag: m.log_mag,
         })
         .collect()
 }
@@ -278,6 +320,9 @@ pub(crate) struct PanelPlan {
     pub(crate) guard: u32,
     /// Binary exponent of the panel's expected contribution to ln k0.
     pub(crate) magnitude_exp: i32,
+    /// Binary exponent of the expected contribution of the logarithmic
+    /// part I_log ln nu (first panel; [`NO_LOG_PART`] elsewhere).
+    pub(crate) log_magnitude_exp: i32,
 }
 
 /// The starting plan of `panel`.
@@ -287,10 +332,17 @@ pub(crate) fn panel_plan(profile: &[PilotPoint], panel: &Panel) -> PanelPlan {
     // the panel's contribution is about its largest node scale, times the
     // ratio of its width to the log-spacing of the points (at most 2 here)
     let magnitude_exp = pts.iter().map(|p| p.mag).max().unwrap_or(0) + 1;
+    let log_magnitude_exp = pts
+        .iter()
+        .map(|p| p.log_mag)
+        .max()
+        .unwrap_or(NO_LOG_PART)
+        .saturating_add(1);
     let guard = (worst.max(0) + GUARD_MARGIN) as u32;
     PanelPlan {
         guard,
         magnitude_exp,
+        log_magnitude_exp,
     }
 }
 

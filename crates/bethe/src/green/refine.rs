@@ -5,7 +5,7 @@
 use super::panels::Panel;
 use super::pilot::{panel_plan, PilotPoint, GUARD_MARGIN};
 use super::rates::{
-    even_nodes, finer_nodes, nodes_for, BITS_PER_NODE, FIRST_PANEL_RATE, MAX_NODES,
+    even_nodes, finer_nodes, first_panel_nodes, nodes_for, BITS_PER_NODE, MAX_NODES,
 };
 use super::scale::quantize;
 use rug::Float;
@@ -213,7 +213,7 @@ pub(crate) struct Panels {
 /// component (see [`converge_panel`]): a panel starts from the pilot's plan
 /// (its guard, and the nodes its size needs at the panel's expected rate,
 /// [`Panel::expected_rate`]; the first panel, with its logarithmic product
-/// rule, at [`FIRST_PANEL_RATE`]). `integrate(panel, prec, nodes)` gives the
+/// rule, from the sizes of its two parts, [`first_panel_nodes`]). `integrate(panel, prec, nodes)` gives the
 /// integrals of every component over `panel` and the loss.
 ///
 /// # Errors
@@ -235,14 +235,16 @@ pub(crate) fn integrate_panels(
     };
     for panel in panels {
         let plan = panel_plan(profile, panel);
-        let (first_guess, rate) = if panel.first {
-            // the product-rule panel converges more slowly (log factor)
-            (FIRST_PANEL_RATE, BITS_PER_NODE)
+        let (start, rate) = if panel.first {
+            // the product-rule panel: its own start, and the largest rate
+            // when more nodes are needed
+            let start = first_panel_nodes(plan.magnitude_exp, plan.log_magnitude_exp, tol, 4.0);
+            (start, BITS_PER_NODE)
         } else {
             let expected = panel.expected_rate();
-            (expected, expected.min(BITS_PER_NODE))
+            let start = nodes_for(plan.magnitude_exp, tol, expected, 4.0);
+            (start, expected.min(BITS_PER_NODE))
         };
-        let start = nodes_for(plan.magnitude_exp, tol, first_guess, 4.0);
         let mut on_panel = |prec: u32, nodes: usize| integrate(panel, prec, nodes);
         let plan = PairPlan {
             bits,

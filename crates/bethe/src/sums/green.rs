@@ -34,7 +34,7 @@ use crate::green::integrand::phi_from_upper;
 use crate::green::meixner::{channel_j_sources, scaled_coefs, JValue, NuPoint};
 use crate::green::meter::Meter;
 use crate::green::panels::{panel_layout, Panel};
-use crate::green::pilot::{profile, Measured, PilotPoint};
+use crate::green::pilot::{profile, Measured, PilotPoint, NO_LOG_PART};
 use crate::green::quad;
 use crate::green::refine::{integrate_panels, ByPrecision};
 use crate::green::scale::{exp2_of, quantize};
@@ -484,17 +484,19 @@ fn pilot(ex: &Exact, panels: &[Panel], bits: u32) -> Vec<PilotPoint> {
     let p_hi = p_lo + 128;
     let lo = ex.at(p_lo);
     let hi = ex.at(p_hi);
-    profile(panels, bits, |x, _first| {
+    profile(panels, bits, |x, first| {
         let a = lo.sample(&Float::with_val(p_lo, x));
         let b = hi.sample(&Float::with_val(p_hi, x));
         let mut loss = i32::MIN;
         let mut mag = i32::MIN;
+        let mut log_mag = NO_LOG_PART;
         for (c, comp) in lo.comps.iter().enumerate() {
             let (va, vb) = (&a.values[c], &b.values[c]);
             if !va.is_finite() || !vb.is_finite() {
                 return Measured {
                     loss: p_lo as i32 + 64,
                     mag: 0,
+                    log_mag: NO_LOG_PART,
                     saturated: false,
                 };
             }
@@ -510,10 +512,14 @@ fn pilot(ex: &Exact, panels: &[Panel], bits: u32) -> Vec<PilotPoint> {
             };
             loss = loss.max(seen.max(metered));
             mag = mag.max(m);
+            if first {
+                log_mag = log_mag.max(exp2_of(&log_part));
+            }
         }
         Measured {
             loss,
             mag,
+            log_mag,
             saturated: false,
         }
     })
