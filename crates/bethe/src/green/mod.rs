@@ -42,7 +42,7 @@
 //! cancellation measured by a pilot, on the absolute scale of ln k0, plus a
 //! margin. The pilot evaluates the integrand at two precisions 32 bits apart
 //! at a few points per panel: in the first panel from about its smallest
-//! node up to nu1, on the mapped panels at both ends and at most 1.5 apart in
+//! node up to nu1, on the mapped panels at both ends and at most 2 apart in
 //! u; where the higher evaluation kept too few bits, it is repeated at a
 //! higher precision. The meter of every node raises the guard when it
 //! sees more, and the 32-bit offset within a pair exposes rounding errors
