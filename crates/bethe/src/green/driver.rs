@@ -17,27 +17,27 @@ use std::time::Instant;
 ///
 /// # Accuracy
 /// A fit to measured single-thread CPU times of 42 states (n = 10..1000,
-/// l over the whole range, 20 to 100 digits; benches/README.md, "Ninth
-/// round"): within a factor of 1.8 of every one of them, rms 30 %; it
-/// underestimates states of middle and high l most (their small-nu
-/// panels run at a higher precision than the model's). The model: the
-/// working bits b = 3.32 (digits + 2) + 40 + 6 log2 n set the cost of each
-/// operation (b^2.2); per node, a fixed part (the Lerch function, the
-/// pilot, the panels' overhead) plus the Meixner recurrences and sums over
-/// n - l coefficients per channel and a part growing with l (m(a) and the
-/// backward runs of large L); the node count grows like 1 + 0.36 log2 n;
+/// l over the whole range, 20 to 100 digits; benches/README.md, "Whole
+/// tables after the twelfth and thirteenth rounds"): within a factor of 1.9
+/// of every one of them, rms 39 % (the states of a few milliseconds are
+/// timed only to about 1 ms). The model: the working bits
+/// b = 3.32 (digits + 2) + 40 + 6 log2 n set the cost of each operation
+/// (b^2.4); per node, a fixed part (the Lerch function, the pilot, the
+/// panels' overhead) plus the Meixner recurrences and sums over n - l
+/// coefficients per channel and a part growing with l (m(a) and the
+/// backward runs of large L); the node count grows like 1 + 0.12 log2 n;
 /// and the exact data of the lower states (Gordon's formula in big
-/// rationals) add about 0.9 ns times (n - l)^2 n per channel, which
-/// dominates single states near n = 1000.
+/// integers) add about 0.28 ns times (n - l)^2 n per channel, which
+/// dominates single states of low l near n = 1000.
 pub fn cost_estimate(n: u32, l: u32, digits: u32) -> f64 {
     let nf = f64::from(n.max(1));
     let channels = if l == 0 { 1.0 } else { 2.0 };
     let bits = (f64::from(digits) + 2.0) * 3.32 + 40.0 + 6.0 * nf.log2();
     let per_node =
-        200.0 + channels * f64::from(n.saturating_sub(l)).powf(1.15) + 0.5 * f64::from(l);
-    let integral = 7.79e-6 * (bits / 100.0).powf(2.2) * per_node * (1.0 + 0.36 * nf.log2());
+        200.0 + channels * f64::from(n.saturating_sub(l)).powf(1.15) + 0.25 * f64::from(l);
+    let integral = 8.17e-6 * (bits / 100.0).powf(2.4) * per_node * (1.0 + 0.12 * nf.log2());
     let lower = f64::from(n.saturating_sub(l + 1));
-    let exact = 0.895e-9 * channels * lower * lower * nf;
+    let exact = 0.280e-9 * channels * lower * lower * nf;
     integral + exact
 }
 
