@@ -377,6 +377,34 @@ pub fn gordon_hydrogen_square(n: u32, l: u32, n2: u32) -> Result<Rational, Basis
     Ok(unsafe { Rational::from_canonical(numer, denom) })
 }
 
+/// The arguments (n, l, n2) of Gordon's formula for <a| r |b>: the state
+/// of the higher l first (the integral is symmetric in a and b).
+///
+/// # Errors
+/// [`BasisError::NotDipoleAllowed`] unless |l_a - l_b| = 1;
+/// [`BasisError::InvalidArgument`] if the two charges differ.
+fn gordon_args(a: &BoundState, b: &BoundState) -> Result<(u32, u32, u32), BasisError> {
+    if a.z() != b.z() {
+        return Err(BasisError::InvalidArgument(format!(
+            "dipole integral between different nuclear charges ({} and {})",
+            a.z(),
+            b.z()
+        )));
+    }
+    if a.l() == b.l() + 1 {
+        Ok((a.n(), a.l(), b.n()))
+    } else if b.l() == a.l() + 1 {
+        Ok((b.n(), b.l(), a.n()))
+    } else {
+        Err(BasisError::NotDipoleAllowed {
+            n: a.n(),
+            l: a.l(),
+            n2: b.n(),
+            l2: b.l(),
+        })
+    }
+}
+
 /// The radial dipole integral <a| r |b> = int_0^inf R_a R_b r^3 dr (bohr)
 /// between two bound states of the same nuclear charge with |l_a - l_b| = 1,
 /// by Gordon's formula (the l_b = l_a + 1 case by symmetry of the integral).
@@ -388,25 +416,8 @@ pub fn gordon_hydrogen_square(n: u32, l: u32, n2: u32) -> Result<Rational, Basis
 /// # Accuracy
 /// Exact (an exact [`Surd`]; compare squares as rationals).
 pub fn radial_dipole(a: &BoundState, b: &BoundState) -> Result<Surd, BasisError> {
-    if a.z() != b.z() {
-        return Err(BasisError::InvalidArgument(format!(
-            "dipole integral between different nuclear charges ({} and {})",
-            a.z(),
-            b.z()
-        )));
-    }
-    let hyd = if a.l() == b.l() + 1 {
-        gordon_hydrogen(a.n(), a.l(), b.n())?
-    } else if b.l() == a.l() + 1 {
-        gordon_hydrogen(b.n(), b.l(), a.n())?
-    } else {
-        return Err(BasisError::NotDipoleAllowed {
-            n: a.n(),
-            l: a.l(),
-            n2: b.n(),
-            l2: b.l(),
-        });
-    };
+    let (n, l, n2) = gordon_args(a, b)?;
+    let hyd = gordon_hydrogen(n, l, n2)?;
     Ok(Surd {
         coef: hyd.coef / a.z(),
         radicand: hyd.radicand,
@@ -423,25 +434,8 @@ pub fn radial_dipole(a: &BoundState, b: &BoundState) -> Result<Surd, BasisError>
 /// # Accuracy
 /// Exact.
 pub fn radial_dipole_square(a: &BoundState, b: &BoundState) -> Result<Rational, BasisError> {
-    if a.z() != b.z() {
-        return Err(BasisError::InvalidArgument(format!(
-            "dipole integral between different nuclear charges ({} and {})",
-            a.z(),
-            b.z()
-        )));
-    }
-    let hyd = if a.l() == b.l() + 1 {
-        gordon_hydrogen_square(a.n(), a.l(), b.n())?
-    } else if b.l() == a.l() + 1 {
-        gordon_hydrogen_square(b.n(), b.l(), a.n())?
-    } else {
-        return Err(BasisError::NotDipoleAllowed {
-            n: a.n(),
-            l: a.l(),
-            n2: b.n(),
-            l2: b.l(),
-        });
-    };
+    let (n, l, n2) = gordon_args(a, b)?;
+    let hyd = gordon_hydrogen_square(n, l, n2)?;
     if *a.z() == 1 {
         Ok(hyd)
     } else {
